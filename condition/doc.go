@@ -1,0 +1,18 @@
+// Package condition describes how equipment degrades: ordered condition
+// scales, per-action transition models, their validation, and the
+// analytics of the Markov chains they define.
+//
+// Key types: State (a condition on the scale, possibly unsafe), Action (an
+// intervention with one sparse transition row per state where it is
+// admissible), Model (a scale, its actions and the period length).
+//
+// Conventions. States are indexed 0..n-1 in scale order, best first; a row
+// is indexed by its from-state and lists the probabilities of the states at
+// the start of the next period. An action is admissible in a state exactly
+// when it has a row for it; the passive action is never admissible in an
+// unsafe state. Rows must sum to 1 within RowTolerance.
+//
+// Errors. Validate reports every fault at once (errors.Join of *Fault
+// values with state, action and target indices) so that callers can point
+// at the place in their own input; messages are prefixed "condition:".
+package condition

@@ -1,0 +1,109 @@
+package costs
+
+import (
+	"fmt"
+	"math"
+)
+
+// DiscountFactor returns the discount factor of one period of periodYears
+// years at an annual rate: gamma = (1 + rate)^(-periodYears). The rate must
+// be finite and greater than -1, the period finite and positive.
+func DiscountFactor(rate, periodYears float64) (float64, error) {
+	if !finite(rate) || rate <= -1 {
+		return 0, fmt.Errorf("costs: discount rate %v is not a finite number > -1", rate)
+	}
+	if !finite(periodYears) || periodYears <= 0 {
+		return 0, fmt.Errorf("costs: period %v years is not a finite number > 0", periodYears)
+	}
+	return math.Pow(1+rate, -periodYears), nil
+}
+
+// RateFromFactor returns the annual rate whose discount factor over one
+// period of periodYears years is factor: rate = factor^(-1/periodYears) - 1.
+func RateFromFactor(factor, periodYears float64) (float64, error) {
+	if !finite(factor) || factor <= 0 {
+		return 0, fmt.Errorf("costs: discount factor %v is not a finite number > 0", factor)
+	}
+	if !finite(periodYears) || periodYears <= 0 {
+		return 0, fmt.Errorf("costs: period %v years is not a finite number > 0", periodYears)
+	}
+	return math.Pow(factor, -1/periodYears) - 1, nil
+}
+
+// RealRate converts a nominal annual rate to a real one by the Fisher
+// relation (1 + nominal) = (1 + real)(1 + inflation).
+func RealRate(nominal, inflation float64) float64 {
+	return (1+nominal)/(1+inflation) - 1
+}
+
+// EquivalentAnnualCost returns the level amount per year, paid at the start
+// of every year for ever, whose present worth at the annual rate is pw:
+// pw * rate / (1 + rate). The rate must be positive: at rate 0 a perpetual
+// stream has no finite present worth (use the long-run average instead).
+func EquivalentAnnualCost(pw, rate float64) float64 {
+	return pw * rate / (1 + rate)
+}
+
+// The interest factors below are the discrete-compounding factors of
+// engineering economy for an interest rate i per period over n periods,
+// with cash flows at the end of periods 1..n (the tables' convention).
+// Each is also defined at i = 0 by its limit.
+
+// CompoundAmount is (F/P, i, n) = (1+i)^n.
+func CompoundAmount(i float64, n int) float64 { return math.Pow(1+i, float64(n)) }
+
+// PresentWorth is (P/F, i, n) = (1+i)^-n.
+func PresentWorth(i float64, n int) float64 { return math.Pow(1+i, -float64(n)) }
+
+// SeriesPresentWorth is (P/A, i, n) = ((1+i)^n - 1) / (i (1+i)^n); n at i = 0.
+func SeriesPresentWorth(i float64, n int) float64 {
+	if i == 0 {
+		return float64(n)
+	}
+	// -expm1(-n log1p(i)) / i keeps precision for small rates.
+	return -math.Expm1(-float64(n)*math.Log1p(i)) / i
+}
+
+// CapitalRecovery is (A/P, i, n) = 1 / (P/A, i, n).
+func CapitalRecovery(i float64, n int) float64 { return 1 / SeriesPresentWorth(i, n) }
+
+// SeriesCompoundAmount is (F/A, i, n) = ((1+i)^n - 1) / i; n at i = 0.
+func SeriesCompoundAmount(i float64, n int) float64 {
+	if i == 0 {
+		return float64(n)
+	}
+	return math.Expm1(float64(n)*math.Log1p(i)) / i
+}
+
+// SinkingFund is (A/F, i, n) = 1 / (F/A, i, n).
+func SinkingFund(i float64, n int) float64 { return 1 / SeriesCompoundAmount(i, n) }
+
+// GradientPresentWorth is (P/G, i, n), the present worth of the arithmetic
+// gradient 0, 1, ..., n-1 at the ends of periods 1..n:
+// ((P/A, i, n) - n (1+i)^-n) / i; n(n-1)/2 at i = 0.
+func GradientPresentWorth(i float64, n int) float64 {
+	if i == 0 {
+		return float64(n) * float64(n-1) / 2
+	}
+	return (SeriesPresentWorth(i, n) - float64(n)*PresentWorth(i, n)) / i
+}
+
+// GradientSeries is (A/G, i, n), the level series equivalent to that
+// gradient: 1/i - n / ((1+i)^n - 1); (n-1)/2 at i = 0.
+func GradientSeries(i float64, n int) float64 {
+	if i == 0 {
+		return float64(n-1) / 2
+	}
+	return 1/i - float64(n)/math.Expm1(float64(n)*math.Log1p(i))
+}
+
+// LevelPresentWorth returns the present worth of n equal payments of 1 at
+// the starts of periods 0..n-1 with discount factor gamma per period:
+// sum_{k<n} gamma^k = (1 - gamma^n) / (1 - gamma). With gamma = 1/(1+i)
+// this is (1+i) (P/A, i, n), the convention fixpoint uses for costs.
+func LevelPresentWorth(gamma float64, n int) float64 {
+	if gamma == 1 {
+		return float64(n)
+	}
+	return -math.Expm1(float64(n)*math.Log(gamma)) / (1 - gamma)
+}
