@@ -1,0 +1,44 @@
+// Package optimize turns maintenance models into Markov decision processes
+// and solves them to proven optimality.
+//
+// Key types: Problem (a finite MDP with sparse transition rows: for every
+// state the admissible choices, each with its expected one-period cost and
+// next-state distribution), Settings (method, tolerance, caps), Result
+// (policy, exact values, proven bounds, gap, Bellman residual, Q-values,
+// runner-ups and margins, ties). Build makes a Problem from a
+// condition.Model and a costs.Schedule.
+//
+// Criterion. Minimise the expected discounted cost
+// v_π(s) = E[Σ_t γ^t c(s_t, π(s_t)) | s_0 = s], costs charged at the start
+// of each period and the next period discounted once by γ. The optimal
+// value v* is the unique fixed point of the Bellman operator
+// (T v)(s) = min_a { c(s,a) + γ Σ_j P(j|s,a) v(j) }, a γ-contraction in the
+// max norm.
+//
+// Methods. Value iteration with MacQueen's bounds, Howard's policy
+// iteration with exact evaluation (gonum LU), and the linear program
+// solved by gonum's simplex. Whatever the method, Solve evaluates the
+// returned policy exactly and proves bounds by the contraction property:
+// for any v, with d = T v - v, Tv + γ/(1-γ)·min d <= v* <= Tv + γ/(1-γ)·max d.
+// The reported gap max_s (v_π(s) - lower(s)) bounds what the advice can
+// lose against the optimum in any state.
+//
+// Ties. Actions whose Q-values are within the tie tolerance of the best are
+// tied; the advice is the lowest action index among them (the first action
+// in the model), the same rule for every method, and the tie is reported.
+//
+// Units. Tolerances are absolute, in the currency of the costs. States and
+// actions are indices inside; names live in Problem.States and
+// Problem.Actions.
+//
+// Errors. Invalid problems (Validate reports every fault), non-finite
+// numbers and cancellation are errors; reaching an iteration cap is a
+// Status. Messages are prefixed "optimize:".
+//
+// References. R. A. Howard, Dynamic Programming and Markov Processes, MIT
+// Press, 1960. J. MacQueen, A modified dynamic programming method for
+// Markovian decision problems, J. Math. Anal. Appl. 14, 1966. E. L.
+// Porteus, Some bounds for discounted sequential decision processes,
+// Management Science 18, 1971. M. L. Puterman, Markov Decision Processes,
+// Wiley, 1994, chapter 6.
+package optimize
