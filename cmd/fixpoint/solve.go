@@ -1,0 +1,200 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"slices"
+
+	"github.com/spf13/cobra"
+
+	"fixpoint/costs"
+	"fixpoint/optimize"
+	"fixpoint/reports"
+)
+
+var formats = []string{"table", "json", "csv"}
+
+func (a *app) newSolve() *cobra.Command {
+	cmd := &cobra.Command{
+		Use:   "solve FILE",
+		Short: "Solve a class config: the certified best action in every condition",
+		Long: `solve reads a class config, builds the discounted-cost Markov decision process
+and solves it to proven optimality. It prints, for every condition, the advised
+action, its expected present-value cost, proven lower and upper bounds on the
+optimal cost, the runner-up action and its margin, then the threshold rule and
+the certificate.
+
+Exit status 3 means the answer was written but its proven gap is above --tol.`,
+		Args: exactArgs(1, "one class config file"),
+		RunE: func(cmd *cobra.Command, args []string) error { return a.solve(cmd, args[0]) },
+	}
+	f := cmd.Flags()
+	f.String("method", "auto", "solution method: auto, value, policy or lp")
+	f.String("tol", fmt.Sprint(optimize.DefaultTol), "target proven gap, absolute, in `currency` units")
+	f.String("max-iterations", "0", "cap on sweeps or steps; 0 = the method's default (`n`)")
+	f.String("rate", "", "annual discount `rate` overriding the config (0.04 or 4%)")
+	f.String("factor", "", "discount `factor` per period overriding the config")
+	addOutputFlags(cmd)
+	return cmd
+}
+
+// addOutputFlags adds --format, --output and --force.
+func addOutputFlags(cmd *cobra.Command) {
+	f := cmd.Flags()
+	f.String("format", "table", "output format: table, json or csv")
+	f.StringP("output", "o", "", "write to this `file` instead of standard output")
+	f.Bool("force", false, "replace the output file if it exists")
+}
+
+// outputSettings reads --format (one of allowed), --output and --force.
+func (a *app) outputSettings(allowed []string, inputs ...string) (string, output, error) {
+	format := a.str("format")
+	if !slices.Contains(allowed, format) {
+		return "", output{}, usagef("unknown format %q; want one of %v", format, allowed)
+	}
+	force, err := a.boolean("force")
+	if err != nil {
+		return "", output{}, err
+	}
+	o := output{path: a.str("output"), force: force, inputs: inputs}
+	return format, o, o.check()
+}
+
+// solverSettings reads --method, --tol and --max-iterations.
+func (a *app) solverSettings() (*optimize.Settings, error) {
+	m, err := optimize.ParseMethod(a.str("method"))
+	if err != nil {
+		return nil, usagef("setting method: unknown method %q; want auto, value, policy or lp", a.str("method"))
+	}
+	tol, err := a.number("tol")
+	if err != nil {
+		return nil, err
+	}
+	if !(tol > 0) {
+		return nil, usagef("setting tol: %g is not a tolerance > 0", tol)
+	}
+	maxIt, err := a.integer("max-iterations")
+	if err != nil {
+		return nil, err
+	}
+	if maxIt < 0 {
+		return nil, usagef("setting max-iterations: %d is negative", maxIt)
+	}
+	return &optimize.Settings{Method: m, Tol: tol, MaxIterations: maxIt}, nil
+}
+
+// discountOverride applies --rate or --factor to the class, if given.
+func (a *app) discountOverride(c *classFile) error {
+	rate, factor := a.str("rate"), a.str("factor")
+	switch {
+	case rate != "" && factor != "":
+		return usagef("give either --rate or --factor, not both")
+	case rate != "":
+		r, err := a.number("rate")
+		if err != nil {
+			return err
+		}
+		g, err := costs.DiscountFactor(r, c.Model.PeriodYears)
+		if err != nil || !(g < 1) {
+			return usagef("setting rate: %g is not a discount rate above 0", r)
+		}
+		c.Rate, c.HasRate, c.HasFactor = r, true, false
+	case factor != "":
+		g, err := a.number("factor")
+		if err != nil {
+			return err
+		}
+		if !(g > 0 && g < 1) {
+			return usagef("setting factor: %g is not in (0, 1)", g)
+		}
+		c.Factor, c.HasFactor, c.HasRate = g, true, false
+	}
+	return nil
+}
+
+// loadProblem reads a class config, applies the discount override and
+// builds its Problem.
+func (a *app) loadProblem(path string) (*classFile, *optimize.Problem, error) {
+	c, err := loadClass(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	if err := a.discountOverride(c); err != nil {
+		return nil, nil, err
+	}
+	g, err := c.DiscountFactor()
+	if err != nil {
+		return nil, nil, &inputError{File: path, Path: "discount", Msg: err.Error()}
+	}
+	p, err := optimize.Build(c.Model, c.Costs, g)
+	if err != nil {
+		return nil, nil, &inputError{File: path, Msg: err.Error()}
+	}
+	return c, p, nil
+}
+
+func (c *classFile) unsafe() []bool {
+	u := make([]bool, len(c.Model.States))
+	for s, st := range c.Model.States {
+		u[s] = st.Unsafe
+	}
+	return u
+}
+
+// advise solves a class and wraps the result for presentation.
+func (a *app) advise(cmd *cobra.Command, c *classFile, p *optimize.Problem) (*reports.Advice, error) {
+	s, err := a.solverSettings()
+	if err != nil {
+		return nil, err
+	}
+	r, err := optimize.Solve(cmd.Context(), p, s)
+	if err != nil {
+		return nil, err
+	}
+	return &reports.Advice{
+		Model: c.Name, Currency: c.Currency, PeriodYears: c.Model.PeriodYears,
+		Rate: c.Rate, HasRate: c.HasRate, Unsafe: c.unsafe(), Problem: p, Result: r,
+	}, nil
+}
+
+func (a *app) solve(cmd *cobra.Command, path string) error {
+	format, out, err := a.outputSettings(formats, path)
+	if err != nil {
+		return err
+	}
+	if _, err := a.solverSettings(); err != nil {
+		return err
+	}
+	c, p, err := a.loadProblem(path)
+	if err != nil {
+		return err
+	}
+	adv, err := a.advise(cmd, c, p)
+	if err != nil {
+		return err
+	}
+	err = out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
+		switch format {
+		case "json":
+			return adv.WriteJSON(w)
+		case "csv":
+			return adv.WriteCSV(w)
+		}
+		return adv.WriteTable(w)
+	})
+	if err != nil {
+		return err
+	}
+	return uncertified(adv.Result)
+}
+
+// uncertified returns the exit-3 error for a result whose gap is above
+// its tolerance, and nil for a certified one.
+func uncertified(r *optimize.Result) error {
+	if r.Status == optimize.Certified {
+		return nil
+	}
+	return &uncertifiedError{fmt.Sprintf(
+		"the answer is not certified: proven gap %.3g is above the tolerance %.3g after %d iterations; raise --max-iterations, loosen --tol or use --method policy",
+		r.Gap, r.Tol, r.Iterations)}
+}

@@ -1,0 +1,290 @@
+package reports
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"strconv"
+	"strings"
+
+	"fixpoint/optimize"
+)
+
+// Advice is the certified policy of one class of equipment with what is
+// needed to present it.
+type Advice struct {
+	Model    string
+	Currency string
+	// PeriodYears is the length of one model period.
+	PeriodYears float64
+	// Rate is the annual discount rate; HasRate is false when the config
+	// gave a discount factor instead.
+	Rate    float64
+	HasRate bool
+	// Unsafe[s] marks the states where the passive action is not allowed.
+	Unsafe  []bool
+	Problem *optimize.Problem
+	Result  *optimize.Result
+}
+
+var methodTitles = map[optimize.Method]string{
+	optimize.ValueIteration:  "value iteration",
+	optimize.PolicyIteration: "policy iteration",
+	optimize.LinearProgram:   "linear programming (simplex)",
+}
+
+func (a *Advice) stateLabel(s int) string {
+	if a.Unsafe[s] {
+		return a.Problem.States[s] + " (unsafe)"
+	}
+	return a.Problem.States[s]
+}
+
+// Thresholds returns the advice as one threshold sentence when the advised
+// action index does not decrease along the scale ("Leave while good or
+// fair; overhaul from worn; replace when failed."), and says that it is
+// not monotone otherwise. Actions are ranked by their order in the model,
+// which should list them from least to most intervention.
+func (a *Advice) Thresholds() string {
+	p, pol := a.Problem, a.Result.Policy
+	type block struct{ action, first, last int }
+	var blocks []block
+	for s, act := range pol {
+		if len(blocks) > 0 && blocks[len(blocks)-1].action == act {
+			blocks[len(blocks)-1].last = s
+			continue
+		}
+		blocks = append(blocks, block{act, s, s})
+	}
+	for i := 1; i < len(blocks); i++ {
+		if blocks[i].action < blocks[i-1].action {
+			parts := make([]string, len(pol))
+			for s, act := range pol {
+				parts[s] = p.States[s] + ": " + p.Actions[act]
+			}
+			return "The advice is not monotone along the scale (" + strings.Join(parts, ", ") +
+				"), so no single threshold rule describes it."
+		}
+	}
+	if len(blocks) == 1 {
+		return capitalize(p.Actions[blocks[0].action]) + " in every condition."
+	}
+	parts := make([]string, len(blocks))
+	for i, b := range blocks {
+		switch {
+		case i == 0:
+			parts[i] = p.Actions[b.action] + " while " + joinOr(p.States[b.first:b.last+1])
+		case b.first == b.last && b.last == len(pol)-1:
+			parts[i] = p.Actions[b.action] + " when " + p.States[b.first]
+		default:
+			parts[i] = p.Actions[b.action] + " from " + p.States[b.first]
+		}
+	}
+	return capitalize(strings.Join(parts, "; ")) + "."
+}
+
+func capitalize(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
+}
+
+// discountLine describes the discounting in words.
+func (a *Advice) discountLine() string {
+	s := fmt.Sprintf("Discount factor %s per period of %s", Fixed(a.Problem.Discount, 6), Years(a.PeriodYears))
+	if a.HasRate {
+		s += fmt.Sprintf(" (rate %s per year)", Percent(a.Rate, 2))
+	}
+	return s + "; costs are charged at the start of each period."
+}
+
+func (a *Advice) solverLine() string {
+	r := a.Result
+	unit := "step"
+	if r.Method == optimize.ValueIteration {
+		unit = "sweep"
+	} else if r.Method == optimize.LinearProgram {
+		unit = "simplex solve"
+	}
+	if r.Iterations != 1 {
+		unit += "s"
+	}
+	return fmt.Sprintf("Solver: %s, %d %s; proven gap %s %s (tolerance %s), Bellman residual %s: %s.",
+		methodTitles[r.Method], r.Iterations, unit, sci(r.Gap), a.Currency, sci(r.Tol), sci(r.Residual), r.Status)
+}
+
+func (a *Advice) tieLines() []string {
+	var lines []string
+	for _, t := range a.Result.Ties {
+		names := make([]string, len(t.Actions))
+		for i, act := range t.Actions {
+			names[i] = a.Problem.Actions[act]
+		}
+		lines = append(lines, fmt.Sprintf("Tie in %s: %s are equally good within %s %s; the advice is the first listed in the config.",
+			a.Problem.States[t.State], joinAnd(names), sci(a.Result.TieTol), a.Currency))
+	}
+	return lines
+}
+
+func joinAnd(names []string) string {
+	if len(names) < 2 {
+		return strings.Join(names, "")
+	}
+	return strings.Join(names[:len(names)-1], ", ") + " and " + names[len(names)-1]
+}
+
+func sci(x float64) string { return strconv.FormatFloat(x, 'g', 3, 64) }
+
+// Years formats a duration in years: "1 year", "0.5 years".
+func Years(x float64) string {
+	if x == 1 {
+		return "1 year"
+	}
+	return strconv.FormatFloat(x, 'f', -1, 64) + " years"
+}
+
+// WriteTable writes the per-condition advice as a terminal table followed
+// by the threshold sentence, the discounting, the certificate and the
+// caution.
+func (a *Advice) WriteTable(w io.Writer) error {
+	r := a.Result
+	cur := a.Currency
+	header := []string{"condition", "advice", "expected cost (" + cur + ")", "lower bound", "upper bound", "runner-up", "margin"}
+	rows := make([][]string, len(r.Policy))
+	for s := range r.Policy {
+		runner, margin := "-", "-"
+		if r.RunnerUp[s] >= 0 {
+			runner, margin = a.Problem.Actions[r.RunnerUp[s]], Money(r.Margin[s], 2)
+		}
+		rows[s] = []string{a.stateLabel(s), a.Problem.Actions[r.Policy[s]], Money(r.Value[s], 2),
+			Money(r.Lower[s], 2), Money(r.Upper[s], 2), runner, margin}
+	}
+	var b strings.Builder
+	fmt.Fprintf(&b, "%s: advice per condition (present value of expected costs, %s)\n", a.Model, cur)
+	if _, err := io.WriteString(w, b.String()); err != nil {
+		return err
+	}
+	if err := table(w, header, []bool{false, false, true, true, true, false, true}, rows); err != nil {
+		return err
+	}
+	lines := []string{"Thresholds: " + a.Thresholds(), a.discountLine(), a.solverLine()}
+	lines = append(lines, a.tieLines()...)
+	lines = append(lines, "Margin: how much the runner-up's cost in that condition must fall before it becomes the advice.",
+		"CAUTION: "+Caution)
+	return writeLines(w, lines)
+}
+
+type adviceState struct {
+	State    string             `json:"state"`
+	Unsafe   bool               `json:"unsafe"`
+	Action   string             `json:"action"`
+	Value    float64            `json:"value"`
+	Lower    float64            `json:"lower"`
+	Upper    float64            `json:"upper"`
+	RunnerUp *string            `json:"runner_up"`
+	Margin   *float64           `json:"margin"`
+	Q        map[string]float64 `json:"q"`
+	Tied     []string           `json:"tied,omitempty"`
+}
+
+type adviceCertificate struct {
+	MaxGap          float64 `json:"max_gap"`
+	BellmanResidual float64 `json:"bellman_residual"`
+	Status          string  `json:"status"`
+	Tolerance       float64 `json:"tolerance"`
+	TieTolerance    float64 `json:"tie_tolerance"`
+}
+
+type adviceJSON struct {
+	Model          string            `json:"model"`
+	Currency       string            `json:"currency"`
+	PeriodYears    float64           `json:"period_years"`
+	DiscountRate   *float64          `json:"discount_rate"`
+	DiscountFactor float64           `json:"discount_factor"`
+	Method         string            `json:"method"`
+	Iterations     int               `json:"iterations"`
+	States         []adviceState     `json:"states"`
+	Certificate    adviceCertificate `json:"certificate"`
+	Thresholds     string            `json:"thresholds"`
+	Caution        string            `json:"caution"`
+}
+
+func (a *Advice) json() adviceJSON {
+	r, p := a.Result, a.Problem
+	out := adviceJSON{
+		Model: a.Model, Currency: a.Currency, PeriodYears: a.PeriodYears,
+		DiscountFactor: p.Discount, Method: r.Method.String(), Iterations: r.Iterations,
+		Certificate: adviceCertificate{MaxGap: r.Gap, BellmanResidual: r.Residual, Status: r.Status.String(),
+			Tolerance: r.Tol, TieTolerance: r.TieTol},
+		Thresholds: a.Thresholds(), Caution: Caution,
+	}
+	if a.HasRate {
+		rate := a.Rate
+		out.DiscountRate = &rate
+	}
+	tied := make(map[int][]string)
+	for _, t := range r.Ties {
+		for _, act := range t.Actions {
+			tied[t.State] = append(tied[t.State], p.Actions[act])
+		}
+	}
+	for s := range r.Policy {
+		st := adviceState{State: p.States[s], Unsafe: a.Unsafe[s], Action: p.Actions[r.Policy[s]],
+			Value: r.Value[s], Lower: r.Lower[s], Upper: r.Upper[s], Q: make(map[string]float64), Tied: tied[s]}
+		for k, c := range p.Choices[s] {
+			st.Q[p.Actions[c.Action]] = r.Q[s][k]
+		}
+		if r.RunnerUp[s] >= 0 {
+			name, margin := p.Actions[r.RunnerUp[s]], r.Margin[s]
+			st.RunnerUp, st.Margin = &name, &margin
+		}
+		out.States = append(out.States, st)
+	}
+	return out
+}
+
+// WriteJSON writes the advice as one JSON object (see the README for the
+// keys), indented, with a final newline.
+func (a *Advice) WriteJSON(w io.Writer) error {
+	return writeJSON(w, a.json())
+}
+
+func writeJSON(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(v)
+}
+
+// WriteCSV writes one row per condition after a comment line carrying the
+// caution: state, unsafe, action, value, lower, upper, runner_up, margin
+// and the Q-value of every action (empty where not admissible). Numbers
+// have six decimals.
+func (a *Advice) WriteCSV(w io.Writer) error {
+	r, p := a.Result, a.Problem
+	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
+		return err
+	}
+	cw := csv.NewWriter(w)
+	header := []string{"state", "unsafe", "action", "value", "lower", "upper", "runner_up", "margin"}
+	for _, name := range p.Actions {
+		header = append(header, "q_"+name)
+	}
+	cw.Write(header)
+	for s := range r.Policy {
+		runner, margin := "", ""
+		if r.RunnerUp[s] >= 0 {
+			runner, margin = p.Actions[r.RunnerUp[s]], Fixed(r.Margin[s], 6)
+		}
+		row := []string{p.States[s], strconv.FormatBool(a.Unsafe[s]), p.Actions[r.Policy[s]],
+			Fixed(r.Value[s], 6), Fixed(r.Lower[s], 6), Fixed(r.Upper[s], 6), runner, margin}
+		q := make([]string, len(p.Actions))
+		for k, c := range p.Choices[s] {
+			q[c.Action] = Fixed(r.Q[s][k], 6)
+		}
+		cw.Write(append(row, q...))
+	}
+	cw.Flush()
+	return cw.Error()
+}

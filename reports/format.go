@@ -1,0 +1,119 @@
+package reports
+
+import (
+	"io"
+	"math"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"github.com/olekukonko/tablewriter"
+	"github.com/olekukonko/tablewriter/tw"
+)
+
+// Money formats x with the given number of decimals, "." as the decimal
+// point and "," between groups of thousands: Money(-1234.5, 2) is
+// "-1,234.50". Non-finite numbers print as "n/a".
+func Money(x float64, decimals int) string {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return "n/a"
+	}
+	s := strconv.FormatFloat(math.Abs(x), 'f', decimals, 64)
+	intPart, frac, _ := strings.Cut(s, ".")
+	var b strings.Builder
+	if x < 0 && strings.Trim(s, "0.") != "" {
+		b.WriteByte('-')
+	}
+	for i, r := range intPart {
+		if i > 0 && (len(intPart)-i)%3 == 0 {
+			b.WriteByte(',')
+		}
+		b.WriteRune(r)
+	}
+	if frac != "" {
+		b.WriteByte('.')
+		b.WriteString(frac)
+	}
+	return b.String()
+}
+
+// Percent formats a fraction as a percentage with the given decimals:
+// Percent(0.035, 2) is "3.50%".
+func Percent(x float64, decimals int) string {
+	return strconv.FormatFloat(100*x, 'f', decimals, 64) + "%"
+}
+
+// Fixed formats x with the given number of decimals and no grouping.
+func Fixed(x float64, decimals int) string {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return "n/a"
+	}
+	return strconv.FormatFloat(x, 'f', decimals, 64)
+}
+
+// table renders a terminal table: header, rows, numbers right-aligned in
+// the columns marked true in numeric.
+func table(w io.Writer, header []string, numeric []bool, rows [][]string) error {
+	align := make([]tw.Align, len(header))
+	for i := range align {
+		align[i] = tw.AlignLeft
+		if i < len(numeric) && numeric[i] {
+			align[i] = tw.AlignRight
+		}
+	}
+	t := tablewriter.NewTable(w,
+		tablewriter.WithHeaderAutoFormat(tw.Off),
+		tablewriter.WithHeaderAlignmentConfig(tw.CellAlignment{PerColumn: align}),
+		tablewriter.WithRowAlignmentConfig(tw.CellAlignment{PerColumn: align}),
+	)
+	t.Header(header)
+	for _, r := range rows {
+		if err := t.Append(append([]string(nil), r...)); err != nil {
+			return err
+		}
+	}
+	return t.Render()
+}
+
+// joinOr joins names as "a", "a or b", "a, b or c".
+func joinOr(names []string) string {
+	switch len(names) {
+	case 0:
+		return ""
+	case 1:
+		return names[0]
+	}
+	return strings.Join(names[:len(names)-1], ", ") + " or " + names[len(names)-1]
+}
+
+// lineWidth is the width at which notes below tables are wrapped.
+const lineWidth = 100
+
+// writeLines writes each line wrapped at lineWidth on word boundaries;
+// continuation lines are indented by two spaces.
+func writeLines(w io.Writer, lines []string) error {
+	var b strings.Builder
+	for _, line := range lines {
+		wrap(&b, line, lineWidth)
+	}
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
+func wrap(b *strings.Builder, line string, width int) {
+	col := 0
+	for i, word := range strings.Fields(line) {
+		switch {
+		case i == 0:
+		case col+1+utf8.RuneCountInString(word) > width:
+			b.WriteString("\n  ")
+			col = 2
+		default:
+			b.WriteByte(' ')
+			col++
+		}
+		b.WriteString(word)
+		col += utf8.RuneCountInString(word)
+	}
+	b.WriteByte('\n')
+}
