@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"slices"
 	"strconv"
 	"strings"
 	"syscall"
@@ -162,7 +163,7 @@ func (a *app) loadSettings(cmd *cobra.Command) error {
 	}
 	if path != "" {
 		for _, key := range v.AllKeys() {
-			if cmd.Flags().Lookup(key) == nil && !knownSetting(key) {
+			if cmd.Flags().Lookup(key) == nil && !slices.Contains(allSettings, key) {
 				return &inputError{File: path, Path: key, Msg: "unknown setting" + didYouMean(key, settingNames(cmd))}
 			}
 		}
@@ -170,18 +171,8 @@ func (a *app) loadSettings(cmd *cobra.Command) error {
 	return nil
 }
 
-// knownSetting reports whether key is a flag of some command, so that one
-// settings file can serve every command.
-func knownSetting(key string) bool {
-	for _, k := range allSettings {
-		if k == key {
-			return true
-		}
-	}
-	return false
-}
-
-// allSettings lists every key a settings file may set.
+// allSettings lists every key a settings file may set: the flags of every
+// command, so that one settings file can serve them all.
 var allSettings = []string{"method", "tol", "format", "rate", "factor", "max-iterations", "output", "force"}
 
 func settingNames(cmd *cobra.Command) []string {
