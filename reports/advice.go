@@ -23,9 +23,13 @@ type Advice struct {
 	Rate    float64
 	HasRate bool
 	// Unsafe[s] marks the states where the passive action is not allowed.
-	Unsafe  []bool
+	Unsafe []bool
+	// Passive is the index of the passive action, or -1.
+	Passive int
 	Problem *optimize.Problem
 	Result  *optimize.Result
+	// Life, if not nil, adds the life-cycle figures of the advice.
+	Life *optimize.Life
 }
 
 var methodTitles = map[optimize.Method]string{
@@ -171,9 +175,16 @@ func (a *Advice) WriteTable(w io.Writer) error {
 	}
 	lines := []string{"Thresholds: " + a.Thresholds(), a.discountLine(), a.solverLine()}
 	lines = append(lines, a.tieLines()...)
-	lines = append(lines, "Margin: how much the runner-up's cost in that condition must fall before it becomes the advice.",
-		"CAUTION: "+Caution)
-	return writeLines(w, lines)
+	lines = append(lines, "Margin: how much the runner-up's cost in that condition must fall before it becomes the advice.")
+	if err := writeLines(w, lines); err != nil {
+		return err
+	}
+	if a.Life != nil {
+		if err := a.writeLife(w); err != nil {
+			return err
+		}
+	}
+	return writeLines(w, []string{"", "CAUTION: " + Caution})
 }
 
 type adviceState struct {
@@ -208,6 +219,7 @@ type adviceJSON struct {
 	States         []adviceState     `json:"states"`
 	Certificate    adviceCertificate `json:"certificate"`
 	Thresholds     string            `json:"thresholds"`
+	Life           *lifeJSON         `json:"life,omitempty"`
 	Caution        string            `json:"caution"`
 }
 
@@ -218,7 +230,7 @@ func (a *Advice) json() adviceJSON {
 		DiscountFactor: p.Discount, Method: r.Method.String(), Iterations: r.Iterations,
 		Certificate: adviceCertificate{MaxGap: r.Gap, BellmanResidual: r.Residual, Status: r.Status.String(),
 			Tolerance: r.Tol, TieTolerance: r.TieTol},
-		Thresholds: a.Thresholds(), Caution: Caution,
+		Thresholds: a.Thresholds(), Life: a.lifeJSON(), Caution: Caution,
 	}
 	if a.HasRate {
 		rate := a.Rate

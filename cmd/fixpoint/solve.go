@@ -3,6 +3,7 @@ package main
 import (
 	"fmt"
 	"io"
+	"math"
 	"slices"
 
 	"github.com/spf13/cobra"
@@ -28,12 +29,8 @@ Exit status 3 means the answer was written but its proven gap is above --tol.`,
 		Args: exactArgs(1, "one class config file"),
 		RunE: func(cmd *cobra.Command, args []string) error { return a.solve(cmd, args[0]) },
 	}
-	f := cmd.Flags()
-	f.String("method", "auto", "solution method: auto, value, policy or lp")
-	f.String("tol", fmt.Sprint(optimize.DefaultTol), "target proven gap, absolute, in `currency` units")
-	f.String("max-iterations", "0", "cap on sweeps or steps; 0 = the method's default (`n`)")
-	f.String("rate", "", "annual discount `rate` overriding the config (0.04 or 4%)")
-	f.String("factor", "", "discount `factor` per period overriding the config")
+	addSolverFlags(cmd)
+	cmd.Flags().String("target", "", "`state` whose first passage the life figures measure (default: the worst state)")
 	addOutputFlags(cmd)
 	return cmd
 }
@@ -142,19 +139,53 @@ func (c *classFile) unsafe() []bool {
 }
 
 // advise solves a class and wraps the result for presentation.
-func (a *app) advise(cmd *cobra.Command, c *classFile, p *optimize.Problem) (*reports.Advice, error) {
-	s, err := a.solverSettings()
+func (a *app) advise(cmd *cobra.Command, s *optimize.Settings, c *classFile, p *optimize.Problem) (*reports.Advice, error) {
+	r, err := optimize.Solve(cmd.Context(), p, s)
 	if err != nil {
 		return nil, err
 	}
-	r, err := optimize.Solve(cmd.Context(), p, s)
+	life, err := a.life(c, r)
 	if err != nil {
 		return nil, err
 	}
 	return &reports.Advice{
 		Model: c.Name, Currency: c.Currency, PeriodYears: c.Model.PeriodYears,
-		Rate: c.Rate, HasRate: c.HasRate, Unsafe: c.unsafe(), Problem: p, Result: r,
+		Rate: c.Rate, HasRate: c.HasRate, Unsafe: c.unsafe(), Passive: c.Model.Passive(),
+		Problem: p, Result: r, Life: life,
 	}, nil
+}
+
+// maxLifeYears caps the survival curves of the life figures.
+const maxLifeYears = 100
+
+// life computes the life figures of the advice, with first passage to
+// --target (default: the worst state) and survival curves until both fall
+// below 0.1% or maxLifeYears.
+func (a *app) life(c *classFile, r *optimize.Result) (*optimize.Life, error) {
+	m := c.Model
+	n := len(m.States)
+	target := optimize.WorstTarget(n)
+	if name := a.str("target"); name != "" {
+		s := m.StateIndex(name)
+		if s < 0 {
+			return nil, usagef("setting target: unknown state %q%s", name, didYouMean(name, m.StateNames()))
+		}
+		target = make([]bool, n)
+		target[s] = true
+	}
+	limit := int(math.Ceil(maxLifeYears / m.PeriodYears))
+	horizon := m.PolicyChain(r.Policy).SurvivalHorizon(target, 1e-3, limit)
+	if m.Passive() >= 0 {
+		horizon = m.PassiveChain().SurvivalHorizon(target, 1e-3, limit)
+	}
+	rate := c.Rate
+	if !c.HasRate {
+		var err error
+		if rate, err = costs.RateFromFactor(c.Factor, m.PeriodYears); err != nil {
+			return nil, &inputError{File: c.Path, Path: "discount.factor", Msg: err.Error()}
+		}
+	}
+	return optimize.LifeFigures(m, c.Costs, r, rate, target, max(horizon, 10))
 }
 
 func (a *app) solve(cmd *cobra.Command, path string) error {
@@ -162,14 +193,15 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	if _, err := a.solverSettings(); err != nil {
+	settings, err := a.solverSettings()
+	if err != nil {
 		return err
 	}
 	c, p, err := a.loadProblem(path)
 	if err != nil {
 		return err
 	}
-	adv, err := a.advise(cmd, c, p)
+	adv, err := a.advise(cmd, settings, c, p)
 	if err != nil {
 		return err
 	}

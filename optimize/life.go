@@ -1,0 +1,128 @@
+package optimize
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"fixpoint/condition"
+	"fixpoint/costs"
+)
+
+// Life holds what a policy means over the life of one unit.
+type Life struct {
+	// Target[s] marks the states whose first passage is measured
+	// (by default the worst state of the scale).
+	Target []bool
+	// Passive and Policy are first-passage figures to the target for a
+	// unit always left alone and for one following the advice. Passive is
+	// nil when the model has no passive action; its Periods are NaN in the
+	// states where the passive action is not admissible.
+	Passive, Policy *condition.Passage
+	// PassiveSurvival[s][k] and PolicySurvival[s][k] are the probabilities
+	// that a unit started in s has not reached the target after k periods
+	// (k = 0..Horizon).
+	PassiveSurvival, PolicySurvival [][]float64
+	Horizon                         int
+	// Stationary is the long-run distribution of condition under the
+	// advice; nil when it is not unique, with the reason in
+	// StationaryErr.
+	Stationary    []float64
+	StationaryErr error
+	// CostPerPeriod is the long-run average cost per period under the
+	// advice, Σ_s π(s) c(s, advice(s)), and CostPerYear the same per year;
+	// NaN without a stationary distribution.
+	CostPerPeriod, CostPerYear float64
+	// EquivalentAnnual[s] is the level amount per year, paid at the start
+	// of each year for ever, with the same present value at the annual
+	// rate as the advice from s (NaN when the rate is not positive).
+	EquivalentAnnual []float64
+	// UnsafeShare is the long-run share of units in unsafe states.
+	UnsafeShare float64
+	// ActionShare[a] is the long-run share of periods in which action a is
+	// taken, and PeriodsBetween[a] = 1/ActionShare[a] the mean number of
+	// periods between two uses (+Inf when never used), by the
+	// renewal-reward theorem.
+	ActionShare, PeriodsBetween []float64
+}
+
+// LifeFigures computes the life figures of the advice r for the class
+// (m, c) at the annual discount rate: first passage to target, survival
+// curves over horizon periods, the long-run figures of the policy's chain
+// and the equivalent annual cost of r.Value.
+func LifeFigures(m *condition.Model, c *costs.Schedule, r *Result, rate float64, target []bool, horizon int) (*Life, error) {
+	n := len(m.States)
+	policy := r.Policy
+	if len(policy) != n || len(target) != n {
+		return nil, fmt.Errorf("optimize: policy or target of the wrong length for %d states", n)
+	}
+	l := &Life{Target: target, Horizon: horizon, CostPerPeriod: math.NaN(), CostPerYear: math.NaN(),
+		EquivalentAnnual: make([]float64, n),
+		ActionShare:      make([]float64, len(m.Actions)), PeriodsBetween: make([]float64, len(m.Actions))}
+	for s, v := range r.Value {
+		l.EquivalentAnnual[s] = math.NaN()
+		if rate > 0 {
+			l.EquivalentAnnual[s] = costs.EquivalentAnnualCost(v, rate)
+		}
+	}
+	pol := m.PolicyChain(policy)
+	pp, err := pol.FirstPassage(target)
+	if err != nil {
+		return nil, err
+	}
+	l.Policy = &pp
+	l.PolicySurvival = pol.Survival(target, horizon)
+	if m.Passive() >= 0 {
+		pas := m.PassiveChain()
+		p, err := pas.FirstPassage(target)
+		if err != nil {
+			return nil, err
+		}
+		// A state where the unit cannot be left alone has no passive figure,
+		// even when it is the target.
+		for s, row := range pas.Rows {
+			if row == nil {
+				p.Periods[s] = math.NaN()
+			}
+		}
+		l.Passive = &p
+		l.PassiveSurvival = pas.Survival(target, horizon)
+	}
+	pi, err := pol.Stationary()
+	var ce *condition.ClassesError
+	switch {
+	case errors.As(err, &ce):
+		l.StationaryErr = err
+		for a := range l.PeriodsBetween {
+			l.ActionShare[a], l.PeriodsBetween[a] = math.NaN(), math.NaN()
+		}
+		l.UnsafeShare = math.NaN()
+		return l, nil
+	case err != nil:
+		return nil, err
+	}
+	l.Stationary = pi
+	l.CostPerPeriod = 0
+	for s, a := range policy {
+		l.CostPerPeriod += pi[s] * (c.Running[s] + c.Action[a][s])
+		l.ActionShare[a] += pi[s]
+		if m.States[s].Unsafe {
+			l.UnsafeShare += pi[s]
+		}
+	}
+	l.CostPerYear = l.CostPerPeriod / m.PeriodYears
+	for a, share := range l.ActionShare {
+		l.PeriodsBetween[a] = 1 / share
+		if share <= 0 {
+			l.PeriodsBetween[a] = math.Inf(1)
+		}
+	}
+	return l, nil
+}
+
+// WorstTarget marks the last state of an n-state scale.
+func WorstTarget(n int) []bool {
+	t := make([]bool, n)
+	t[n-1] = true
+	return t
+}
