@@ -106,6 +106,13 @@ func (a *Advice) discountLine() string {
 
 func (a *Advice) solverLine() string {
 	r := a.Result
+	return fmt.Sprintf("Solver: %s, %s; proven gap %s %s (tolerance %s), Bellman residual %s: %s.",
+		methodTitles[r.Method], a.iterationText(), sci(r.Gap), a.Currency, sci(r.Tol), sci(r.Residual), r.Status)
+}
+
+// iterationText counts the iterations in the method's own unit: "2 steps".
+func (a *Advice) iterationText() string {
+	r := a.Result
 	unit := "step"
 	if r.Method == optimize.ValueIteration {
 		unit = "sweep"
@@ -115,8 +122,7 @@ func (a *Advice) solverLine() string {
 	if r.Iterations != 1 {
 		unit += "s"
 	}
-	return fmt.Sprintf("Solver: %s, %d %s; proven gap %s %s (tolerance %s), Bellman residual %s: %s.",
-		methodTitles[r.Method], r.Iterations, unit, sci(r.Gap), a.Currency, sci(r.Tol), sci(r.Residual), r.Status)
+	return fmt.Sprintf("%d %s", r.Iterations, unit)
 }
 
 func (a *Advice) tieLines() []string {

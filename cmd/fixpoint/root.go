@@ -122,7 +122,7 @@ and a competent or licensed inspector's finding overrides the advice.`,
 	}
 	root.PersistentFlags().String("settings", "", "run-time settings file (YAML, TOML or JSON; env FIXPOINT_SETTINGS)")
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &usageError{err.Error()} })
-	root.AddCommand(a.newSolve(), a.newForecast(), a.newCheck(), a.newInit())
+	root.AddCommand(a.newSolve(), a.newForecast(), a.newBrief(), a.newCheck(), a.newInit())
 	return root
 }
 

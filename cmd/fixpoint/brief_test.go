@@ -1,0 +1,182 @@
+package main
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"regexp"
+	"strconv"
+	"strings"
+	"testing"
+
+	"fixpoint/reports"
+)
+
+// poppler returns the path of a poppler-utils tool (pdftotext, pdfinfo),
+// skipping without it unless CI=true.
+func poppler(t *testing.T, tool string) string {
+	t.Helper()
+	path, err := exec.LookPath(tool)
+	if err != nil {
+		if os.Getenv("CI") == "true" {
+			t.Fatalf("%s not found; CI must install poppler-utils", tool)
+		}
+		t.Skipf("%s not found (Debian package poppler-utils); skipping", tool)
+	}
+	return path
+}
+
+func writeBrief(t *testing.T, config string, extra ...string) string {
+	t.Helper()
+	out := filepath.Join(t.TempDir(), "brief.pdf")
+	args := append([]string{"brief", config, "-o", out, "--date", "2026-12-01"}, extra...)
+	if code, _, stderr := runCLI(t, args...); code != 0 {
+		t.Fatalf("brief: exit %d: %s", code, stderr)
+	}
+	return out
+}
+
+func pdfText(t *testing.T, path string) string {
+	t.Helper()
+	out, err := exec.Command(poppler(t, "pdftotext"), "-layout", path, "-").Output()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return string(out)
+}
+
+func pdfPages(t *testing.T, path string) int {
+	t.Helper()
+	out, err := exec.Command(poppler(t, "pdfinfo"), path).Output()
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := regexp.MustCompile(`(?m)^Pages:\s+(\d+)`).FindStringSubmatch(string(out))
+	if m == nil {
+		t.Fatalf("no page count in pdfinfo output:\n%s", out)
+	}
+	n, _ := strconv.Atoi(m[1])
+	return n
+}
+
+// The brief carries the caution on every page, every state and action
+// name, and the numbers of the JSON output; it has three pages.
+func TestBriefContent(t *testing.T) {
+	path := writeBrief(t, demo)
+	text := pdfText(t, path)
+	if n := pdfPages(t, path); n != 3 {
+		t.Errorf("%d pages, want 3", n)
+	}
+	pages := strings.Split(text, "\f")
+	for i, page := range pages[:len(pages)-1] {
+		for _, w := range []string{"CAUTION: advisory only", "competent", "local", "unsafe require action"} {
+			if !strings.Contains(page, w) {
+				t.Errorf("page %d lacks %q", i+1, w)
+			}
+		}
+	}
+	code, out, stderr := runCLI(t, "solve", demo, "--format", "json")
+	if code != 0 {
+		t.Fatal(stderr)
+	}
+	var doc struct {
+		States []struct {
+			State, Action string
+			Value         float64
+			RunnerUp      *string  `json:"runner_up"`
+			Margin        *float64 `json:"margin"`
+			Q             map[string]float64
+		}
+		DiscountFactor float64 `json:"discount_factor"`
+		Thresholds     string
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	flat := strings.Join(strings.Fields(text), " ")
+	want := []string{strings.Join(strings.Fields(doc.Thresholds), " "), reports.Fixed(doc.DiscountFactor, 6)}
+	for _, s := range doc.States {
+		want = append(want, s.State, reports.Money(s.Value, 2))
+		for a := range s.Q {
+			want = append(want, a)
+		}
+		if s.Margin != nil {
+			want = append(want, reports.Money(*s.Margin, 2))
+		}
+	}
+	for _, w := range want {
+		if !strings.Contains(flat, w) {
+			t.Errorf("brief text lacks %q", w)
+		}
+	}
+}
+
+// Non-ASCII names, a "€" currency and a long state name print correctly.
+func TestBriefUTF8(t *testing.T) {
+	text := pdfText(t, writeBrief(t, filepath.Join("testdata", "accents.yaml")))
+	flat := strings.Join(strings.Fields(text), " ")
+	for _, w := range []string{"€", "vallée de l'Aube", "révision", "état neuf", "accouplement", "hors service (unsafe)"} {
+		if !strings.Contains(flat, w) {
+			t.Errorf("brief text lacks %q", w)
+		}
+	}
+}
+
+// The same input and date give byte-identical PDFs; the hash is a golden
+// file (rewritten with -update after looking at the rendered pages).
+func TestBriefDeterministic(t *testing.T) {
+	a, err := os.ReadFile(writeBrief(t, demo))
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Setenv("SOURCE_DATE_EPOCH", "1796083200") // 2026-12-01T00:00:00Z
+	out := filepath.Join(t.TempDir(), "b.pdf")
+	if code, _, stderr := runCLI(t, "brief", demo, "-o", out); code != 0 {
+		t.Fatal(stderr)
+	}
+	b, err := os.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(a, b) {
+		t.Fatal("two briefs of the same input and date differ")
+	}
+	sum := sha256.Sum256(a)
+	golden(t, "brief-pumps.pdf.sha256", hex.EncodeToString(sum[:])+"\n")
+}
+
+func TestBriefRefusals(t *testing.T) {
+	dir := t.TempDir()
+	cfg := filepath.Join(dir, "pumps.yaml")
+	data, _ := os.ReadFile(demo)
+	os.WriteFile(cfg, data, 0o644)
+	for _, tc := range []struct {
+		name string
+		args []string
+		code int
+		want string
+	}{
+		{"no output", []string{"brief", cfg}, exitUsage, "give the PDF file to write with -o FILE"},
+		{"output is input", []string{"brief", cfg, "-o", cfg, "--force"}, exitUsage, "is the input file"},
+		{"bad date", []string{"brief", cfg, "-o", filepath.Join(dir, "x.pdf"), "--date", "1/12/2026"}, exitUsage, "is not a date YYYY-MM-DD"},
+		{"bad config", []string{"brief", filepath.Join(dir, "none.yaml"), "-o", filepath.Join(dir, "y.pdf")}, exitInput, "file not found"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			code, _, stderr := runCLI(t, tc.args...)
+			if code != tc.code || !strings.Contains(stderr, tc.want) {
+				t.Errorf("exit %d, stderr %q; want %d and %q", code, stderr, tc.code, tc.want)
+			}
+		})
+	}
+	if after, _ := os.ReadFile(cfg); !bytes.Equal(after, data) {
+		t.Error("the input was changed")
+	}
+	entries, _ := os.ReadDir(dir)
+	if len(entries) != 1 {
+		t.Errorf("files left behind: %v", entries)
+	}
+}
