@@ -64,7 +64,36 @@ func (a *Advice) writeLife(w io.Writer) error {
 	if err := table(w, header, []bool{false, true, true, true}, rows); err != nil {
 		return err
 	}
-	return writeLines(w, a.lifeLines())
+	if err := writeLines(w, a.lifeLines()); err != nil {
+		return err
+	}
+	return a.writeSurvival(w)
+}
+
+// survivalYears are the years at which the survival table samples the
+// curves, as far as the horizon reaches.
+var survivalYears = []float64{1, 2, 5, 10, 15, 20, 30, 50, 75, 100}
+
+// writeSurvival tabulates the survival curves from the best state.
+func (a *Advice) writeSurvival(w io.Writer) error {
+	l := a.Life
+	best := a.Problem.States[0]
+	fmt.Fprintf(w, "\nSurvival of a unit starting %s: probability that it has not yet reached %s\n", best, a.targetName())
+	passive := l.Passive != nil && !math.IsNaN(l.Passive.Periods[0])
+	header := []string{"after", "left alone", "under the advice"}
+	var rows [][]string
+	for _, y := range survivalYears {
+		k := int(math.Round(y / a.PeriodYears))
+		if k > l.Horizon || k < 1 {
+			continue
+		}
+		left := "n/a"
+		if passive {
+			left = Percent(l.PassiveSurvival[0][k], 1)
+		}
+		rows = append(rows, []string{Years(float64(k) * a.PeriodYears), left, Percent(l.PolicySurvival[0][k], 1)})
+	}
+	return table(w, header, []bool{true, true, true}, rows)
 }
 
 func (a *Advice) lifeLines() []string {
