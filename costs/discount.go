@@ -36,6 +36,11 @@ func RealRate(nominal, inflation float64) float64 {
 	return (1+nominal)/(1+inflation) - 1
 }
 
+// NominalRate is the inverse of RealRate: (1+real)(1+inflation) - 1.
+func NominalRate(real, inflation float64) float64 {
+	return (1+real)*(1+inflation) - 1
+}
+
 // EquivalentAnnualCost returns the level amount per year, paid at the start
 // of every year for ever, whose present worth at the annual rate is pw:
 // pw * rate / (1 + rate). The rate must be positive: at rate 0 a perpetual

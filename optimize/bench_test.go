@@ -65,3 +65,24 @@ func bandedProblem(n int, gamma float64) *Problem {
 	}
 	return p
 }
+
+// BenchmarkDiscountPath times the search for every switch point between
+// rates 0% and 12% a year (γ from 1/1.12 to 1) on banded deterioration
+// models.
+func BenchmarkDiscountPath(b *testing.B) {
+	for _, n := range []int{10, 50} {
+		p := bandedProblem(n, 0.9)
+		b.Run(strconv.Itoa(n), func(b *testing.B) {
+			b.ReportAllocs()
+			var switches int
+			for b.Loop() {
+				_, sw, err := DiscountPath(context.Background(), p, 1/1.12, 1, nil)
+				if err != nil {
+					b.Fatal(err)
+				}
+				switches = len(sw)
+			}
+			b.ReportMetric(float64(switches), "switches")
+		})
+	}
+}

@@ -18,20 +18,15 @@ func Evaluate(p *Problem, policy []int) ([]float64, error) {
 	if len(policy) != n {
 		return nil, fmt.Errorf("optimize: policy has %d entries for %d states", len(policy), n)
 	}
-	a := mat.NewDense(n, n, nil)
 	b := mat.NewVecDense(n, nil)
 	for s := range n {
 		k := p.find(s, policy[s])
 		if k < 0 {
 			return nil, fmt.Errorf("optimize: policy takes action %d, not admissible in state %d", policy[s], s)
 		}
-		c := p.Choices[s][k]
-		a.Set(s, s, 1)
-		for _, e := range c.Next {
-			a.Set(s, e.To, a.At(s, e.To)-p.Discount*e.P)
-		}
-		b.SetVec(s, c.Cost)
+		b.SetVec(s, p.Choices[s][k].Cost)
 	}
+	a := policyMatrix(p, policy, p.Discount)
 	var lu mat.LU
 	lu.Factorize(a)
 	var x, r, dx mat.VecDense
@@ -75,10 +70,19 @@ func greedy(p *Problem, v []float64, policy []int, tv []float64) {
 // switches. Each step costs one O(n³) evaluation and O(nnz) for the
 // improvement; the number of steps is small in practice and finite always.
 func policyIteration(ctx context.Context, p *Problem, s *Settings) ([]int, int, error) {
+	return policyIterationFrom(ctx, p, s, nil)
+}
+
+// policyIterationFrom is policyIteration from the given start policy (nil:
+// the least-immediate-cost policy).
+func policyIterationFrom(ctx context.Context, p *Problem, s *Settings, start []int) ([]int, int, error) {
 	n := len(p.States)
 	policy := make([]int, n)
-	scratch := make([]float64, n)
-	greedy(p, make([]float64, n), policy, scratch)
+	if start != nil {
+		copy(policy, start)
+	} else {
+		greedy(p, make([]float64, n), policy, make([]float64, n))
+	}
 	for step := 1; ; step++ {
 		if err := ctx.Err(); err != nil {
 			return nil, step, err

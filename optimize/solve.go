@@ -154,7 +154,7 @@ func certify(p *Problem, policy []int, lower, upper []float64, s *Settings) (*Re
 		lo, hi = min(lo, d), max(hi, d)
 		r.Residual = max(r.Residual, math.Abs(d))
 	}
-	round := roundingAllowance(p, v)
+	round := roundingError(p, v) / (1 - g)
 	for st := range n {
 		r.Lower[st] = tv[st] + g/(1-g)*lo - round
 		r.Upper[st] = min(v[st], tv[st]+g/(1-g)*hi) + round
@@ -168,23 +168,7 @@ func certify(p *Problem, policy []int, lower, upper []float64, s *Settings) (*Re
 		r.Upper[st] = max(r.Upper[st], r.Lower[st])
 		r.Gap = max(r.Gap, v[st]-r.Lower[st])
 
-		chosen := p.find(st, policy[st])
-		r.RunnerUp[st], r.Margin[st] = -1, math.NaN()
-		var tied []int
-		for k, c := range p.Choices[st] {
-			if q[st][k] <= q[st][chosen]+tie {
-				tied = append(tied, c.Action)
-			}
-			if k == chosen {
-				continue
-			}
-			if r.RunnerUp[st] < 0 || q[st][k] < r.Margin[st]+q[st][chosen] {
-				r.RunnerUp[st], r.Margin[st] = c.Action, q[st][k]-q[st][chosen]
-			}
-		}
-		if len(tied) > 1 {
-			r.Ties = append(r.Ties, Tie{State: st, Actions: tied})
-		}
+		r.RunnerUp[st], r.Margin[st], r.Ties = runnerUp(p, q, tie, st, policy[st], r.Ties)
 	}
 	r.Status = Certified
 	if !(r.Gap <= s.Tol) {
@@ -241,14 +225,14 @@ func preferFirst(p *Problem, q [][]float64, tie float64, policy []int) bool {
 	return changed
 }
 
-// roundingAllowance widens proven bounds for the rounding of float64
-// arithmetic: each Q-value is a sum of at most m+1 products, each with
-// relative error below ε = 2⁻⁵², and the bound divides differences of such
-// sums by 1-γ. The allowance (m+3)·ε·(max|c| + max|v|)/(1-γ) dominates the
-// accumulated error (N. J. Higham, Accuracy and Stability of Numerical
-// Algorithms, 2nd ed., SIAM 2002, §3.1: |fl(Σ) - Σ| <= m·u·Σ|terms| to first
-// order).
-func roundingAllowance(p *Problem, v []float64) float64 {
+// roundingError bounds the float64 rounding in one application of the
+// Bellman operator at v: each Q-value is a sum of at most m+1 products, each
+// with relative error below ε = 2⁻⁵², so (m+3)·ε·(max|c| + max|v|)
+// dominates the accumulated error (N. J. Higham, Accuracy and Stability of
+// Numerical Algorithms, 2nd ed., SIAM 2002, §3.1: |fl(Σ) - Σ| <= m·u·Σ|terms|
+// to first order). The discounted bounds divide differences of such sums
+// by 1-γ, and so their allowance.
+func roundingError(p *Problem, v []float64) float64 {
 	const eps = 0x1p-52
 	m, cmax, vmax := 0, 0.0, 0.0
 	for _, cs := range p.Choices {
@@ -260,5 +244,5 @@ func roundingAllowance(p *Problem, v []float64) float64 {
 	for _, x := range v {
 		vmax = max(vmax, math.Abs(x))
 	}
-	return float64(m+3) * eps * (cmax + vmax) / (1 - p.Discount)
+	return float64(m+3) * eps * (cmax + vmax)
 }

@@ -51,7 +51,10 @@ func (a *Advice) stateLabel(s int) string {
 // not monotone otherwise. Actions are ranked by their order in the model,
 // which should list them from least to most intervention.
 func (a *Advice) Thresholds() string {
-	p, pol := a.Problem, a.Result.Policy
+	return thresholds(a.Problem.States, a.Problem.Actions, a.Result.Policy)
+}
+
+func thresholds(states, actions []string, pol []int) string {
 	type block struct{ action, first, last int }
 	var blocks []block
 	for s, act := range pol {
@@ -65,24 +68,24 @@ func (a *Advice) Thresholds() string {
 		if blocks[i].action < blocks[i-1].action {
 			parts := make([]string, len(pol))
 			for s, act := range pol {
-				parts[s] = p.States[s] + ": " + p.Actions[act]
+				parts[s] = states[s] + ": " + actions[act]
 			}
 			return "The advice is not monotone along the scale (" + strings.Join(parts, ", ") +
 				"), so no single threshold rule describes it."
 		}
 	}
 	if len(blocks) == 1 {
-		return capitalize(p.Actions[blocks[0].action]) + " in every condition."
+		return capitalize(actions[blocks[0].action]) + " in every condition."
 	}
 	parts := make([]string, len(blocks))
 	for i, b := range blocks {
 		switch {
 		case i == 0:
-			parts[i] = p.Actions[b.action] + " while " + joinOr(p.States[b.first:b.last+1])
+			parts[i] = actions[b.action] + " while " + joinOr(states[b.first:b.last+1])
 		case b.first == b.last && b.last == len(pol)-1:
-			parts[i] = p.Actions[b.action] + " when " + p.States[b.first]
+			parts[i] = actions[b.action] + " when " + states[b.first]
 		default:
-			parts[i] = p.Actions[b.action] + " from " + p.States[b.first]
+			parts[i] = actions[b.action] + " from " + states[b.first]
 		}
 	}
 	return capitalize(strings.Join(parts, "; ")) + "."

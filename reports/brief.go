@@ -24,6 +24,8 @@ type Brief struct {
 	Costs *costs.Schedule
 	// Date is printed on the brief and stamped as its creation date.
 	Date time.Time
+	// Compare, if not nil, adds a page comparing discount rates.
+	Compare *Comparison
 }
 
 // WritePDF renders the brief. The same brief and date give byte-identical
@@ -34,6 +36,9 @@ func (b *Brief) WritePDF(w io.Writer) error {
 		fmt.Sprintf("fixpoint maintenance policy brief  ·  %s  ·  %s", a.Model, b.Date.Format("2006-01-02")), b.Date)
 	b.pageAdvice(d)
 	b.pageCharts(d)
+	if b.Compare != nil {
+		b.pageCompare(d)
+	}
 	b.pageInputs(d)
 	return d.output(w)
 }
@@ -193,8 +198,58 @@ func (b *Brief) pageCharts(d *doc) {
 		}
 		d.lineChart(marginX, y, contentW, 58,
 			fmt.Sprintf("Survival: probability that a unit starting %s has not yet reached %s", a.Problem.States[0], a.targetName()),
-			"years", "probability", xs, curves, 1, func(v float64) string { return Fixed(v, 1) })
+			"years", "probability", xs, curves, 0, 1, func(v float64) string { return Fixed(v, 1) }, nil, nil)
 	}
+}
+
+func (b *Brief) pageCompare(d *doc) {
+	c := b.Compare
+	cmp := c.Compare
+	p := d.pdf
+	p.AddPage()
+	d.font("B", 12, ink)
+	p.MultiCell(contentW, 6, "Does the advice depend on the discount rate?", "", "L", false)
+	p.Ln(1)
+	kind := "Rates are real (constant prices)."
+	if c.HasInflation {
+		kind = fmt.Sprintf("Rates were given as nominal and converted to real at %s inflation by the Fisher relation.", Percent(c.Inflation, 2))
+	}
+	d.paragraph("Advice per condition and equivalent annual cost (EAC) of a unit starting " + c.States[0] +
+		" at each rate compared. " + kind + " At rate 0 the EAC is the long-run average cost per year.")
+	t := pdfTable{header: append(append([]string{"Rate"}, c.States...), "EAC ("+c.Currency+"/yr)")}
+	t.widths = append(append([]float64{16}, slices.Repeat([]float64{16}, len(c.States))...), 18)
+	t.right = append([]bool{true}, append(slices.Repeat([]bool{false}, len(c.States)), true)...)
+	for _, r := range cmp.Rows {
+		row := []string{c.rateText(r.Rate, 2)}
+		for _, a := range r.Policy {
+			row = append(row, c.Actions[a])
+		}
+		t.rows = append(t.rows, append(row, Money(r.EquivalentAnnual, 2)))
+	}
+	d.table(t)
+	if sw := c.SwitchSentences(); len(sw) > 0 {
+		d.paragraph("Switch points (every rate in the range at which the advice changes): " + strings.Join(sw, " "))
+	} else if len(cmp.Rows) > 1 {
+		d.paragraph("The advice is the same at every rate between the smallest and the largest compared.")
+	}
+	d.paragraph(c.averageLine())
+	if len(cmp.Curve) < 2 {
+		return
+	}
+	xs := make([]float64, len(cmp.Curve))
+	ys := make([]float64, len(cmp.Curve))
+	for i, pt := range cmp.Curve {
+		xs[i], ys[i] = 100*pt.Rate, pt.EquivalentAnnual
+	}
+	var marks []float64
+	var labels []string
+	for _, sw := range cmp.Switches {
+		marks = append(marks, 100*sw.Rate)
+		labels = append(labels, fmt.Sprintf("%s: %s→%s", c.States[sw.State], c.Actions[sw.Above], c.Actions[sw.Below]))
+	}
+	d.lineChart(marginX, p.GetY()+2, contentW, 64, "Equivalent annual cost against the real discount rate (switch points dashed)",
+		"real discount rate (%)", c.Currency+" per year", xs, []series{{name: "EAC of a unit starting " + c.States[0], color: ink, values: ys}},
+		slices.Min(ys), slices.Max(ys), func(v float64) string { return Money(v, 0) }, marks, labels)
 }
 
 func (b *Brief) pageInputs(d *doc) {

@@ -61,25 +61,32 @@ type series struct {
 // frame is the plotting area of a chart with its axes.
 type frame struct {
 	x, y, w, h float64 // plotting area
-	top        float64 // value at the top of the y axis
+	base, top  float64 // values at the bottom and the top of the y axis
 }
 
-func (f frame) yAt(v float64) float64 { return f.y + f.h - v/f.top*f.h }
+func (f frame) yAt(v float64) float64 { return f.y + f.h - (v-f.base)/(f.top-f.base)*f.h }
 
 // axes draws a titled chart box with a y axis from 0 to about maxV,
 // labelled by yFormat, and returns the plotting frame.
 func (d *doc) axes(x, y, w, h float64, title, yLabel string, maxV float64, yFormat func(float64) string) frame {
+	return d.axesRange(x, y, w, h, title, yLabel, 0, maxV, yFormat)
+}
+
+// axesRange is axes with the y axis from about minV (rounded down to a
+// tick) to about maxV.
+func (d *doc) axesRange(x, y, w, h float64, title, yLabel string, minV, maxV float64, yFormat func(float64) string) frame {
 	p := d.pdf
 	d.font("B", bodySize, ink)
 	p.SetXY(x, y)
 	p.CellFormat(w, 5, title, "", 0, "L", false, 0, "")
-	step := niceStep(maxV, 5)
-	top := math.Max(step, math.Ceil(maxV/step-1e-9)*step)
-	f := frame{x: x + 20, y: y + 8, w: w - 22, h: h - 8 - 10, top: top}
+	step := niceStep(maxV-minV, 5)
+	base := math.Floor(minV/step+1e-9) * step
+	top := math.Max(base+step, math.Ceil(maxV/step-1e-9)*step)
+	f := frame{x: x + 20, y: y + 8, w: w - 22, h: h - 8 - 10, base: base, top: top}
 	d.font("", 7, muted)
 	p.SetDrawColor(215, 215, 215)
 	p.SetLineWidth(0.15)
-	for v := 0.0; v <= top+step/2; v += step {
+	for v := base; v <= top+step/2; v += step {
 		yy := f.yAt(v)
 		p.Line(f.x, yy, f.x+f.w, yy)
 		p.SetXY(x, yy-2)
@@ -170,21 +177,38 @@ func (d *doc) segment(x, y, w, h float64, s series) {
 	p.ClipEnd()
 }
 
-// lineChart draws line series over xs (in x units) with the y axis from 0
-// to yTop.
-func (d *doc) lineChart(x, y, w, h float64, title, xLabel, yLabel string, xs []float64, ss []series, yTop float64, yFormat func(float64) string) {
-	f := d.axes(x, y, w, h, title, yLabel, yTop, yFormat)
+// lineChart draws line series over xs (in x units, increasing) with the y
+// axis from yMin to yMax; marks, if any, are x positions drawn as dashed
+// vertical lines with their labels.
+func (d *doc) lineChart(x, y, w, h float64, title, xLabel, yLabel string, xs []float64, ss []series,
+	yMin, yMax float64, yFormat func(float64) string, marks []float64, markLabels []string) {
+	f := d.axesRange(x, y, w, h, title, yLabel, yMin, yMax, yFormat)
 	p := d.pdf
-	xMax := xs[len(xs)-1]
-	xAt := func(v float64) float64 { return f.x + v/xMax*f.w }
-	step := niceStep(xMax, 8)
+	xMin, xMax := xs[0], xs[len(xs)-1]
+	xAt := func(v float64) float64 { return f.x + (v-xMin)/(xMax-xMin)*f.w }
+	step := niceStep(xMax-xMin, 8)
 	var centres []float64
 	var labels []string
-	for v := 0.0; v <= xMax+step/100; v += step {
+	for v := math.Ceil(xMin/step-1e-9) * step; v <= xMax+step/100; v += step {
 		centres = append(centres, xAt(v))
 		labels = append(labels, Fixed(v, decimalsFor(step)))
 	}
 	d.xLabels(f, centres, labels, xLabel)
+	for i, m := range marks {
+		p.SetDrawColor(muted.R, muted.G, muted.B)
+		p.SetLineWidth(0.3)
+		p.SetDashPattern([]float64{0.8, 0.8}, 0)
+		p.Line(xAt(m), f.y, xAt(m), f.y+f.h)
+		p.SetDashPattern([]float64{}, 0)
+		d.font("", 6.5, ink)
+		lw := p.GetStringWidth(markLabels[i]) + 1
+		lx, align := xAt(m)+0.8, "L"
+		if lx+lw > f.x+f.w {
+			lx, align = xAt(m)-0.8-lw, "R"
+		}
+		p.SetXY(lx, f.y+0.5+3.2*float64(i%3))
+		p.CellFormat(lw, 3, markLabels[i], "", 0, align, false, 0, "")
+	}
 	for _, s := range ss {
 		p.SetDrawColor(s.color.R, s.color.G, s.color.B)
 		p.SetLineWidth(0.6)

@@ -36,6 +36,8 @@ or today: the same inputs and date give a byte-identical PDF.`,
 	f.String("from", "", "start every unit of the charts in this `state`")
 	f.String("units", "100", "number of units for the charts (`n`)")
 	f.String("years", "20", "horizon of the charts in `years`")
+	f.String("rates", "", "annual `rates` to compare on a page of their own (default: the config's discount.compare)")
+	f.String("inflation", "", "annual inflation `rate`: --rates are then nominal")
 	f.String("date", "", "date printed on the brief, `YYYY-MM-DD` (default: SOURCE_DATE_EPOCH or today)")
 	f.StringP("output", "o", "", "the PDF `file` to write (required)")
 	f.Bool("force", false, "replace the output file if it exists")
@@ -107,6 +109,15 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 		Forecast: &reports.Forecast{Model: c.Name, Currency: c.Currency, PeriodYears: c.Model.PeriodYears,
 			States: p.States, Actions: p.Actions, Discount: p.Discount, Forecast: f},
 		Model: c.Model, Costs: c.Costs, Date: date,
+	}
+	if a.str("rates") != "" || len(c.Compare) > 0 {
+		rates, inflation, hasInflation, err := a.comparisonRates(c)
+		if err != nil {
+			return err
+		}
+		if b.Compare, err = a.comparison(cmd, settings, c, p, rates, inflation, hasInflation); err != nil {
+			return err
+		}
 	}
 	if err := out.write(cmd.Context(), a.stdout, func(w io.Writer) error { return b.WritePDF(w) }); err != nil {
 		return err

@@ -64,12 +64,13 @@ func pdfPages(t *testing.T, path string) int {
 }
 
 // The brief carries the caution on every page, every state and action
-// name, and the numbers of the JSON output; it has three pages.
+// name, and the numbers of the JSON output; it has four pages (the demo
+// config asks for the discount-rate comparison page).
 func TestBriefContent(t *testing.T) {
 	path := writeBrief(t, demo)
 	text := pdfText(t, path)
-	if n := pdfPages(t, path); n != 3 {
-		t.Errorf("%d pages, want 3", n)
+	if n := pdfPages(t, path); n != 4 {
+		t.Errorf("%d pages, want 4", n)
 	}
 	pages := strings.Split(text, "\f")
 	for i, page := range pages[:len(pages)-1] {
@@ -98,7 +99,8 @@ func TestBriefContent(t *testing.T) {
 		t.Fatal(err)
 	}
 	flat := strings.Join(strings.Fields(text), " ")
-	want := []string{strings.Join(strings.Fields(doc.Thresholds), " "), reports.Fixed(doc.DiscountFactor, 6)}
+	want := []string{strings.Join(strings.Fields(doc.Thresholds), " "), reports.Fixed(doc.DiscountFactor, 6),
+		"Does the advice depend on the discount rate?", "the advice for heavy_wear changes from overhaul to service"}
 	for _, s := range doc.States {
 		want = append(want, s.State, reports.Money(s.Value, 2))
 		for a := range s.Q {

@@ -31,6 +31,14 @@ type classFile struct {
 	// Rate (per year) or Factor (per period), whichever the file gives.
 	Rate, Factor       float64
 	HasRate, HasFactor bool
+	// Average is true for criterion: average (the discount block is then
+	// optional).
+	Average bool
+	// Compare lists the annual rates of discount.compare.
+	Compare []float64
+	// CostScalar[a] is true when action a's cost is one number for every
+	// state (or omitted), false when it is a map by state.
+	CostScalar []bool
 
 	loc classLocator
 }
@@ -52,7 +60,7 @@ type classLocator struct {
 	broken [][]bool
 }
 
-var classKeys = []string{"version", "name", "currency", "period_years", "discount", "states", "actions"}
+var classKeys = []string{"version", "name", "currency", "period_years", "criterion", "discount", "states", "actions"}
 
 // loadClass reads and validates the class config at path.
 func loadClass(path string) (*classFile, error) {
@@ -126,8 +134,19 @@ func (c *classFile) decode(d *doc, root *yaml.Node) {
 			}
 		}
 	}
-	if n, ok := required("discount"); ok {
-		c.decodeDiscount(d, n)
+	if f, ok := top["criterion"]; ok {
+		switch v, _ := d.str(f.value, "criterion"); v {
+		case "average":
+			c.Average = true
+		case "discounted":
+		default:
+			d.fault(f.value, "criterion", "unknown criterion %q; want discounted (the default) or average", v)
+		}
+	}
+	if f, ok := top["discount"]; ok {
+		c.decodeDiscount(d, f.value)
+	} else if !c.Average {
+		d.fault(root, "discount", "missing required key \"discount\" (optional only with criterion: average)")
 	}
 	structural := true
 	if n, ok := required("states"); ok {
@@ -148,18 +167,30 @@ func (c *classFile) decode(d *doc, root *yaml.Node) {
 	for _, err := range unjoin(m.Validate()) {
 		c.locate(d, err)
 	}
-	if m.PeriodYears > 0 {
+	if m.PeriodYears > 0 && !c.Average {
 		c.checkDiscount(d, top["discount"].value)
 	}
 }
 
 func (c *classFile) decodeDiscount(d *doc, n *yaml.Node) {
-	f := d.mapping(n, "discount", []string{"rate", "factor"})
+	f := d.mapping(n, "discount", []string{"rate", "factor", "compare"})
+	if cf, ok := f["compare"]; ok {
+		for i, it := range d.sequence(cf.value, "discount.compare") {
+			if v, ok := d.number(it, index("discount.compare", i)); ok {
+				if v < 0 {
+					d.fault(it, index("discount.compare", i), "rate %g is negative; compare real rates >= 0", v)
+					continue
+				}
+				c.Compare = append(c.Compare, v)
+			}
+		}
+	}
 	rate, hasRate := f["rate"]
 	factor, hasFactor := f["factor"]
 	switch {
 	case hasRate && hasFactor:
 		d.fault(n, "discount", "give either rate or factor, not both")
+	case !hasRate && !hasFactor && c.Average:
 	case !hasRate && !hasFactor && d.resolve(n).Kind == yaml.MappingNode:
 		d.fault(n, "discount", "give a rate (per year, e.g. rate: 0.04) or a factor (per period, e.g. factor: 0.96)")
 	case hasRate:
@@ -193,10 +224,13 @@ func (c *classFile) checkDiscount(d *doc, n *yaml.Node) {
 
 // DiscountFactor returns gamma per period from the file's rate or factor.
 func (c *classFile) DiscountFactor() (float64, error) {
-	if c.HasFactor {
+	switch {
+	case c.HasFactor:
 		return c.Factor, nil
+	case c.HasRate:
+		return costs.DiscountFactor(c.Rate, c.Model.PeriodYears)
 	}
-	return costs.DiscountFactor(c.Rate, c.Model.PeriodYears)
+	return 0, errors.New("the config gives no discount rate or factor")
 }
 
 func (c *classFile) decodeStates(d *doc, n *yaml.Node) bool {
@@ -283,13 +317,16 @@ func (c *classFile) decodeActions(d *doc, n *yaml.Node) bool {
 		default:
 			d.fault(it, path, "missing transitions (map form) or matrix (matrix form)")
 		}
+		scalar := true
 		if cf, ok := f["cost"]; ok {
+			scalar = d.resolve(cf.value).Kind == yaml.ScalarNode
 			c.decodeCost(d, cf.value, path+".cost", act.Rows, cost)
 		} else if !act.Passive {
 			d.fault(it, path, "missing required key \"cost\" (only the passive action may omit it, meaning 0)")
 		}
 		c.Model.Actions = append(c.Model.Actions, act)
 		c.Costs.Action = append(c.Costs.Action, cost)
+		c.CostScalar = append(c.CostScalar, scalar)
 	}
 	return true
 }

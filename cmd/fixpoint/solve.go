@@ -1,10 +1,12 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"math"
 	"slices"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -30,6 +32,7 @@ Exit status 3 means the answer was written but its proven gap is above --tol.`,
 		RunE: func(cmd *cobra.Command, args []string) error { return a.solve(cmd, args[0]) },
 	}
 	addSolverFlags(cmd)
+	cmd.Flags().String("criterion", "", "`discounted` or average (default: the config's criterion, else discounted)")
 	cmd.Flags().String("target", "", "`state` whose first passage the life figures measure (default: the worst state)")
 	addOutputFlags(cmd)
 	return cmd
@@ -119,9 +122,11 @@ func (a *app) loadProblem(path string) (*classFile, *optimize.Problem, error) {
 	if err := a.discountOverride(c); err != nil {
 		return nil, nil, err
 	}
-	g, err := c.DiscountFactor()
-	if err != nil {
-		return nil, nil, &inputError{File: path, Path: "discount", Msg: err.Error()}
+	g := 0.0 // the average criterion needs none
+	if c.HasRate || c.HasFactor {
+		if g, err = c.DiscountFactor(); err != nil {
+			return nil, nil, &inputError{File: path, Path: "discount", Msg: err.Error()}
+		}
 	}
 	p, err := optimize.Build(c.Model, c.Costs, g)
 	if err != nil {
@@ -201,6 +206,13 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
+	average, err := a.averageCriterion(c)
+	if err != nil {
+		return err
+	}
+	if average {
+		return a.solveAverage(cmd, settings, c, p, format, out)
+	}
 	adv, err := a.advise(cmd, settings, c, p)
 	if err != nil {
 		return err
@@ -229,4 +241,55 @@ func uncertified(r *optimize.Result) error {
 	return &uncertifiedError{fmt.Sprintf(
 		"the answer is not certified: proven gap %.3g is above the tolerance %.3g after %d iterations; raise --max-iterations, loosen --tol or use --method policy",
 		r.Gap, r.Tol, r.Iterations)}
+}
+
+// averageCriterion resolves --criterion against the config and checks that
+// a discounted solve has a discount.
+func (a *app) averageCriterion(c *classFile) (bool, error) {
+	average := c.Average
+	switch v := a.str("criterion"); v {
+	case "":
+	case "average":
+		average = true
+	case "discounted":
+		average = false
+	default:
+		return false, usagef("setting criterion: unknown criterion %q; want discounted or average", v)
+	}
+	if !average && !c.HasRate && !c.HasFactor {
+		return false, &inputError{File: c.Path, Path: "discount",
+			Msg: "the discounted criterion needs a discount rate or factor (in the config, or --rate / --factor)"}
+	}
+	return average, nil
+}
+
+// solveAverage solves the long-run average-cost criterion and writes it.
+func (a *app) solveAverage(cmd *cobra.Command, s *optimize.Settings, c *classFile, p *optimize.Problem, format string, out output) error {
+	r, err := optimize.SolveAverage(cmd.Context(), p, s)
+	var me *optimize.MultichainError
+	if errors.As(err, &me) {
+		return &inputError{File: c.Path, Path: "criterion", Msg: strings.TrimPrefix(err.Error(), "optimize: ")}
+	}
+	if err != nil {
+		return err
+	}
+	adv := &reports.AverageAdvice{Model: c.Name, Currency: c.Currency, PeriodYears: c.Model.PeriodYears,
+		Unsafe: c.unsafe(), Problem: p, Result: r}
+	err = out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
+		switch format {
+		case "json":
+			return adv.WriteJSON(w)
+		case "csv":
+			return adv.WriteCSV(w)
+		}
+		return adv.WriteTable(w)
+	})
+	if err != nil {
+		return err
+	}
+	if r.Status != optimize.Certified {
+		return &uncertifiedError{fmt.Sprintf("the answer is not certified: the gain is proven only within [%.6g, %.6g], wider than the tolerance %.3g",
+			r.GainLower, r.GainUpper, r.Tol)}
+	}
+	return nil
 }

@@ -1,0 +1,145 @@
+package reports
+
+import (
+	"fmt"
+	"io"
+	"math"
+
+	"fixpoint/optimize"
+)
+
+// CostFigure is one cost figure of a config with the range over which it
+// can vary without changing the advice anywhere.
+type CostFigure struct {
+	// Name describes the figure ("cost of overhaul in worn"); Path is its
+	// place in the config ("actions[2].cost.worn").
+	Name, Path string
+	Value      float64
+	Range      optimize.CostRange
+}
+
+// Sensitivity is the cost sensitivity of one class's advice.
+type Sensitivity struct {
+	Model    string
+	Currency string
+	Unsafe   []bool
+	Problem  *optimize.Problem
+	Result   *optimize.Result
+	Figures  []CostFigure
+}
+
+func (s *Sensitivity) change(state, action int) string {
+	if state < 0 {
+		return "none"
+	}
+	p := s.Problem
+	return fmt.Sprintf("%s: %s -> %s", p.States[state], p.Actions[s.Result.Policy[state]], p.Actions[action])
+}
+
+func limitText(x float64) string {
+	if math.IsInf(x, 0) {
+		return "no limit"
+	}
+	return Money(x, 2)
+}
+
+// WriteTable writes the margins of every non-advised action, then the
+// range of every cost figure, then the caution.
+func (s *Sensitivity) WriteTable(w io.Writer) error {
+	p, r := s.Problem, s.Result
+	fmt.Fprintf(w, "%s: how much costs must change before the advice changes (%s)\n", s.Model, s.Currency)
+	var rows [][]string
+	for st, cs := range p.Choices {
+		k0 := -1
+		for k, c := range cs {
+			if c.Action == r.Policy[st] {
+				k0 = k
+			}
+		}
+		for k, c := range cs {
+			if k == k0 {
+				continue
+			}
+			rows = append(rows, []string{p.States[st], p.Actions[r.Policy[st]], p.Actions[c.Action], Money(r.Q[st][k]-r.Q[st][k0], 2)})
+		}
+	}
+	if err := table(w, []string{"condition", "advice", "alternative", "margin"}, []bool{false, false, false, true}, rows); err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "Margin: by how much the alternative's cost in that condition must fall before it becomes the advice there.\n\n")
+	rows = nil
+	for _, f := range s.Figures {
+		lo, hi := f.Value+f.Range.Lower, f.Value+f.Range.Upper
+		rows = append(rows, []string{f.Name, Money(f.Value, 2), limitText(lo), limitText(hi),
+			s.change(f.Range.LowerState, f.Range.LowerAction), s.change(f.Range.UpperState, f.Range.UpperAction)})
+	}
+	if err := table(w, []string{"cost figure", "now", "advice holds from", "up to", "first change below", "first change above"},
+		[]bool{false, true, true, true, false, false}, rows); err != nil {
+		return err
+	}
+	return writeLines(w, []string{
+		"Each range moves one figure alone, all others fixed; within it the advice is optimal in every condition (exact: the values move linearly while the advice is fixed).",
+		"CAUTION: " + Caution,
+	})
+}
+
+type sensitivityChange struct {
+	State string `json:"state"`
+	From  string `json:"from"`
+	To    string `json:"to"`
+}
+
+type sensitivityFigure struct {
+	Figure string             `json:"figure"`
+	Path   string             `json:"path"`
+	Value  float64            `json:"value"`
+	Lower  *float64           `json:"lower"`
+	Upper  *float64           `json:"upper"`
+	Below  *sensitivityChange `json:"below"`
+	Above  *sensitivityChange `json:"above"`
+}
+
+type sensitivityMargin struct {
+	State  string  `json:"state"`
+	Advice string  `json:"advice"`
+	Action string  `json:"action"`
+	Margin float64 `json:"margin"`
+}
+
+// WriteJSON writes {"margins": [...], "figures": [...], "caution": str};
+// a limit is null when the figure can move without limit that way.
+func (s *Sensitivity) WriteJSON(w io.Writer) error {
+	p, r := s.Problem, s.Result
+	out := struct {
+		Model    string              `json:"model"`
+		Currency string              `json:"currency"`
+		Margins  []sensitivityMargin `json:"margins"`
+		Figures  []sensitivityFigure `json:"figures"`
+		Caution  string              `json:"caution"`
+	}{Model: s.Model, Currency: s.Currency, Margins: []sensitivityMargin{}, Figures: []sensitivityFigure{}, Caution: Caution}
+	for st, cs := range p.Choices {
+		var q0 float64
+		for k, c := range cs {
+			if c.Action == r.Policy[st] {
+				q0 = r.Q[st][k]
+			}
+		}
+		for k, c := range cs {
+			if c.Action != r.Policy[st] {
+				out.Margins = append(out.Margins, sensitivityMargin{p.States[st], p.Actions[r.Policy[st]], p.Actions[c.Action], r.Q[st][k] - q0})
+			}
+		}
+	}
+	change := func(state, action int) *sensitivityChange {
+		if state < 0 {
+			return nil
+		}
+		return &sensitivityChange{p.States[state], p.Actions[r.Policy[state]], p.Actions[action]}
+	}
+	for _, f := range s.Figures {
+		out.Figures = append(out.Figures, sensitivityFigure{Figure: f.Name, Path: f.Path, Value: f.Value,
+			Lower: num(f.Value + f.Range.Lower), Upper: num(f.Value + f.Range.Upper),
+			Below: change(f.Range.LowerState, f.Range.LowerAction), Above: change(f.Range.UpperState, f.Range.UpperAction)})
+	}
+	return writeJSON(w, out)
+}
