@@ -122,7 +122,7 @@ and a competent or licensed inspector's finding overrides the advice.`,
 	}
 	root.PersistentFlags().String("settings", "", "run-time settings file (YAML, TOML or JSON; env FIXPOINT_SETTINGS)")
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &usageError{err.Error()} })
-	root.AddCommand(a.newSolve(), a.newCompare(), a.newSensitivity(), a.newForecast(), a.newBrief(), a.newCheck(), a.newInit())
+	root.AddCommand(a.newSolve(), a.newCompare(), a.newSensitivity(), a.newForecast(), a.newBrief(), a.newFit(), a.newCheck(), a.newInit())
 	return root
 }
 
@@ -174,7 +174,9 @@ func (a *app) loadSettings(cmd *cobra.Command) error {
 // allSettings lists every key a settings file may set: the flags of every
 // command, so that one settings file can serve them all.
 var allSettings = []string{"method", "tol", "format", "rate", "factor", "max-iterations", "output", "force",
-	"target", "mix", "from", "units", "years", "date", "criterion", "rates", "inflation", "points"}
+	"target", "mix", "from", "units", "years", "date", "criterion", "rates", "inflation",
+	"config", "states", "period-years", "passive", "deterioration-only", "one-step", "improvement-as-error",
+	"bootstrap", "seed", "level", "workers", "merge", "merge-min"}
 
 func settingNames(cmd *cobra.Command) []string {
 	var names []string

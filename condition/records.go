@@ -1,0 +1,275 @@
+package condition
+
+import (
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"slices"
+	"strings"
+	"time"
+)
+
+// Record is one inspection: a unit, a date and the condition found, with
+// the work done since the previous inspection of the unit ("" for none).
+type Record struct {
+	// Line is the record's line in the CSV file.
+	Line int
+	Unit string
+	// Day is the date as days since 1970-01-01.
+	Day       int
+	Condition int
+	Action    string
+}
+
+// Warning is a data problem found in the records, at a CSV line (0 when
+// it concerns several lines).
+type Warning struct {
+	Line    int
+	Message string
+}
+
+// MaxRecords bounds the records read from one file.
+const MaxRecords = 2_000_000
+
+// ReadRecords reads inspection records from CSV with a header naming at
+// least the columns unit, date and condition (any order, any case; an
+// action column is optional; other columns are ignored). Lines starting
+// with "#" are comments. Dates are ISO
+// 8601 (YYYY-MM-DD); conditions are names of states. A record with a bad
+// date, an unknown condition or no unit is reported as a Warning and left
+// out. A missing header or column, or more than MaxRecords records, is an
+// error.
+func ReadRecords(r io.Reader, states []string) ([]Record, []Warning, error) {
+	cr := csv.NewReader(r)
+	cr.FieldsPerRecord = -1
+	cr.Comment = '#'
+	cr.ReuseRecord = true
+	header, err := cr.Read()
+	if errors.Is(err, io.EOF) {
+		return nil, nil, errors.New("condition: records: the file is empty; want a header unit,date,condition[,action]")
+	}
+	if err != nil {
+		return nil, nil, fmt.Errorf("condition: records: %w", err)
+	}
+	col := map[string]int{"unit": -1, "date": -1, "condition": -1, "action": -1}
+	for i, h := range header {
+		h = strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))
+		if j, ok := col[h]; ok {
+			if j >= 0 {
+				return nil, nil, fmt.Errorf("condition: records: line 1: column %q appears twice", h)
+			}
+			col[h] = i
+		}
+	}
+	for _, name := range []string{"unit", "date", "condition"} {
+		if col[name] < 0 {
+			return nil, nil, fmt.Errorf("condition: records: line 1: the header has no %q column; want unit,date,condition[,action]", name)
+		}
+	}
+	index := make(map[string]int, len(states))
+	for i, s := range states {
+		index[s] = i
+	}
+	var (
+		out  []Record
+		warn []Warning
+	)
+	field := func(rec []string, name string) string {
+		if i := col[name]; i >= 0 && i < len(rec) {
+			return strings.TrimSpace(rec[i])
+		}
+		return ""
+	}
+	for {
+		rec, err := cr.Read()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			var pe *csv.ParseError
+			if errors.As(err, &pe) {
+				return nil, nil, fmt.Errorf("condition: records: line %d: %v", pe.Line, pe.Err)
+			}
+			return nil, nil, fmt.Errorf("condition: records: %w", err)
+		}
+		line, _ := cr.FieldPos(0)
+		if len(out) >= MaxRecords {
+			return nil, nil, fmt.Errorf("condition: records: more than %d records; split the file", MaxRecords)
+		}
+		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
+			continue
+		}
+		unit, date, cond := field(rec, "unit"), field(rec, "date"), field(rec, "condition")
+		if unit == "" {
+			warn = append(warn, Warning{line, "no unit; record left out"})
+			continue
+		}
+		day, err := parseDay(date)
+		if err != nil {
+			warn = append(warn, Warning{line, fmt.Sprintf("date %q is not YYYY-MM-DD; record left out", date)})
+			continue
+		}
+		s, ok := index[cond]
+		if !ok {
+			warn = append(warn, Warning{line, fmt.Sprintf("unknown condition %q (want one of %s); record left out", cond, strings.Join(states, ", "))})
+			continue
+		}
+		out = append(out, Record{Line: line, Unit: unit, Day: day, Condition: s, Action: field(rec, "action")})
+	}
+	return out, warn, nil
+}
+
+// parseDay parses YYYY-MM-DD strictly (years 1000..9999) into days since
+// 1970-01-01.
+func parseDay(s string) (int, error) {
+	if len(s) != 10 {
+		return 0, errors.New("bad date")
+	}
+	t, err := time.Parse("2006-01-02", s)
+	if err != nil || t.Year() < 1000 {
+		return 0, errors.New("bad date")
+	}
+	return int(t.Unix() / 86400), nil
+}
+
+// Transition is one observed interval between two inspections of a unit.
+type Transition struct {
+	Unit     int // index into Panel.Units
+	From, To int
+	Days     int
+	// End is the day of the later inspection (days since 1970-01-01).
+	End int
+	// Action is the index of the work done in the interval in the actions
+	// of BuildPanel (the passive action for none).
+	Action int
+	// Line is the CSV line of the later inspection.
+	Line int
+}
+
+// Panel is the inspection history of a population, as transitions.
+type Panel struct {
+	Units       []string
+	Transitions []Transition
+}
+
+// PanelOptions controls how records become transitions.
+type PanelOptions struct {
+	// Actions names the actions transitions may carry; Passive is the index
+	// of the one that stands for "no work recorded".
+	Actions []string
+	Passive int
+	// NewActions accepts work names not in Actions, appending them (used
+	// when there is no class config).
+	NewActions bool
+	// ImprovementIsError treats an improvement with no recorded work as an
+	// inspection error: the later reading is replaced by the earlier
+	// condition (the unit is taken to have stayed as it was).
+	ImprovementIsError bool
+}
+
+// BuildPanel turns records into transitions between consecutive
+// inspections of each unit, and reports data problems: records out of date
+// order within a unit (sorted, with a warning), repeated dates (the later
+// record left out), units with a single inspection, unknown work names,
+// and improvements with no recorded work (counted, with the units). It
+// returns the panel and the action names (extended when NewActions).
+func BuildPanel(records []Record, opts PanelOptions) (*Panel, []string, []Warning) {
+	actions := slices.Clone(opts.Actions)
+	byUnit := make(map[string][]Record)
+	var order []string
+	for _, r := range records {
+		if _, ok := byUnit[r.Unit]; !ok {
+			order = append(order, r.Unit)
+		}
+		byUnit[r.Unit] = append(byUnit[r.Unit], r)
+	}
+	p := &Panel{}
+	var warn []Warning
+	var improved []string
+	improvements, firstLines := 0, []int{}
+	for _, unit := range order {
+		recs := byUnit[unit]
+		for i := 1; i < len(recs); i++ {
+			if recs[i].Day < recs[i-1].Day {
+				warn = append(warn, Warning{recs[i].Line, fmt.Sprintf("unit %s: dates out of order (line %d is dated after this one); sorted by date", unit, recs[i-1].Line)})
+				break
+			}
+		}
+		slices.SortStableFunc(recs, func(a, b Record) int { return a.Day - b.Day })
+		kept := recs[:0:0]
+		for i, r := range recs {
+			if i > 0 && r.Day == recs[i-1].Day {
+				warn = append(warn, Warning{r.Line, fmt.Sprintf("unit %s: a second inspection on the same date as line %d; left out", unit, recs[i-1].Line)})
+				continue
+			}
+			kept = append(kept, r)
+		}
+		if len(kept) < 2 {
+			warn = append(warn, Warning{kept[0].Line, fmt.Sprintf("unit %s has a single inspection; it gives no transition", unit)})
+			continue
+		}
+		u := len(p.Units)
+		p.Units = append(p.Units, unit)
+		unitImproved := false
+		prev := kept[0].Condition
+		for i, r := range kept[1:] {
+			days := r.Day - kept[i].Day
+			a := opts.Passive
+			if r.Action != "" {
+				a = slices.Index(actions, r.Action)
+				if a < 0 && opts.NewActions {
+					actions = append(actions, r.Action)
+					a = len(actions) - 1
+				}
+				if a < 0 {
+					warn = append(warn, Warning{r.Line, fmt.Sprintf("unknown work %q (want one of %s); interval left out", r.Action, strings.Join(actions, ", "))})
+					prev = r.Condition
+					continue
+				}
+			}
+			to := r.Condition
+			if a == opts.Passive && to < prev {
+				improvements++
+				if len(firstLines) < 10 {
+					firstLines = append(firstLines, r.Line)
+				}
+				unitImproved = true
+				if opts.ImprovementIsError {
+					to = prev
+				}
+			}
+			p.Transitions = append(p.Transitions, Transition{Unit: u, From: prev, To: to, Days: days, End: r.Day, Action: a, Line: r.Line})
+			prev = to
+		}
+		if unitImproved {
+			improved = append(improved, unit)
+		}
+	}
+	if improvements > 0 {
+		what := "kept as observed (use the inspection-error option to treat them as misreadings)"
+		if opts.ImprovementIsError {
+			what = "treated as inspection errors: the unit is taken to have stayed in its earlier condition"
+		}
+		lines := make([]string, len(firstLines))
+		for i, l := range firstLines {
+			lines[i] = fmt.Sprint(l)
+		}
+		units := improved
+		more := ""
+		if len(units) > 10 {
+			units, more = units[:10], fmt.Sprintf(" and %d more", len(improved)-10)
+		}
+		warn = append(warn, Warning{0, fmt.Sprintf("%d improvements with no recorded work in %d units (%s%s; lines %s%s); %s",
+			improvements, len(improved), strings.Join(units, ", "), more, strings.Join(lines, ", "), ellipsis(improvements > 10), what)})
+	}
+	slices.SortStableFunc(warn, func(a, b Warning) int { return a.Line - b.Line })
+	return p, actions, warn
+}
+
+func ellipsis(more bool) string {
+	if more {
+		return ", ..."
+	}
+	return ""
+}

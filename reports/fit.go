@@ -1,0 +1,318 @@
+package reports
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"regexp"
+	"strconv"
+	"strings"
+
+	"fixpoint/condition"
+)
+
+// FitReport presents transition rows estimated from inspection records.
+type FitReport struct {
+	Source    string
+	States    []string
+	Unsafe    []bool
+	Passive   int
+	Fit       *condition.Fit
+	Bootstrap int
+	Seed      uint64
+	Level     float64
+	// Rough is the number of transitions below which a row is flagged as
+	// resting on too little data.
+	Rough int
+}
+
+// Rounded returns the row rounded to six decimals with the largest entry
+// adjusted so that the printed numbers sum to exactly 1.
+func Rounded(p []float64) []float64 {
+	out := make([]float64, len(p))
+	sum, big := 0.0, 0
+	for j, x := range p {
+		out[j] = math.Round(x*1e6) / 1e6
+		sum += out[j]
+		if out[j] > out[big] {
+			big = j
+		}
+	}
+	out[big] = math.Round((out[big]+1-sum)*1e6) / 1e6
+	return out
+}
+
+// Writable reports whether row s of action a may go into a class config:
+// the passive action never has a row in an unsafe state.
+func (f *FitReport) Writable(a, s int) bool {
+	return !(a == f.Passive && f.Unsafe != nil && f.Unsafe[s])
+}
+
+func (f *FitReport) level() string { return strconv.FormatFloat(100*f.Level, 'f', -1, 64) + "%" }
+
+func (f *FitReport) header() []string {
+	fit := f.Fit
+	lines := []string{fmt.Sprintf("Estimated from %s by the %s method; one period = %s.", f.Source, fit.Method, Years(fit.PeriodYears))}
+	if f.Bootstrap > 0 {
+		lines = append(lines, fmt.Sprintf("%s intervals: percentile bootstrap over units, %d replicates, seed %d.", f.level(), f.Bootstrap, f.Seed))
+	}
+	g := fit.Fit
+	pv := "n/a"
+	if !math.IsNaN(g.PValue) {
+		pv = strconv.FormatFloat(g.PValue, 'g', 3, 64)
+	}
+	lines = append(lines, fmt.Sprintf("Goodness of fit: G = %s on %d degrees of freedom, p = %s (observed against predicted counts by action, condition, interval length and half of the record).",
+		Fixed(g.Statistic, 2), g.DF, pv))
+	return lines
+}
+
+// roughNote flags a row resting on few transitions.
+func (f *FitReport) roughNote(r *condition.RowEstimate) string {
+	if r.N < f.Rough {
+		return fmt.Sprintf("ROUGH: only %d transitions", r.N)
+	}
+	return ""
+}
+
+// WriteTable writes one table per action: from-state, n, ESS, and each
+// probability with its interval; then the warnings and the caution.
+func (f *FitReport) WriteTable(w io.Writer) error {
+	fit := f.Fit
+	if err := writeLines(w, f.header()); err != nil {
+		return err
+	}
+	for a, rows := range fit.Rows {
+		header := []string{"from", "n", "ESS"}
+		numeric := []bool{false, true, true}
+		for _, s := range f.States {
+			header = append(header, s)
+			numeric = append(numeric, true)
+		}
+		header = append(header, "note")
+		numeric = append(numeric, false)
+		var body [][]string
+		for s, r := range rows {
+			if r == nil {
+				continue
+			}
+			row := []string{f.States[s], strconv.Itoa(r.N), Fixed(r.ESS, 0)}
+			for j, p := range r.P {
+				cell := Fixed(p, 3)
+				if !math.IsNaN(r.Lower[j]) {
+					cell += fmt.Sprintf(" [%s, %s]", Fixed(r.Lower[j], 3), Fixed(r.Upper[j], 3))
+				}
+				row = append(row, cell)
+			}
+			body = append(body, append(row, f.roughNote(r)))
+		}
+		if len(body) == 0 {
+			continue
+		}
+		fmt.Fprintf(w, "\nAction %s: one-period transition probabilities", fit.Actions[a])
+		if f.Bootstrap > 0 {
+			fmt.Fprintf(w, " [%s interval]", f.level())
+		}
+		fmt.Fprintln(w)
+		if err := table(w, header, numeric, body); err != nil {
+			return err
+		}
+	}
+	if fit.Generator != nil {
+		fmt.Fprintln(w, "\nGenerator of the passive action (rates per year):")
+		header := append([]string{"from"}, f.States...)
+		numeric := append([]bool{false}, make([]bool, len(f.States))...)
+		for i := range numeric[1:] {
+			numeric[i+1] = true
+		}
+		var body [][]string
+		for i, row := range fit.Generator {
+			cells := []string{f.States[i]}
+			for _, x := range row {
+				cells = append(cells, Fixed(x, 4))
+			}
+			body = append(body, cells)
+		}
+		if err := table(w, header, numeric, body); err != nil {
+			return err
+		}
+	}
+	lines := []string{}
+	if len(fit.Warnings) > 0 {
+		lines = append(lines, "", fmt.Sprintf("Data problems (%d):", len(fit.Warnings)))
+		for _, wn := range fit.Warnings {
+			lines = append(lines, warningText(wn))
+		}
+	}
+	lines = append(lines, "", "CAUTION: "+Caution)
+	return writeLines(w, lines)
+}
+
+func warningText(w condition.Warning) string {
+	if w.Line > 0 {
+		return fmt.Sprintf("line %d: %s", w.Line, w.Message)
+	}
+	return w.Message
+}
+
+type fitRowJSON struct {
+	N             int                `json:"n"`
+	ESS           float64            `json:"ess"`
+	ExposureYears float64            `json:"exposure_years"`
+	P             map[string]float64 `json:"p"`
+	Lower         map[string]float64 `json:"lower"`
+	Upper         map[string]float64 `json:"upper"`
+	Rough         bool               `json:"rough"`
+}
+
+type fitJSON struct {
+	Method      string                                `json:"method"`
+	PeriodYears float64                               `json:"period_years"`
+	Actions     map[string]map[string]map[string]*fitRowJSON `json:"actions"`
+	Generator   map[string]map[string]float64         `json:"generator"`
+	Fit         struct {
+		Statistic float64  `json:"statistic"`
+		DF        int      `json:"df"`
+		PValue    *float64 `json:"p_value"`
+	} `json:"fit"`
+	Counts    map[string]map[string]map[string]int `json:"counts"`
+	Bootstrap int                                  `json:"bootstrap"`
+	Seed      uint64                               `json:"seed"`
+	Level     float64                              `json:"level"`
+	Warnings  []fitWarning                         `json:"warnings"`
+	Caution   string                               `json:"caution"`
+}
+
+type fitWarning struct {
+	Line    int    `json:"line"`
+	Message string `json:"message"`
+}
+
+// WriteJSON writes the estimate (keys in the README); rows with no
+// records are left out; without bootstrap the interval maps are empty.
+func (f *FitReport) WriteJSON(w io.Writer) error {
+	fit := f.Fit
+	out := fitJSON{Method: fit.Method.String(), PeriodYears: fit.PeriodYears,
+		Actions: map[string]map[string]map[string]*fitRowJSON{}, Counts: map[string]map[string]map[string]int{},
+		Bootstrap: f.Bootstrap, Seed: f.Seed, Level: f.Level, Warnings: []fitWarning{}, Caution: Caution}
+	for a, rows := range fit.Rows {
+		name := fit.Actions[a]
+		for s, r := range rows {
+			if r == nil {
+				continue
+			}
+			if out.Actions[name] == nil {
+				out.Actions[name] = map[string]map[string]*fitRowJSON{"rows": {}}
+				out.Counts[name] = map[string]map[string]int{}
+			}
+			jr := &fitRowJSON{N: r.N, ESS: r.ESS, ExposureYears: r.ExposureYears, P: map[string]float64{},
+				Lower: map[string]float64{}, Upper: map[string]float64{}, Rough: r.N < f.Rough}
+			counts := map[string]int{}
+			for j, p := range r.P {
+				jr.P[f.States[j]] = p
+				if !math.IsNaN(r.Lower[j]) {
+					jr.Lower[f.States[j]], jr.Upper[f.States[j]] = r.Lower[j], r.Upper[j]
+				}
+				if c := fit.Counts[a][s][j]; c > 0 {
+					counts[f.States[j]] = c
+				}
+			}
+			out.Actions[name]["rows"][f.States[s]] = jr
+			out.Counts[name][f.States[s]] = counts
+		}
+	}
+	if fit.Generator != nil {
+		out.Generator = map[string]map[string]float64{}
+		for i, row := range fit.Generator {
+			out.Generator[f.States[i]] = map[string]float64{}
+			for j, x := range row {
+				out.Generator[f.States[i]][f.States[j]] = x
+			}
+		}
+	}
+	out.Fit.Statistic, out.Fit.DF, out.Fit.PValue = fit.Fit.Statistic, fit.Fit.DF, num(fit.Fit.PValue)
+	for _, wn := range fit.Warnings {
+		out.Warnings = append(out.Warnings, fitWarning{wn.Line, wn.Message})
+	}
+	return writeJSON(w, out)
+}
+
+var plainKey = regexp.MustCompile(`^[A-Za-z_][A-Za-z0-9_-]*$`)
+
+// YAMLKey quotes a name for YAML unless it is a plain identifier.
+func YAMLKey(s string) string {
+	if plainKey.MatchString(s) && s != "true" && s != "false" && s != "null" && s != "yes" && s != "no" {
+		return s
+	}
+	return strconv.Quote(s)
+}
+
+// FlowRow writes a row as a YAML flow mapping of its non-zero entries,
+// rounded so that they sum to exactly 1.
+func (f *FitReport) FlowRow(p []float64) string {
+	parts := []string{}
+	for j, x := range Rounded(p) {
+		if x != 0 {
+			parts = append(parts, YAMLKey(f.States[j])+": "+strconv.FormatFloat(x, 'f', -1, 64))
+		}
+	}
+	return "{" + strings.Join(parts, ", ") + "}"
+}
+
+// RowComment is the comment written after a row: counts, effective sample
+// size and interval widths.
+func (f *FitReport) RowComment(a, s int) string {
+	r := f.Fit.Rows[a][s]
+	var b strings.Builder
+	fmt.Fprintf(&b, "n=%d ESS=%s", r.N, Fixed(r.ESS, 0))
+	if f.Bootstrap > 0 {
+		var widths []string
+		for j, p := range r.P {
+			if p > 0 || r.Upper[j] > 0 {
+				widths = append(widths, fmt.Sprintf("%s %s", f.States[j], Fixed(r.Upper[j]-r.Lower[j], 3)))
+			}
+		}
+		fmt.Fprintf(&b, "; %s interval widths: %s", f.level(), strings.Join(widths, ", "))
+	}
+	if note := f.roughNote(r); note != "" {
+		b.WriteString("; " + note + ", treat as a rough guide")
+	}
+	return b.String()
+}
+
+// WriteYAML writes, for each action with records, a transitions: block in
+// map form ready to paste into a class config, with counts and interval
+// widths as comments.
+func (f *FitReport) WriteYAML(w io.Writer) error {
+	var b strings.Builder
+	for _, line := range f.header() {
+		b.WriteString("# " + line + "\n")
+	}
+	b.WriteString("# CAUTION: " + Caution + "\n")
+	for a, rows := range f.Fit.Rows {
+		any := false
+		for s, r := range rows {
+			if r == nil {
+				continue
+			}
+			if !any {
+				fmt.Fprintf(&b, "\n# action %s: paste under its entry in actions:\n", f.Fit.Actions[a])
+				b.WriteString("transitions:\n")
+				any = true
+			}
+			if !f.Writable(a, s) {
+				fmt.Fprintf(&b, "  # %s: left out: units were left alone in this unsafe state (%s); the passive action is never admissible there\n",
+					YAMLKey(f.States[s]), f.RowComment(a, s))
+				continue
+			}
+			fmt.Fprintf(&b, "  %s: %s  # %s\n", YAMLKey(f.States[s]), f.FlowRow(r.P), f.RowComment(a, s))
+		}
+	}
+	if len(f.Fit.Warnings) > 0 {
+		fmt.Fprintf(&b, "\n# Data problems (%d):\n", len(f.Fit.Warnings))
+		for _, wn := range f.Fit.Warnings {
+			b.WriteString("#   " + warningText(wn) + "\n")
+		}
+	}
+	_, err := io.WriteString(w, b.String())
+	return err
+}
