@@ -165,10 +165,10 @@ type fitRowJSON struct {
 }
 
 type fitJSON struct {
-	Method      string                                `json:"method"`
-	PeriodYears float64                               `json:"period_years"`
+	Method      string                                       `json:"method"`
+	PeriodYears float64                                      `json:"period_years"`
 	Actions     map[string]map[string]map[string]*fitRowJSON `json:"actions"`
-	Generator   map[string]map[string]float64         `json:"generator"`
+	Generator   map[string]map[string]float64                `json:"generator"`
 	Fit         struct {
 		Statistic float64  `json:"statistic"`
 		DF        int      `json:"df"`
