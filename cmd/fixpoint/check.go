@@ -7,6 +7,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"fixpoint/optimize"
 	"fixpoint/reports"
 )
 
@@ -16,7 +17,27 @@ func (a *app) newCheck() *cobra.Command {
 		Short: "Validate a class config and list every problem found",
 		Args:  exactArgs(1, "one class config file"),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			c, p, err := a.loadProblem(args[0])
+			m, err := loadModel(args[0])
+			if err != nil {
+				return err
+			}
+			if sf := m.System; sf != nil {
+				g, err := sf.DiscountFactor()
+				if err != nil {
+					return &inputError{File: sf.Path, Path: "discount", Msg: err.Error()}
+				}
+				sys := sf.system(g)
+				if err := sys.Validate(); err != nil {
+					return &inputError{File: sf.Path, Msg: err.Error()}
+				}
+				n, acts := sys.Size()
+				bytes, _ := optimize.SystemCost(sys, 2)
+				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, about %s of memory to solve\n",
+					args[0], sf.Name, len(sf.Components), reports.Money(n, 0), reports.Money(acts, 0), byteSizeText(bytes))
+				return nil
+			}
+			c := m.Class
+			p, err := a.classProblem(c)
 			if err != nil {
 				return err
 			}

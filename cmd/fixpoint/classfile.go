@@ -21,13 +21,13 @@ const (
 	maxNameLen   = 200
 )
 
-// classFile is a decoded class config: one class of equipment.
-type classFile struct {
-	Path     string
-	Name     string
-	Currency string
-	Model    *condition.Model
-	Costs    *costs.Schedule
+// fileHeader holds what class and system files share: name, currency,
+// period and discounting.
+type fileHeader struct {
+	Path        string
+	Name        string
+	Currency    string
+	PeriodYears float64
 	// Rate (per year) or Factor (per period), whichever the file gives.
 	Rate, Factor       float64
 	HasRate, HasFactor bool
@@ -36,12 +36,27 @@ type classFile struct {
 	Average bool
 	// Compare lists the annual rates of discount.compare.
 	Compare []float64
+
+	periodNode *yaml.Node
+}
+
+// classFile is a decoded class config: one class of equipment.
+type classFile struct {
+	fileHeader
+	Model *condition.Model
+	Costs *costs.Schedule
 	// CostScalar[a] is true when action a's cost is one number for every
 	// state (or omitted), false when it is a map by state.
 	CostScalar []bool
 
 	loc classLocator
+	// prefix is the field path of the model inside its file: "" for a
+	// class config, "components[2]" for a component of a system.
+	prefix string
 }
+
+// p returns the field path of key inside the model.
+func (c *classFile) p(key string) string { return join(c.prefix, key) }
 
 // classLocator remembers where each part of the model came from, so that
 // faults found by the libraries can name the file, line and field path.
@@ -60,16 +75,19 @@ type classLocator struct {
 	broken [][]bool
 }
 
-var classKeys = []string{"version", "name", "currency", "period_years", "criterion", "discount", "states", "actions"}
+var classKeys = []string{"version", "kind", "name", "currency", "period_years", "criterion", "discount", "states", "actions"}
 
-// loadClass reads and validates the class config at path.
+// loadClass reads and validates the class config at path; a system file
+// is refused with a message.
 func loadClass(path string) (*classFile, error) {
-	f, err := os.Open(path)
+	m, err := loadModel(path)
 	if err != nil {
-		return nil, &inputError{File: path, Msg: openProblem(err)}
+		return nil, err
 	}
-	defer f.Close()
-	return decodeClass(path, f)
+	if m.System != nil {
+		return nil, &inputError{File: path, Path: "kind", Msg: "this is a system file; this command works on class configs (solve and check take systems)"}
+	}
+	return m.Class, nil
 }
 
 // openProblem says why a file could not be opened, without repeating its path.
@@ -87,21 +105,31 @@ func openProblem(err error) string {
 // decodeClass decodes and validates a class config read from r; file
 // names it in errors. Every fault found is returned, joined.
 func decodeClass(file string, r io.Reader) (*classFile, error) {
-	d, root, err := parseYAML(file, r, maxFileBytes)
+	m, err := decodeModel(file, r)
 	if err != nil {
 		return nil, err
 	}
-	c := &classFile{Path: file, Name: file}
-	c.decode(d, root)
-	if err := d.err(); err != nil {
-		return nil, err
+	if m.Class == nil {
+		return nil, &inputError{File: file, Path: "kind", Msg: "want a class config, not a system"}
 	}
-	return c, nil
+	return m.Class, nil
 }
 
 func (c *classFile) decode(d *doc, root *yaml.Node) {
 	c.loc.root = root
 	top := d.mapping(root, "", classKeys)
+	c.decodeHeader(d, root, top, true)
+	c.Model = &condition.Model{PeriodYears: c.PeriodYears}
+	c.Costs = &costs.Schedule{Currency: c.Currency}
+	c.loc.period = c.periodNode
+	if c.decodeBody(d, root, top) && c.PeriodYears > 0 && !c.Average {
+		c.checkDiscount(d, top["discount"].value)
+	}
+}
+
+// decodeHeader reads version, name, currency, period_years, criterion (when
+// allowed) and discount from the top-level fields.
+func (h *fileHeader) decodeHeader(d *doc, root *yaml.Node, top map[string]field, criterion bool) {
 	required := func(key string) (*yaml.Node, bool) {
 		f, ok := top[key]
 		if !ok {
@@ -116,63 +144,66 @@ func (c *classFile) decode(d *doc, root *yaml.Node) {
 	}
 	if f, ok := top["name"]; ok {
 		if s, ok := d.str(f.value, "name"); ok {
-			c.Name = s
+			h.Name = s
 		}
 	}
 	if n, ok := required("currency"); ok {
-		c.Currency, _ = d.name(n, "currency")
+		h.Currency, _ = d.name(n, "currency")
 	}
-	m := &condition.Model{}
-	c.Model = m
-	c.Costs = &costs.Schedule{Currency: c.Currency}
 	if n, ok := required("period_years"); ok {
-		c.loc.period = n
+		h.periodNode = n
 		if v, ok := d.number(n, "period_years"); ok {
-			m.PeriodYears = v
+			h.PeriodYears = v
 			if v <= 0 {
 				d.fault(n, "period_years", "period is %g years; want a number > 0", v)
 			}
 		}
 	}
-	if f, ok := top["criterion"]; ok {
+	if f, ok := top["criterion"]; ok && criterion {
 		switch v, _ := d.str(f.value, "criterion"); v {
 		case "average":
-			c.Average = true
+			h.Average = true
 		case "discounted":
 		default:
 			d.fault(f.value, "criterion", "unknown criterion %q; want discounted (the default) or average", v)
 		}
 	}
 	if f, ok := top["discount"]; ok {
-		c.decodeDiscount(d, f.value)
-	} else if !c.Average {
+		h.decodeDiscount(d, f.value)
+	} else if !h.Average {
 		d.fault(root, "discount", "missing required key \"discount\" (optional only with criterion: average)")
-	}
-	structural := true
-	if n, ok := required("states"); ok {
-		c.loc.states = n
-		structural = c.decodeStates(d, n) && structural
-	} else {
-		structural = false
-	}
-	if n, ok := required("actions"); ok {
-		c.loc.actions = n
-		structural = c.decodeActions(d, n) && structural
-	} else {
-		structural = false
-	}
-	if !structural {
-		return
-	}
-	for _, err := range unjoin(m.Validate()) {
-		c.locate(d, err)
-	}
-	if m.PeriodYears > 0 && !c.Average {
-		c.checkDiscount(d, top["discount"].value)
 	}
 }
 
-func (c *classFile) decodeDiscount(d *doc, n *yaml.Node) {
+// decodeBody reads the states and actions of a model from its fields and
+// validates the model, locating every fault; it reports whether the
+// structure was sound enough to validate.
+func (c *classFile) decodeBody(d *doc, node *yaml.Node, fields map[string]field) bool {
+	structural := true
+	if f, ok := fields["states"]; ok {
+		c.loc.states = f.value
+		structural = c.decodeStates(d, f.value) && structural
+	} else {
+		d.fault(node, c.p("states"), "missing required key \"states\"")
+		structural = false
+	}
+	if f, ok := fields["actions"]; ok {
+		c.loc.actions = f.value
+		structural = c.decodeActions(d, f.value) && structural
+	} else {
+		d.fault(node, c.p("actions"), "missing required key \"actions\"")
+		structural = false
+	}
+	if !structural {
+		return false
+	}
+	for _, err := range unjoin(c.Model.Validate()) {
+		c.locate(d, err)
+	}
+	return true
+}
+
+func (c *fileHeader) decodeDiscount(d *doc, n *yaml.Node) {
 	f := d.mapping(n, "discount", []string{"rate", "factor", "compare"})
 	if cf, ok := f["compare"]; ok {
 		for i, it := range d.sequence(cf.value, "discount.compare") {
@@ -213,42 +244,42 @@ func (c *classFile) decodeDiscount(d *doc, n *yaml.Node) {
 }
 
 // checkDiscount rejects a rate that gives no discounting.
-func (c *classFile) checkDiscount(d *doc, n *yaml.Node) {
+func (c *fileHeader) checkDiscount(d *doc, n *yaml.Node) {
 	if !c.HasRate {
 		return
 	}
-	if g, err := costs.DiscountFactor(c.Rate, c.Model.PeriodYears); err == nil && !(g < 1) {
+	if g, err := costs.DiscountFactor(c.Rate, c.PeriodYears); err == nil && !(g < 1) {
 		d.fault(n, "discount.rate", "rate %g gives a discount factor of %g; the discounted criterion needs a rate above 0", c.Rate, g)
 	}
 }
 
 // DiscountFactor returns gamma per period from the file's rate or factor.
-func (c *classFile) DiscountFactor() (float64, error) {
+func (c *fileHeader) DiscountFactor() (float64, error) {
 	switch {
 	case c.HasFactor:
 		return c.Factor, nil
 	case c.HasRate:
-		return costs.DiscountFactor(c.Rate, c.Model.PeriodYears)
+		return costs.DiscountFactor(c.Rate, c.PeriodYears)
 	}
 	return 0, errors.New("the config gives no discount rate or factor")
 }
 
 func (c *classFile) decodeStates(d *doc, n *yaml.Node) bool {
-	items := d.sequence(n, "states")
+	items := d.sequence(n, c.p("states"))
 	if items == nil {
 		if d.resolve(n).Kind == yaml.SequenceNode {
-			d.fault(n, "states", "the condition scale is empty; list the states best first")
+			d.fault(n, c.p("states"), "the condition scale is empty; list the states best first")
 		}
 		return false
 	}
 	if len(items) > maxStates {
-		d.fault(n, "states", "%d states, over the limit of %d", len(items), maxStates)
+		d.fault(n, c.p("states"), "%d states, over the limit of %d", len(items), maxStates)
 		return false
 	}
 	m := c.Model
 	c.Costs.Running = make([]float64, len(items))
 	for i, it := range items {
-		path := index("states", i)
+		path := index(c.p("states"), i)
 		c.loc.stateNode = append(c.loc.stateNode, it)
 		st := condition.State{}
 		if r := d.resolve(it); r.Kind == yaml.ScalarNode {
@@ -274,20 +305,20 @@ func (c *classFile) decodeStates(d *doc, n *yaml.Node) bool {
 }
 
 func (c *classFile) decodeActions(d *doc, n *yaml.Node) bool {
-	items := d.sequence(n, "actions")
+	items := d.sequence(n, c.p("actions"))
 	if items == nil {
 		if d.resolve(n).Kind == yaml.SequenceNode {
-			d.fault(n, "actions", "there are no actions; list at least one")
+			d.fault(n, c.p("actions"), "there are no actions; list at least one")
 		}
 		return false
 	}
 	if len(items) > maxActions {
-		d.fault(n, "actions", "%d actions, over the limit of %d", len(items), maxActions)
+		d.fault(n, c.p("actions"), "%d actions, over the limit of %d", len(items), maxActions)
 		return false
 	}
 	ns := len(c.Model.States)
 	for a, it := range items {
-		path := index("actions", a)
+		path := index(c.p("actions"), a)
 		c.loc.actionNode = append(c.loc.actionNode, it)
 		c.loc.actionPath = append(c.loc.actionPath, path)
 		c.loc.rowPath = append(c.loc.rowPath, make([]string, ns))
@@ -457,11 +488,11 @@ func (c *classFile) locate(d *doc, err error) {
 	case f.Field == "period_years":
 		node, path = l.period, "period_years"
 	case f.Field == "states":
-		node, path = l.states, "states"
+		node, path = l.states, c.p("states")
 	case f.Field == "actions":
-		node, path = l.actions, "actions"
+		node, path = l.actions, c.p("actions")
 	case f.Action < 0 && f.State >= 0:
-		node, path = l.stateNode[f.State], index("states", f.State)
+		node, path = l.stateNode[f.State], index(c.p("states"), f.State)
 		if f.Field == "name" {
 			path += ".name"
 		}

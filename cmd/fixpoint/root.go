@@ -176,7 +176,7 @@ func (a *app) loadSettings(cmd *cobra.Command) error {
 var allSettings = []string{"method", "tol", "format", "rate", "factor", "max-iterations", "output", "force",
 	"target", "mix", "from", "units", "years", "date", "criterion", "rates", "inflation",
 	"config", "states", "period-years", "passive", "deterioration-only", "one-step", "improvement-as-error",
-	"bootstrap", "seed", "level", "workers", "merge", "merge-min"}
+	"bootstrap", "seed", "level", "workers", "merge", "merge-min", "max-memory-gib"}
 
 func settingNames(cmd *cobra.Command) []string {
 	var names []string

@@ -32,6 +32,8 @@ Exit status 3 means the answer was written but its proven gap is above --tol.`,
 		RunE: func(cmd *cobra.Command, args []string) error { return a.solve(cmd, args[0]) },
 	}
 	addSolverFlags(cmd)
+	cmd.Flags().String("workers", "0", "goroutines for a system's joint solve; 0 = all cores (`n`)")
+	cmd.Flags().String("max-memory-gib", "4", "refuse joint models needing more memory than this (`GiB`)")
 	cmd.Flags().String("criterion", "", "`discounted` or average (default: the config's criterion, else discounted)")
 	cmd.Flags().String("target", "", "`state` whose first passage the life figures measure (default: the worst state)")
 	addOutputFlags(cmd)
@@ -83,8 +85,9 @@ func (a *app) solverSettings() (*optimize.Settings, error) {
 	return &optimize.Settings{Method: m, Tol: tol, MaxIterations: maxIt}, nil
 }
 
-// discountOverride applies --rate or --factor to the class, if given.
-func (a *app) discountOverride(c *classFile) error {
+// discountOverride applies --rate or --factor to the file's discount, if
+// given.
+func (a *app) discountOverride(c *fileHeader) error {
 	rate, factor := a.str("rate"), a.str("factor")
 	switch {
 	case rate != "" && factor != "":
@@ -94,7 +97,7 @@ func (a *app) discountOverride(c *classFile) error {
 		if err != nil {
 			return err
 		}
-		g, err := costs.DiscountFactor(r, c.Model.PeriodYears)
+		g, err := costs.DiscountFactor(r, c.PeriodYears)
 		if err != nil || !(g < 1) {
 			return usagef("setting rate: %g is not a discount rate above 0", r)
 		}
@@ -119,20 +122,29 @@ func (a *app) loadProblem(path string) (*classFile, *optimize.Problem, error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	if err := a.discountOverride(c); err != nil {
-		return nil, nil, err
+	p, err := a.classProblem(c)
+	return c, p, err
+}
+
+// classProblem applies the discount override to a class and builds its
+// Problem.
+func (a *app) classProblem(c *classFile) (*optimize.Problem, error) {
+	path := c.Path
+	if err := a.discountOverride(&c.fileHeader); err != nil {
+		return nil, err
 	}
 	g := 0.0 // the average criterion needs none
 	if c.HasRate || c.HasFactor {
+		var err error
 		if g, err = c.DiscountFactor(); err != nil {
-			return nil, nil, &inputError{File: path, Path: "discount", Msg: err.Error()}
+			return nil, &inputError{File: path, Path: "discount", Msg: err.Error()}
 		}
 	}
 	p, err := optimize.Build(c.Model, c.Costs, g)
 	if err != nil {
-		return nil, nil, &inputError{File: path, Msg: err.Error()}
+		return nil, &inputError{File: path, Msg: err.Error()}
 	}
-	return c, p, nil
+	return p, nil
 }
 
 func (c *classFile) unsafe() []bool {
@@ -202,7 +214,15 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	c, p, err := a.loadProblem(path)
+	m, err := loadModel(path)
+	if err != nil {
+		return err
+	}
+	if m.System != nil {
+		return a.solveSystem(cmd, m.System, settings, format, out)
+	}
+	c := m.Class
+	p, err := a.classProblem(c)
 	if err != nil {
 		return err
 	}

@@ -1,0 +1,104 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"math"
+
+	"github.com/spf13/cobra"
+
+	"fixpoint/costs"
+	"fixpoint/optimize"
+	"fixpoint/reports"
+)
+
+// systemOpsPerSecond is a conservative rate of the structured sweep's
+// arithmetic on one core of the development machine, used only to
+// estimate solve times for the size guard (measured by
+// BenchmarkSolveSystem).
+const systemOpsPerSecond = 3e8
+
+// sizeGuard estimates memory and time of a joint solve and refuses
+// systems whose memory exceeds the limit, with the numbers and how to
+// shrink the model.
+func (a *app) sizeGuard(sf *systemFile, sys *optimize.System, workers int) error {
+	limit, err := a.number("max-memory-gib")
+	if err != nil {
+		return err
+	}
+	n, acts := sys.Size()
+	bytes, ops := optimize.SystemCost(sys, workers)
+	if bytes <= limit*(1<<30) && n <= 5e7 && acts <= 1e6 {
+		return nil
+	}
+	// Time at 100 sweeps, a typical count with a warm start.
+	hours := 100 * ops / systemOpsPerSecond / float64(max(workers, 1)) / 3600
+	return &inputError{File: sf.Path, Path: "components", Msg: fmt.Sprintf(
+		"the joint model is too large: %s joint states and %s joint actions need about %s of memory (limit %s GiB, --max-memory-gib) and about %.1f hours per certified solve; "+
+			"shrink it: fewer components in one system (solve weakly coupled ones apart), coarser condition scales (merge neighbouring states), or fewer actions per component",
+		reports.Money(n, 0), reports.Money(acts, 0), byteSizeText(bytes), reports.Fixed(limit, 0), hours)}
+}
+
+// solveSystem solves a system file: the components alone, then jointly,
+// and writes the advice.
+func (a *app) solveSystem(cmd *cobra.Command, sf *systemFile, s *optimize.Settings, format string, out output) error {
+	if err := a.discountOverride(&sf.fileHeader); err != nil {
+		return err
+	}
+	g, err := sf.DiscountFactor()
+	if err != nil {
+		return &inputError{File: sf.Path, Path: "discount", Msg: err.Error()}
+	}
+	sys := sf.system(g)
+	if err := sys.Validate(); err != nil {
+		return &inputError{File: sf.Path, Msg: err.Error()}
+	}
+	workers, err := a.integer("workers")
+	if err != nil {
+		return err
+	}
+	if err := a.sizeGuard(sf, sys, workers); err != nil {
+		return err
+	}
+	sep, err := sys.Separate(cmd.Context())
+	if err != nil {
+		return err
+	}
+	warm := sys.SeparateStart(sep)
+	r, err := optimize.SolveSystem(cmd.Context(), sys, &optimize.SystemSettings{Tol: s.Tol, MaxSweeps: s.MaxIterations, Workers: workers, Start: warm})
+	if err != nil {
+		return err
+	}
+	pols := make([][]int, len(sep))
+	for i, res := range sep {
+		pols[i] = res.Policy
+	}
+	ev, err := sys.EvaluateProduct(cmd.Context(), pols, warm, s.Tol)
+	if err != nil {
+		return err
+	}
+	alone, groups := sys.Rules(r.Policy)
+	rate := sf.Rate
+	if !sf.HasRate {
+		rate, _ = costs.RateFromFactor(g, sf.PeriodYears)
+	}
+	view := &reports.SystemAdvice{Model: sf.Name, Currency: sf.Currency, PeriodYears: sf.PeriodYears, Rate: rate,
+		HasRate: !math.IsNaN(rate), System: sys, Result: r, Separate: ev, Alone: alone, Groups: groups}
+	err = out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
+		switch format {
+		case "json":
+			return view.WriteJSON(w)
+		case "csv":
+			return view.WriteCSV(w)
+		}
+		return view.WriteTable(w)
+	})
+	if err != nil {
+		return err
+	}
+	if r.Status != optimize.Certified {
+		return &uncertifiedError{fmt.Sprintf("the answer is not certified: proven gap %.3g is above the tolerance %.3g after %d sweeps; raise --max-iterations or loosen --tol",
+			r.Gap, r.Tol, r.Sweeps)}
+	}
+	return nil
+}

@@ -1,0 +1,546 @@
+package optimize
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"runtime"
+	"strings"
+	"sync"
+
+	"fixpoint/condition"
+	"fixpoint/costs"
+)
+
+// Component is one part of a machine: its condition model and costs.
+type Component struct {
+	Name  string
+	Model *condition.Model
+	Costs *costs.Schedule
+}
+
+// System is a machine of independently degrading components that share a
+// shutdown: any period in which at least one component gets non-passive
+// work costs Shutdown once, and any period in which some component is in
+// an unsafe state costs Down (when DownOnUnsafe).
+//
+// A joint state is the tuple of component conditions, indexed in mixed
+// radix with the first component most significant; a joint action is one
+// admissible action per component, indexed the same way over action
+// indices. Components transition independently given their actions, so
+// the transition operator of a joint action is the Kronecker product of
+// the component rows.
+type System struct {
+	Components   []Component
+	Shutdown     float64
+	Down         float64
+	DownOnUnsafe bool
+	// Discount is the discount factor per period, in (0, 1).
+	Discount float64
+}
+
+// Size returns the number of joint states and joint actions.
+func (sys *System) Size() (states, actions float64) {
+	states, actions = 1, 1
+	for _, c := range sys.Components {
+		states *= float64(len(c.Model.States))
+		actions *= float64(len(c.Model.Actions))
+	}
+	return states, actions
+}
+
+// Validate checks every component (condition model, costs, a passive
+// action), unique component names, finite shared costs and the discount.
+func (sys *System) Validate() error {
+	var errs []error
+	if len(sys.Components) == 0 {
+		errs = append(errs, errors.New("optimize: the system has no components"))
+	}
+	seen := make(map[string]bool)
+	for i, c := range sys.Components {
+		if seen[c.Name] {
+			errs = append(errs, fmt.Errorf("optimize: component %d: duplicate name %q", i, c.Name))
+		}
+		seen[c.Name] = true
+		if err := errors.Join(c.Model.Validate(), c.Costs.Validate(len(c.Model.States), len(c.Model.Actions))); err != nil {
+			errs = append(errs, fmt.Errorf("optimize: component %q: %w", c.Name, err))
+			continue
+		}
+		if c.Model.Passive() < 0 {
+			errs = append(errs, fmt.Errorf("optimize: component %q has no passive action", c.Name))
+		}
+	}
+	for _, x := range []float64{sys.Shutdown, sys.Down} {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			errs = append(errs, fmt.Errorf("optimize: shared cost %v is not finite", x))
+		}
+	}
+	if !(sys.Discount > 0 && sys.Discount < 1) {
+		errs = append(errs, fmt.Errorf("optimize: discount factor %v is not in (0, 1)", sys.Discount))
+	}
+	return errors.Join(errs...)
+}
+
+// joint holds the precomputed layout of a system.
+type joint struct {
+	sys     *System
+	k       int
+	dims    []int // states per component
+	strides []int // state strides
+	acts    []int // actions per component
+	aStride []int // action strides
+	n       int
+	nActs   int
+	passive []int
+	// base[s] = Σ running + Down·[any unsafe]; unsafe[s] marks down states.
+	base []float64
+	// acost[k][a][x] is component k's action cost, +Inf where inadmissible.
+	acost [][][]float64
+	// rows[k][a][x] is component k's row, nil where inadmissible.
+	rows [][][][]condition.Entry
+}
+
+// newJoint precomputes the layout, costs and rows of a system.
+func newJoint(sys *System) *joint {
+	j := newJointLayout(sys)
+	for _, c := range sys.Components {
+		j.passive = append(j.passive, c.Model.Passive())
+	}
+	j.acost = make([][][]float64, j.k)
+	j.rows = make([][][][]condition.Entry, j.k)
+	for i, c := range sys.Components {
+		m := c.Model
+		j.acost[i] = make([][]float64, j.acts[i])
+		j.rows[i] = make([][][]condition.Entry, j.acts[i])
+		for a := range m.Actions {
+			j.acost[i][a] = make([]float64, j.dims[i])
+			j.rows[i][a] = make([][]condition.Entry, j.dims[i])
+			for x := range m.States {
+				if !m.Actions[a].Admissible(x) || (m.Actions[a].Passive && m.States[x].Unsafe) {
+					j.acost[i][a][x] = math.Inf(1)
+					continue
+				}
+				j.acost[i][a][x] = c.Costs.Action[a][x]
+				j.rows[i][a][x] = m.Actions[a].Rows[x]
+			}
+		}
+	}
+	j.base = make([]float64, j.n)
+	for s := range j.n {
+		down := false
+		for i, c := range sys.Components {
+			x := j.coord(s, i)
+			j.base[s] += c.Costs.Running[x]
+			down = down || c.Model.States[x].Unsafe
+		}
+		if down && sys.DownOnUnsafe {
+			j.base[s] += sys.Down
+		}
+	}
+	return j
+}
+
+func (j *joint) coord(s, i int) int { return s / j.strides[i] % j.dims[i] }
+
+func (j *joint) actionOf(a, i int) int { return a / j.aStride[i] % j.acts[i] }
+
+// worked reports whether joint action a works on some component.
+func (j *joint) worked(a int) bool {
+	for i := range j.k {
+		if j.actionOf(a, i) != j.passive[i] {
+			return true
+		}
+	}
+	return false
+}
+
+// modeProduct sets out = (I ⊗ .. ⊗ P ⊗ .. ⊗ I) in along mode i with the
+// rows of component i's action a: out[l, x, r] = Σ_y P(y | x) in[l, y, r];
+// rows that are nil give zeros. O(n · nnz/dims[i]).
+func (j *joint) modeProduct(out, in []float64, i, a int) {
+	r := j.strides[i]
+	block := r * j.dims[i]
+	rows := j.rows[i][a]
+	for l := 0; l < j.n; l += block {
+		for x, row := range rows {
+			dst := out[l+x*r : l+x*r+r]
+			clear(dst)
+			for _, e := range row {
+				src := in[l+e.To*r : l+e.To*r+r]
+				p := e.P
+				for t := range dst {
+					dst[t] += p * src[t]
+				}
+			}
+		}
+	}
+}
+
+// addCost sets out = in + broadcast of component i's cost of action a.
+func (j *joint) addCost(out, in []float64, i, a int) {
+	r := j.strides[i]
+	block := r * j.dims[i]
+	cost := j.acost[i][a]
+	for l := 0; l < j.n; l += block {
+		for x, c := range cost {
+			base := l + x*r
+			for t := range r {
+				out[base+t] = in[base+t] + c
+			}
+		}
+	}
+}
+
+// sweepState is the per-worker result of a Bellman sweep: for every joint
+// state the best and second-best Q-values and their joint actions.
+type sweepState struct {
+	best, second []float64
+	arg, arg2    []int32
+	bufs, costs  [][]float64
+}
+
+func (j *joint) newSweepState() *sweepState {
+	st := &sweepState{best: make([]float64, j.n), second: make([]float64, j.n),
+		arg: make([]int32, j.n), arg2: make([]int32, j.n)}
+	for range j.k + 1 {
+		st.bufs = append(st.bufs, make([]float64, j.n))
+		st.costs = append(st.costs, make([]float64, j.n))
+	}
+	return st
+}
+
+func (st *sweepState) reset() {
+	for s := range st.best {
+		st.best[s], st.second[s] = math.Inf(1), math.Inf(1)
+		st.arg[s], st.arg2[s] = -1, -1
+	}
+}
+
+// better orders (q, a) pairs: smaller Q first, then smaller action index,
+// so that merging workers is deterministic.
+func better(q float64, a int32, bq float64, ba int32) bool {
+	return q < bq || (q == bq && a < ba)
+}
+
+func (st *sweepState) offer(s int, q float64, a int32) {
+	switch {
+	case better(q, a, st.best[s], st.arg[s]) || st.arg[s] < 0:
+		st.second[s], st.arg2[s] = st.best[s], st.arg[s]
+		st.best[s], st.arg[s] = q, a
+	case better(q, a, st.second[s], st.arg2[s]) || st.arg2[s] < 0:
+		st.second[s], st.arg2[s] = q, a
+	}
+}
+
+// descend applies components level.. to st.bufs[level] and offers every
+// completed joint action's Q-values. prefix is the joint action index so
+// far.
+func (j *joint) descend(st *sweepState, level, prefix int) {
+	if level == j.k {
+		g := j.sys.Discount
+		extra := 0.0
+		if j.worked(prefix) {
+			extra = j.sys.Shutdown
+		}
+		w, c := st.bufs[level], st.costs[level]
+		for s := range j.n {
+			if q := c[s] + extra + g*w[s]; q < math.Inf(1) {
+				st.offer(s, q, int32(prefix))
+			}
+		}
+		return
+	}
+	for a := range j.acts[level] {
+		j.modeProduct(st.bufs[level+1], st.bufs[level], level, a)
+		j.addCost(st.costs[level+1], st.costs[level], level, a)
+		j.descend(st, level+1, prefix+a*j.aStride[level])
+	}
+}
+
+// sweep computes (T v)(s) for every joint state, with the greedy joint
+// action and the runner-up, splitting the action tree over workers at its
+// first two levels. The result is in states[0].
+func (j *joint) sweep(v []float64, states []*sweepState) {
+	type task struct{ a0, a1 int }
+	var tasks []task
+	for a0 := range j.acts[0] {
+		if j.k == 1 {
+			tasks = append(tasks, task{a0, -1})
+			continue
+		}
+		for a1 := range j.acts[1] {
+			tasks = append(tasks, task{a0, a1})
+		}
+	}
+	next := make(chan task, len(tasks))
+	for _, t := range tasks {
+		next <- t
+	}
+	close(next)
+	var wg sync.WaitGroup
+	for _, st := range states {
+		st.reset()
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			copy(st.bufs[0], v)
+			copy(st.costs[0], j.base)
+			for t := range next {
+				j.modeProduct(st.bufs[1], st.bufs[0], 0, t.a0)
+				j.addCost(st.costs[1], st.costs[0], 0, t.a0)
+				if t.a1 < 0 {
+					j.descend(st, 1, t.a0*j.aStride[0])
+					continue
+				}
+				j.modeProduct(st.bufs[2], st.bufs[1], 1, t.a1)
+				j.addCost(st.costs[2], st.costs[1], 1, t.a1)
+				j.descend(st, 2, t.a0*j.aStride[0]+t.a1*j.aStride[1])
+			}
+		}()
+	}
+	wg.Wait()
+	out := states[0]
+	for _, st := range states[1:] {
+		for s := range j.n {
+			if st.arg[s] >= 0 {
+				out.offer(s, st.best[s], st.arg[s])
+			}
+			if st.arg2[s] >= 0 {
+				out.offer(s, st.second[s], st.arg2[s])
+			}
+		}
+	}
+}
+
+// SystemResult is the certified joint policy of a system.
+type SystemResult struct {
+	Status Status
+	Tol    float64
+	Sweeps int
+	// Policy[s] is the joint action index of joint state s.
+	Policy []int32
+	// Value[s] is the midpoint of the proven bracket Lower[s] <= v*(s) <=
+	// Upper[s]; the advised policy loses at most Gap against the optimum.
+	Value, Lower, Upper []float64
+	Gap                 float64
+	// Residual is max |T v - v| at the last iterate.
+	Residual float64
+	// RunnerUp and Margin are the second-best joint action and its Q-value
+	// margin at the last iterate (-1 and NaN when there is none).
+	RunnerUp []int32
+	Margin   []float64
+	Workers  int
+}
+
+// SystemSettings controls SolveSystem.
+type SystemSettings struct {
+	// Tol is the target gap in currency units; zero means DefaultTol.
+	Tol float64
+	// MaxSweeps caps value iteration; zero means DefaultValueSweeps.
+	MaxSweeps int
+	// Workers is the number of goroutines; zero means GOMAXPROCS.
+	Workers int
+	// Start, if not nil, is the first iterate (for instance the sum of the
+	// components' separate values).
+	Start []float64
+	// Progress, if not nil, is called after every sweep.
+	Progress func(Progress)
+}
+
+// SolveSystem solves the joint model by value iteration with MacQueen's
+// bounds, never forming the joint transition matrix: for each joint
+// action, P v is the Kronecker product of the component rows applied by
+// successive mode products, O(n·Σ_k nnz_k/n_k) each, and joint actions
+// share their prefixes in a depth-first walk of the action tree. A sweep
+// costs O(n · Σ_k nnz_k/n_k · Π_{j<=k} m_j) for m_j actions of component j;
+// memory is O(n·K) per worker. It stops when γ/(1-γ)·span(Tv - v) is at
+// most Tol/2 (the bounds are then widened by a rounding allowance).
+func SolveSystem(ctx context.Context, sys *System, s *SystemSettings) (*SystemResult, error) {
+	if err := sys.Validate(); err != nil {
+		return nil, err
+	}
+	var set SystemSettings
+	if s != nil {
+		set = *s
+	}
+	if set.Tol <= 0 {
+		set.Tol = DefaultTol
+	}
+	if set.MaxSweeps <= 0 {
+		set.MaxSweeps = DefaultValueSweeps
+	}
+	if set.Workers <= 0 {
+		set.Workers = runtime.GOMAXPROCS(0)
+	}
+	j := newJoint(sys)
+	set.Workers = min(set.Workers, max(1, j.acts[0]*safeActs(j, 1)))
+	states := make([]*sweepState, set.Workers)
+	for w := range states {
+		states[w] = j.newSweepState()
+	}
+	v := make([]float64, j.n)
+	if set.Start != nil {
+		copy(v, set.Start)
+	}
+	g := sys.Discount
+	r := &SystemResult{Tol: set.Tol, Workers: set.Workers}
+	for sweep := 1; ; sweep++ {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		j.sweep(v, states)
+		st := states[0]
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for s := range j.n {
+			d := st.best[s] - v[s]
+			lo, hi = min(lo, d), max(hi, d)
+		}
+		if math.IsNaN(hi-lo) || math.IsInf(hi-lo, 0) {
+			return nil, errNonFinite
+		}
+		gap := g / (1 - g) * (hi - lo)
+		if set.Progress != nil {
+			set.Progress(Progress{Method: ValueIteration, Iteration: sweep, Gap: gap})
+		}
+		// Half the tolerance: the rest is room for the rounding allowance.
+		if gap <= set.Tol/2 || sweep >= set.MaxSweeps {
+			// One more sweep at the MacQueen estimate: its greedy policy is
+			// the advice, its residual is reported, and the lower bounds
+			// of both sweeps are kept.
+			prevLower := make([]float64, j.n)
+			mid := g / (1 - g) * (lo + hi) / 2
+			for s := range j.n {
+				prevLower[s] = st.best[s] + g/(1-g)*lo
+				v[s] = st.best[s] + mid
+			}
+			j.sweep(v, states)
+			lo, hi = math.Inf(1), math.Inf(-1)
+			for s := range j.n {
+				d := st.best[s] - v[s]
+				lo, hi = min(lo, d), max(hi, d)
+			}
+			r.Sweeps = sweep + 1
+			r.finish(j, v, st, lo, hi, prevLower)
+			return r, nil
+		}
+		copy(v, st.best)
+	}
+}
+
+func safeActs(j *joint, i int) int {
+	if i < j.k {
+		return j.acts[i]
+	}
+	return 1
+}
+
+// finish fills the certificate from the last sweep; prevLower holds lower
+// bounds proven by the sweep before.
+func (r *SystemResult) finish(j *joint, v []float64, st *sweepState, lo, hi float64, prevLower []float64) {
+	g := j.sys.Discount
+	n := j.n
+	r.Policy = make([]int32, n)
+	r.Value, r.Lower, r.Upper = make([]float64, n), make([]float64, n), make([]float64, n)
+	r.RunnerUp, r.Margin = make([]int32, n), make([]float64, n)
+	cmax, vmax := 0.0, 0.0
+	for s := range n {
+		cmax = max(cmax, math.Abs(j.base[s])+math.Abs(j.sys.Shutdown))
+		vmax = max(vmax, math.Abs(st.best[s]))
+	}
+	terms := 1
+	for i := range j.k {
+		longest := 0
+		for _, rows := range j.rows[i] {
+			for _, row := range rows {
+				longest = max(longest, len(row))
+			}
+		}
+		terms *= longest
+	}
+	round := float64(terms+3*j.k) * 0x1p-52 * (cmax + vmax) / (1 - g)
+	for s := range n {
+		r.Policy[s] = st.arg[s]
+		r.Lower[s] = max(st.best[s]+g/(1-g)*lo, prevLower[s]) - round
+		r.Upper[s] = st.best[s] + g/(1-g)*hi + round
+		r.Value[s] = (r.Lower[s] + r.Upper[s]) / 2
+		r.Gap = max(r.Gap, r.Upper[s]-r.Lower[s])
+		r.Residual = max(r.Residual, math.Abs(st.best[s]-v[s]))
+		r.RunnerUp[s], r.Margin[s] = st.arg2[s], st.second[s]-st.best[s]
+		if st.arg2[s] < 0 {
+			r.Margin[s] = math.NaN()
+		}
+	}
+	r.Status = Certified
+	if !(r.Gap <= r.Tol) {
+		r.Status = NotCertified
+	}
+}
+
+// StateName writes joint state s as "motor=worn,rope=good".
+func (sys *System) StateName(s int) string {
+	j := newJointLayout(sys)
+	parts := make([]string, len(sys.Components))
+	for i, c := range sys.Components {
+		parts[i] = c.Name + "=" + c.Model.States[j.coord(s, i)].Name
+	}
+	return strings.Join(parts, ",")
+}
+
+// ActionName writes joint action a as "motor=rewind,rope=leave".
+func (sys *System) ActionName(a int) string {
+	j := newJointLayout(sys)
+	parts := make([]string, len(sys.Components))
+	for i, c := range sys.Components {
+		parts[i] = c.Name + "=" + c.Model.Actions[j.actionOf(a, i)].Name
+	}
+	return strings.Join(parts, ",")
+}
+
+// Coords returns the component conditions of joint state s, and
+// ActionCoords the component actions of joint action a.
+func (sys *System) Coords(s int) []int {
+	j := newJointLayout(sys)
+	out := make([]int, len(sys.Components))
+	for i := range out {
+		out[i] = j.coord(s, i)
+	}
+	return out
+}
+
+// ActionCoords returns the component actions of joint action a.
+func (sys *System) ActionCoords(a int) []int {
+	j := newJointLayout(sys)
+	out := make([]int, len(sys.Components))
+	for i := range out {
+		out[i] = j.actionOf(a, i)
+	}
+	return out
+}
+
+// Index returns the joint state of component conditions xs.
+func (sys *System) Index(xs []int) int {
+	j := newJointLayout(sys)
+	s := 0
+	for i, x := range xs {
+		s += x * j.strides[i]
+	}
+	return s
+}
+
+// newJointLayout computes only the strides of a system (cheap).
+func newJointLayout(sys *System) *joint {
+	j := &joint{sys: sys, k: len(sys.Components), n: 1, nActs: 1}
+	for _, c := range sys.Components {
+		j.dims = append(j.dims, len(c.Model.States))
+		j.acts = append(j.acts, len(c.Model.Actions))
+	}
+	j.strides = make([]int, j.k)
+	j.aStride = make([]int, j.k)
+	for i := j.k - 1; i >= 0; i-- {
+		j.strides[i], j.aStride[i] = j.n, j.nActs
+		j.n *= j.dims[i]
+		j.nActs *= j.acts[i]
+	}
+	return j
+}
