@@ -127,6 +127,14 @@ func (d *doc) xLabels(f frame, centres []float64, labels []string, xLabel string
 
 // stackedBars draws one bar per category, stacked by series.
 func (d *doc) stackedBars(x, y, w, h float64, title, xLabel, yLabel string, categories []string, ss []series, yFormat func(float64) string) {
+	d.stackedBarsWithLimit(x, y, w, h, title, xLabel, yLabel, categories, ss, nil, "", yFormat)
+}
+
+// stackedBarsWithLimit is stackedBars with, when limit is not nil, a
+// dashed ink mark across each bar at limit[i] (a budget), named limitName
+// in the legend.
+func (d *doc) stackedBarsWithLimit(x, y, w, h float64, title, xLabel, yLabel string, categories []string, ss []series,
+	limit []float64, limitName string, yFormat func(float64) string) {
 	maxV := 0.0
 	for i := range categories {
 		sum := 0.0
@@ -134,6 +142,9 @@ func (d *doc) stackedBars(x, y, w, h float64, title, xLabel, yLabel string, cate
 			sum += math.Max(0, s.values[i])
 		}
 		maxV = math.Max(maxV, sum)
+		if limit != nil {
+			maxV = math.Max(maxV, limit[i])
+		}
 	}
 	f := d.axes(x, y, w, h, title, yLabel, maxV, yFormat)
 	p := d.pdf
@@ -155,7 +166,18 @@ func (d *doc) stackedBars(x, y, w, h float64, title, xLabel, yLabel string, cate
 		}
 	}
 	d.xLabels(f, centres, categories, xLabel)
-	d.legend(x, y+h-1, w, ss, false)
+	if limit == nil {
+		d.legend(x, y+h-1, w, ss, false)
+		return
+	}
+	p.SetDrawColor(ink.R, ink.G, ink.B)
+	p.SetLineWidth(0.5)
+	p.SetDashPattern([]float64{1.2, 0.8}, 0)
+	for i, c := range centres {
+		p.Line(c-slot/2+0.3, f.yAt(limit[i]), c+slot/2-0.3, f.yAt(limit[i]))
+	}
+	p.SetDashPattern([]float64{}, 0)
+	d.legend(x, y+h-1, w, append(ss[:len(ss):len(ss)], series{name: limitName, color: ink, dash: true}), false)
 }
 
 // segment fills one bar segment in the series' style.
@@ -245,7 +267,7 @@ func (d *doc) legend(x, y, w float64, ss []series, lines bool) {
 		if cx+tw > x+w {
 			cx, cy = x+20, cy+4
 		}
-		if lines {
+		if lines || s.dash {
 			p.SetDrawColor(s.color.R, s.color.G, s.color.B)
 			p.SetLineWidth(0.6)
 			if s.dash {

@@ -38,6 +38,8 @@ or today: the same inputs and date give a byte-identical PDF.`,
 	f.String("years", "20", "horizon of the charts in `years`")
 	f.String("rates", "", "annual `rates` to compare on a page of their own (default: the config's discount.compare)")
 	f.String("inflation", "", "annual inflation `rate`: --rates are then nominal")
+	f.String("budget", "", "fleet files: budget per year overriding the fleet file (`amount`)")
+	f.String("gap", "0.0001", "fleet files: target relative gap of the plan (`g`)")
 	f.String("date", "", "date printed on the brief, `YYYY-MM-DD` (default: SOURCE_DATE_EPOCH or today)")
 	f.StringP("output", "o", "", "the PDF `file` to write (required)")
 	f.Bool("force", false, "replace the output file if it exists")
@@ -83,6 +85,9 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	settings, err := a.solverSettings()
 	if err != nil {
 		return err
+	}
+	if m, err := loadModel(path); err == nil && m.Fleet != nil {
+		return a.fleetBrief(cmd, path, date, out)
 	}
 	c, p, err := a.loadProblem(path)
 	if err != nil {
@@ -141,4 +146,18 @@ func (a *app) briefStart(c *classFile) ([]float64, error) {
 	start := make([]float64, len(c.Model.States))
 	start[0] = units
 	return start, nil
+}
+
+// fleetBrief prints the brief of a fleet file's budget plan.
+func (a *app) fleetBrief(cmd *cobra.Command, path string, date time.Time, out output) error {
+	if !cmd.Flags().Changed("years") && os.Getenv("FIXPOINT_YEARS") == "" {
+		a.v.Set("years", "")
+	}
+	ff, f, p, gap, err := a.fleetPlan(cmd, path)
+	if err != nil {
+		return err
+	}
+	view := &reports.PlanReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, gap)}
+	b := &reports.FleetBrief{Plan: view, Date: date}
+	return out.write(cmd.Context(), a.stdout, func(w io.Writer) error { return b.WritePDF(w) })
 }

@@ -182,3 +182,23 @@ func TestBriefRefusals(t *testing.T) {
 		t.Errorf("files left behind: %v", entries)
 	}
 }
+
+// A fleet file gives the fleet brief: bounds, spend against the budget,
+// deferred units and the mix per class, with the caution on every page.
+func TestFleetBrief(t *testing.T) {
+	path := writeBrief(t, demoFleet)
+	text := pdfText(t, path)
+	pages := strings.Split(text, "\f")
+	for i, page := range pages[:len(pages)-1] {
+		if !strings.Contains(page, "CAUTION: advisory only") {
+			t.Errorf("page %d lacks the caution", i+1)
+		}
+	}
+	flat := strings.Join(strings.Fields(text), " ")
+	for _, w := range []string{"Fleet plan under the budget", "pumps", "valves", "Work spend per year by class against the budget",
+		"Units deferred", "Expected condition mix of valves", "lower bound"} {
+		if !strings.Contains(flat, w) {
+			t.Errorf("fleet brief lacks %q", w)
+		}
+	}
+}

@@ -21,6 +21,11 @@ func (a *app) newCheck() *cobra.Command {
 			if err != nil {
 				return err
 			}
+			if ff := m.Fleet; ff != nil {
+				fmt.Fprintf(a.stdout, "%s: ok: fleet %q, %d classes, %d units, %d years of budget\n",
+					args[0], ff.Name, len(ff.Classes), ff.Units, ff.Years)
+				return nil
+			}
 			if sf := m.System; sf != nil {
 				g, err := sf.DiscountFactor()
 				if err != nil {

@@ -84,8 +84,11 @@ func loadClass(path string) (*classFile, error) {
 	if err != nil {
 		return nil, err
 	}
-	if m.System != nil {
+	switch {
+	case m.System != nil:
 		return nil, &inputError{File: path, Path: "kind", Msg: "this is a system file; this command works on class configs (solve and check take systems)"}
+	case m.Fleet != nil:
+		return nil, &inputError{File: path, Path: "kind", Msg: "this is a fleet file; this command works on class configs (plan, forecast and check take fleets)"}
 	}
 	return m.Class, nil
 }
@@ -110,7 +113,7 @@ func decodeClass(file string, r io.Reader) (*classFile, error) {
 		return nil, err
 	}
 	if m.Class == nil {
-		return nil, &inputError{File: file, Path: "kind", Msg: "want a class config, not a system"}
+		return nil, &inputError{File: file, Path: "kind", Msg: "want a class config, not a system or fleet"}
 	}
 	return m.Class, nil
 }

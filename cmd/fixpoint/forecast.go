@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"os"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -33,6 +34,12 @@ starting population with --mix (counts or shares per condition) or --from.`,
 	f.String("from", "", "start every unit in this `state` (with --units)")
 	f.String("units", "1", "number of units for --from (`n`)")
 	f.String("years", "10", "horizon in `years`; the forecast runs ceil(years / period_years) periods")
+	f.String("simulate", "0", "fleet files: Monte-Carlo `runs` of the plan (or of the advice with --follow advice)")
+	f.String("seed", "1", "seed of the Monte-Carlo (`n`)")
+	f.String("follow", "plan", "fleet files: simulate the budget plan or the unconstrained advice")
+	f.String("budget", "", "fleet files: budget per year overriding the fleet file (`amount`)")
+	f.String("gap", "0.0001", "fleet files: target relative gap of the plan (`g`)")
+	f.String("progress", "auto", "progress bar on stderr: auto (a terminal and over a second), always or never")
 	addOutputFlags(cmd)
 	return cmd
 }
@@ -118,6 +125,16 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	format, out, err := a.outputSettings(formats, path)
 	if err != nil {
 		return err
+	}
+	if m, err := loadModel(path); err == nil && m.Fleet != nil {
+		if a.str("simulate") == "0" {
+			return usagef("for a fleet file give --simulate N (or use fixpoint plan for the expected-count plan)")
+		}
+		// For a fleet, --years overrides the plan horizon only when given.
+		if !cmd.Flags().Changed("years") && os.Getenv("FIXPOINT_YEARS") == "" {
+			a.v.Set("years", "")
+		}
+		return a.simulateFleet(cmd, path, format, out)
 	}
 	settings, err := a.solverSettings()
 	if err != nil {

@@ -27,10 +27,12 @@ type systemFile struct {
 	Components     []*classFile
 }
 
-// modelFile is what a model file holds: a class config or a system.
+// modelFile is what a model file holds: a class config, a system or a
+// fleet.
 type modelFile struct {
 	Class  *classFile
 	System *systemFile
+	Fleet  *fleetFile
 }
 
 // loadModel reads a class config or, when its kind is system, a system
@@ -58,15 +60,22 @@ func decodeModel(file string, r io.Reader) (*modelFile, error) {
 			}
 		}
 	}
-	switch kind {
-	case "system":
+	switch {
+	case isFleet(root, kind):
+		ff := &fleetFile{Path: file, Name: file}
+		ff.decode(d, root)
+		if err := d.err(); err != nil {
+			return nil, err
+		}
+		return &modelFile{Fleet: ff}, nil
+	case kind == "system":
 		s := &systemFile{fileHeader: fileHeader{Path: file, Name: file}}
 		s.decode(d, root)
 		if err := d.err(); err != nil {
 			return nil, err
 		}
 		return &modelFile{System: s}, nil
-	case "", "class":
+	case kind == "" || kind == "class":
 		c := &classFile{fileHeader: fileHeader{Path: file, Name: file}}
 		c.decode(d, root)
 		if err := d.err(); err != nil {
@@ -74,7 +83,7 @@ func decodeModel(file string, r io.Reader) (*modelFile, error) {
 		}
 		return &modelFile{Class: c}, nil
 	}
-	d.fault(root, "kind", "unknown kind %q; want class (the default) or system", kind)
+	d.fault(root, "kind", "unknown kind %q; want class (the default), system or fleet", kind)
 	return nil, d.err()
 }
 

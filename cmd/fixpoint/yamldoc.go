@@ -105,10 +105,20 @@ func (d *doc) fault(n *yaml.Node, path, format string, args ...any) {
 	d.faults = append(d.faults, e)
 }
 
-// err returns every fault recorded, sorted by line, or nil.
+// err returns every fault recorded, this file's sorted by line and those
+// of other files (a fleet's class files, its inventory) after them, or nil.
 func (d *doc) err() error {
+	key := func(e error) (int, int) {
+		var ie *inputError
+		if errors.As(e, &ie) && ie.File == d.file {
+			return 0, ie.Line
+		}
+		return 1, 0
+	}
 	sort.SliceStable(d.faults, func(i, j int) bool {
-		return d.faults[i].(*inputError).Line < d.faults[j].(*inputError).Line
+		fi, li := key(d.faults[i])
+		fj, lj := key(d.faults[j])
+		return fi < fj || fi == fj && li < lj
 	})
 	return errors.Join(d.faults...)
 }

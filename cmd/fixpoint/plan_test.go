@@ -1,0 +1,158 @@
+package main
+
+import (
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+const demoFleet = "../../configs/east-zone.yaml"
+
+// copyFleet copies the demo fleet's files into a temporary directory and
+// applies edits (file -> old -> new).
+func copyFleet(t *testing.T, edits map[string][2]string) string {
+	t.Helper()
+	dir := t.TempDir()
+	for _, name := range []string{"east-zone.yaml", "pumps.yaml", "valves.yaml", "east-zone-inventory.csv"} {
+		data, err := os.ReadFile(filepath.Join("..", "..", "configs", name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		text := string(data)
+		if e, ok := edits[name]; ok {
+			if !strings.Contains(text, e[0]) {
+				t.Fatalf("test bug: %q not in %s", e[0], name)
+			}
+			text = strings.Replace(text, e[0], e[1], 1)
+		}
+		os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644)
+	}
+	return filepath.Join(dir, "east-zone.yaml")
+}
+
+func TestPlanJSON(t *testing.T) {
+	var doc struct {
+		LowerBound float64 `json:"lower_bound"`
+		FluidCost  float64 `json:"fluid_cost"`
+		PlanCost   float64 `json:"plan_cost"`
+		Gap        float64
+		Years      []struct {
+			Year           int
+			Budget, Spend  float64
+			Work           []struct{ Class, Condition, Action string; Units int }
+			Deferred       int
+			ExpectedCounts map[string]map[string]float64 `json:"expected_counts"`
+		}
+		Warnings []string
+	}
+	runJSON(t, &doc, "plan", demoFleet, "--format", "json")
+	if !(doc.LowerBound <= doc.FluidCost && doc.FluidCost <= doc.PlanCost*1.1) || doc.Gap > 1e-4 {
+		t.Errorf("bounds %g, %g, %g, gap %g", doc.LowerBound, doc.FluidCost, doc.PlanCost, doc.Gap)
+	}
+	if len(doc.Years) != 10 {
+		t.Fatalf("%d years", len(doc.Years))
+	}
+	for _, y := range doc.Years {
+		if y.Spend > y.Budget+1e-6 {
+			t.Errorf("year %d: spend %g above budget %g", y.Year, y.Spend, y.Budget)
+		}
+		units := 0.0
+		for _, cls := range y.ExpectedCounts {
+			for _, x := range cls {
+				units += x
+			}
+		}
+		if math.Abs(units-280) > 1e-6 {
+			t.Errorf("year %d: %g units expected, the inventory has 280", y.Year, units)
+		}
+	}
+	if len(doc.Years[0].Work) == 0 || doc.Years[0].Deferred == 0 {
+		t.Errorf("year 1: work %v, deferred %d", doc.Years[0].Work, doc.Years[0].Deferred)
+	}
+}
+
+func TestPlanBadInput(t *testing.T) {
+	for _, tc := range []struct {
+		name  string
+		edits map[string][2]string
+		want  string
+	}{
+		{"unknown class", map[string][2]string{"east-zone-inventory.csv": {",valves,", ",valvs,"}}, `east-zone-inventory.csv:`},
+		{"unknown class names line", map[string][2]string{"east-zone-inventory.csv": {",valves,", ",valvs,"}}, `unknown class "valvs"; did you mean "valves"?`},
+		{"unknown condition", map[string][2]string{"east-zone-inventory.csv": {",pumps,sound,", ",pumps,shiny,"}}, `unknown condition "shiny" for class pumps`},
+		{"duplicate unit", map[string][2]string{"east-zone-inventory.csv": {"KV-V0001,", "KV-P001,"}}, `unit "KV-P001" is listed twice (also line`},
+		{"negative budget", map[string][2]string{"east-zone.yaml": {"per_year: 60000", "per_year: -5"}}, "budget.per_year: budget -5 is negative"},
+		{"budget list length", map[string][2]string{"east-zone.yaml": {"per_year: 60000", "per_year: [1, 2, 3]"}}, "budget.per_year: 3 budgets for 10 years"},
+		{"missing class file", map[string][2]string{"east-zone.yaml": {"valves: valves.yaml", "valves: gates.yaml"}}, "gates.yaml: file not found"},
+		{"different periods", map[string][2]string{"valves.yaml": {"period_years: 1", "period_years: 0.5"}}, "have different periods"},
+		{"different discount", map[string][2]string{"valves.yaml": {"rate: 0.04", "rate: 0.05"}}, "have different discount factors"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			path := copyFleet(t, tc.edits)
+			out := filepath.Join(filepath.Dir(path), "plan.json")
+			code, stdout, stderr := runCLI(t, "plan", path, "-o", out)
+			if code != exitInput || stdout != "" || !strings.Contains(stderr, tc.want) {
+				t.Errorf("exit %d, stdout %q, stderr:\n%s\nwant %q", code, stdout, stderr, tc.want)
+			}
+			if _, err := os.Stat(out); err == nil {
+				t.Error("an output file was written")
+			}
+		})
+	}
+}
+
+// --budget and --years override the fleet file; a zero budget leaves only
+// mandatory work and warns when it exceeds the budget.
+func TestPlanOverrides(t *testing.T) {
+	var doc struct {
+		Years []struct {
+			Budget float64
+			Work   []struct{ Class, Condition, Action string }
+		}
+		Warnings []string
+	}
+	runJSON(t, &doc, "plan", demoFleet, "--format", "json", "--budget", "0", "--years", "3")
+	if len(doc.Years) != 3 || doc.Years[0].Budget != 0 {
+		t.Fatalf("years %d, budget %g", len(doc.Years), doc.Years[0].Budget)
+	}
+	for _, y := range doc.Years {
+		for _, w := range y.Work {
+			if w.Condition != "failed" && w.Condition != "seized" {
+				t.Errorf("zero budget: %+v is not mandatory work", w)
+			}
+		}
+	}
+	if len(doc.Warnings) == 0 || !strings.Contains(doc.Warnings[0], "mandatory work in unsafe states") {
+		t.Errorf("warnings %q", doc.Warnings)
+	}
+}
+
+func TestForecastSimulate(t *testing.T) {
+	var doc struct {
+		Runs  int
+		Years []struct {
+			Spend struct{ Mean, SE, P10, P50, P90 float64 }
+			ExpectedSpend float64 `json:"expected_spend"`
+		}
+	}
+	runJSON(t, &doc, "forecast", demoFleet, "--simulate", "400", "--seed", "7", "--format", "json")
+	if doc.Runs != 400 || len(doc.Years) != 10 {
+		t.Fatalf("runs %d, years %d", doc.Runs, len(doc.Years))
+	}
+	for i, y := range doc.Years {
+		s := y.Spend
+		if !(s.P10 <= s.P50 && s.P50 <= s.P90) || math.Abs(s.Mean-y.ExpectedSpend) > 3*s.SE+1e-6 {
+			t.Errorf("year %d: spend %+v, expected %g", i+1, s, y.ExpectedSpend)
+		}
+	}
+	_, a, _ := runCLI(t, "forecast", demoFleet, "--simulate", "50", "--seed", "3", "--format", "csv")
+	_, b, _ := runCLI(t, "forecast", demoFleet, "--simulate", "50", "--seed", "3", "--format", "csv")
+	if a != b || a == "" {
+		t.Error("the same seed gave different simulations")
+	}
+	if code, _, stderr := runCLI(t, "forecast", demoFleet); code != exitUsage || !strings.Contains(stderr, "--simulate") {
+		t.Errorf("fleet forecast without --simulate: exit %d, %s", code, stderr)
+	}
+}
