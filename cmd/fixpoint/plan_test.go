@@ -39,9 +39,12 @@ func TestPlanJSON(t *testing.T) {
 		PlanCost   float64 `json:"plan_cost"`
 		Gap        float64
 		Years      []struct {
-			Year           int
-			Budget, Spend  float64
-			Work           []struct{ Class, Condition, Action string; Units int }
+			Year          int
+			Budget, Spend float64
+			Work          []struct {
+				Class, Condition, Action string
+				Units                    int
+			}
 			Deferred       int
 			ExpectedCounts map[string]map[string]float64 `json:"expected_counts"`
 		}
@@ -133,7 +136,7 @@ func TestForecastSimulate(t *testing.T) {
 	var doc struct {
 		Runs  int
 		Years []struct {
-			Spend struct{ Mean, SE, P10, P50, P90 float64 }
+			Spend         struct{ Mean, SE, P10, P50, P90 float64 }
 			ExpectedSpend float64 `json:"expected_spend"`
 		}
 	}
