@@ -1,6 +1,7 @@
 package condition
 
 import (
+	"context"
 	"math/rand/v2"
 	"testing"
 )
@@ -30,7 +31,7 @@ func BenchmarkEstimate(b *testing.B) {
 			o := FitOptions{States: 6, PeriodYears: 1, Actions: []string{"leave"}, Method: tc.method,
 				Structure: DeteriorationOnly, Bootstrap: 200, Seed: 1, Workers: 2}
 			for b.Loop() {
-				if _, err := Estimate(p, o); err != nil && tc.method == Generator {
+				if _, err := Estimate(context.Background(), p, o); err != nil && tc.method == Generator {
 					b.Fatal(err)
 				}
 			}

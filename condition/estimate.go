@@ -1,6 +1,7 @@
 package condition
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -137,7 +138,7 @@ func regular(days int, periodYears float64) bool {
 // recorded action's rows are A·exp(Q·period), with A the immediate effect
 // of the work, fitted by EM as a mixture given Q. Confidence intervals
 // come from a bootstrap over units.
-func Estimate(p *Panel, o FitOptions) (*Fit, error) {
+func Estimate(ctx context.Context, p *Panel, o FitOptions) (*Fit, error) {
 	if o.States < 1 || !(o.PeriodYears > 0) || o.Passive < 0 || o.Passive >= len(o.Actions) {
 		return nil, errors.New("condition: estimate: bad options")
 	}
@@ -188,7 +189,7 @@ func Estimate(p *Panel, o FitOptions) (*Fit, error) {
 		}
 	}
 	if o.Bootstrap > 0 {
-		if err := est.bootstrap(f, base); err != nil {
+		if err := est.bootstrap(ctx, f, base); err != nil {
 			return nil, err
 		}
 	} else {
@@ -553,7 +554,15 @@ func (e *estimator) negLogLik(theta, grad []float64, d *dayData, nObs float64) f
 		mulTransAAdd(sum, ps[(k-1)*nn:k*nn], abar, n)
 	}
 	dA := mat.NewDense(n, n, nil)
-	for gap, sm := range sums {
+	// Sum in a fixed order: map order would change the rounding from run
+	// to run.
+	gapKeys := make([]int, 0, len(sums))
+	for gap := range sums {
+		gapKeys = append(gapKeys, gap)
+	}
+	sort.Ints(gapKeys)
+	for _, gap := range gapKeys {
+		sm := sums[gap]
 		var ga mat.Dense
 		ga.Scale(float64(gap), a.T())
 		l := frechet(&ga, mat.NewDense(n, n, sm))
@@ -615,14 +624,6 @@ func mulTransAAdd(dst, a, b []float64, n int) {
 			}
 		}
 	}
-}
-
-func identity(n int) *mat.Dense {
-	m := mat.NewDense(n, n, nil)
-	for i := range n {
-		m.Set(i, i, 1)
-	}
-	return m
 }
 
 // frechet returns L(B, E), the Fréchet derivative of exp at B in the
@@ -721,7 +722,7 @@ func (e *estimator) fitEffect(ts []Transition, a int, q [][]float64) [][]float64
 
 // bootstrap resamples units with replacement, refits, and fills the
 // percentile intervals and effective sample sizes of f.
-func (e *estimator) bootstrap(f *Fit, base *model) error {
+func (e *estimator) bootstrap(ctx context.Context, f *Fit, base *model) error {
 	o := e.o
 	byUnit := make([][]Transition, len(e.panel.Units))
 	for _, t := range e.panel.Transitions {
@@ -736,6 +737,10 @@ func (e *estimator) bootstrap(f *Fit, base *model) error {
 		go func() {
 			defer wg.Done()
 			for b := range next {
+				if ctx.Err() != nil {
+					errs[b] = ctx.Err()
+					continue
+				}
 				// Each replicate has its own stream, so results do not
 				// depend on the number of workers.
 				rng := rand.New(rand.NewPCG(o.Seed, uint64(b)+1))
@@ -752,6 +757,9 @@ func (e *estimator) bootstrap(f *Fit, base *model) error {
 	}
 	close(next)
 	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return err
+	}
 	if err := errors.Join(errs...); err != nil {
 		return err
 	}
@@ -843,7 +851,20 @@ func (e *estimator) goodness(ts []Transition, m *model) GoodnessOfFit {
 		}
 	}
 	g, df := 0.0, 0
-	for k, o := range obs {
+	keys := make([]key, 0, len(obs))
+	for k := range obs {
+		keys = append(keys, k)
+	}
+	slices.SortFunc(keys, func(x, y key) int {
+		for _, d := range [][2]int{{x.a, y.a}, {x.from, y.from}, {x.bin, y.bin}, {x.half, y.half}} {
+			if d[0] != d[1] {
+				return d[0] - d[1]
+			}
+		}
+		return 0
+	})
+	for _, k := range keys {
+		o := obs[k]
 		cats := 0
 		for j := range n {
 			if exp[k][j] > 1e-12 {

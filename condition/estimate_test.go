@@ -1,6 +1,7 @@
 package condition
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"strconv"
@@ -103,7 +104,7 @@ func TestGeneratorTwoStateClosedForm(t *testing.T) {
 		}
 		p.Transitions = append(p.Transitions, Transition{From: 0, To: to, Days: 730, End: i})
 	}
-	f, err := Estimate(p, FitOptions{States: 2, PeriodYears: 1, Actions: []string{"leave"}, Method: Generator, Structure: OneStep})
+	f, err := Estimate(context.Background(), p, FitOptions{States: 2, PeriodYears: 1, Actions: []string{"leave"}, Method: Generator, Structure: OneStep})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -120,13 +121,13 @@ func TestGeneratorMatchesCountingOnRegularData(t *testing.T) {
 	rng := rand.New(rand.NewPCG(2, 2))
 	year := 365
 	p := simulatePanel(rng, trueQ, 3000, 5, func() int { return year })
-	count, err := Estimate(p, FitOptions{States: 4, PeriodYears: float64(year) / DaysPerYear, Actions: []string{"leave"}, Method: Counting})
+	count, err := Estimate(context.Background(), p, FitOptions{States: 4, PeriodYears: float64(year) / DaysPerYear, Actions: []string{"leave"}, Method: Counting})
 	if err != nil {
 		t.Fatal(err)
 	}
 	o := genOpts(4, 0)
 	o.PeriodYears = float64(year) / DaysPerYear
-	gen, err := Estimate(p, o)
+	gen, err := Estimate(context.Background(), p, o)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -158,7 +159,7 @@ func TestEstimateRecovers(t *testing.T) {
 				o := genOpts(4, 0)
 				o.Method = tc.method
 				o.PeriodYears = 365 / DaysPerYear
-				f, err := Estimate(p, o)
+				f, err := Estimate(context.Background(), p, o)
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -201,7 +202,7 @@ func TestBootstrapCoverage(t *testing.T) {
 			p := simulatePanel(rng, trueQ, 300, 5, func() int { return tc.gap(rng) })
 			o := genOpts(4, 100)
 			o.Method, o.PeriodYears, o.Seed = tc.method, period, uint64(rep)
-			f, err := Estimate(p, o)
+			f, err := Estimate(context.Background(), p, o)
 			if err != nil {
 				t.Fatal(err)
 			}

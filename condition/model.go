@@ -277,3 +277,45 @@ func Dense(rows [][]Entry, n int) [][]float64 {
 	}
 	return d
 }
+
+// Rescaled records a row that Renormalize divided by its sum.
+type Rescaled struct {
+	Action, State int
+	Sum           float64
+}
+
+// Renormalize divides by its sum every row whose sum misses 1 by more
+// than RowTolerance but by at most perEntry times its number of entries
+// (0.0005 is what rounding each entry to 3 decimals can do), provided its
+// entries are finite and non-negative. Rows further off are left for
+// Validate to report. It returns the rows it changed.
+func (m *Model) Renormalize(perEntry float64) []Rescaled {
+	var out []Rescaled
+	for a := range m.Actions {
+		for s, row := range m.Actions[a].Rows {
+			if row == nil {
+				continue
+			}
+			sum, ok := 0.0, true
+			for _, e := range row {
+				ok = ok && e.P >= 0 && !math.IsInf(e.P, 0)
+				sum += e.P
+			}
+			dev := math.Abs(sum - 1)
+			if !ok || dev <= RowTolerance || dev > perEntry*float64(len(row)) {
+				continue
+			}
+			for i := range row {
+				row[i].P /= sum
+			}
+			out = append(out, Rescaled{Action: a, State: s, Sum: sum})
+		}
+	}
+	return out
+}
+
+// RoundedLooking reports whether a row sum misses 1 by no more than
+// rounding each of k entries to 3 decimals could.
+func RoundedLooking(sum float64, k int) bool {
+	return math.Abs(sum-1) <= 0.0005*float64(k)
+}

@@ -46,6 +46,9 @@ type Result struct {
 	Gap float64
 	// Residual is the Bellman residual max_s |(T Value)(s) - Value(s)|.
 	Residual float64
+	// Rounding is the allowance for floating-point rounding included in
+	// the bounds: tolerances much below it cannot be proven.
+	Rounding float64
 	// Q[s][k] is the expected discounted cost of taking Choices[s][k] in s
 	// once and following Policy after.
 	Q [][]float64
@@ -155,6 +158,7 @@ func certify(p *Problem, policy []int, lower, upper []float64, s *Settings) (*Re
 		r.Residual = max(r.Residual, math.Abs(d))
 	}
 	round := roundingError(p, v) / (1 - g)
+	r.Rounding = round
 	for st := range n {
 		r.Lower[st] = tv[st] + g/(1-g)*lo - round
 		r.Upper[st] = min(v[st], tv[st]+g/(1-g)*hi) + round

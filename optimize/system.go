@@ -260,8 +260,9 @@ func (j *joint) descend(st *sweepState, level, prefix int) {
 
 // sweep computes (T v)(s) for every joint state, with the greedy joint
 // action and the runner-up, splitting the action tree over workers at its
-// first two levels. The result is in states[0].
-func (j *joint) sweep(v []float64, states []*sweepState) {
+// first two levels. The result is in states[0]. Workers stop between
+// subtrees when ctx is cancelled.
+func (j *joint) sweep(ctx context.Context, v []float64, states []*sweepState) error {
 	type task struct{ a0, a1 int }
 	var tasks []task
 	for a0 := range j.acts[0] {
@@ -287,6 +288,9 @@ func (j *joint) sweep(v []float64, states []*sweepState) {
 			copy(st.bufs[0], v)
 			copy(st.costs[0], j.base)
 			for t := range next {
+				if ctx.Err() != nil {
+					continue
+				}
 				j.modeProduct(st.bufs[1], st.bufs[0], 0, t.a0)
 				j.addCost(st.costs[1], st.costs[0], 0, t.a0)
 				if t.a1 < 0 {
@@ -300,6 +304,9 @@ func (j *joint) sweep(v []float64, states []*sweepState) {
 		}()
 	}
 	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return err
+	}
 	out := states[0]
 	for _, st := range states[1:] {
 		for s := range j.n {
@@ -311,6 +318,7 @@ func (j *joint) sweep(v []float64, states []*sweepState) {
 			}
 		}
 	}
+	return nil
 }
 
 // SystemResult is the certified joint policy of a system.
@@ -389,7 +397,9 @@ func SolveSystem(ctx context.Context, sys *System, s *SystemSettings) (*SystemRe
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		j.sweep(v, states)
+		if err := j.sweep(ctx, v, states); err != nil {
+			return nil, err
+		}
 		st := states[0]
 		lo, hi := math.Inf(1), math.Inf(-1)
 		for s := range j.n {
@@ -414,7 +424,9 @@ func SolveSystem(ctx context.Context, sys *System, s *SystemSettings) (*SystemRe
 				prevLower[s] = st.best[s] + g/(1-g)*lo
 				v[s] = st.best[s] + mid
 			}
-			j.sweep(v, states)
+			if err := j.sweep(ctx, v, states); err != nil {
+				return nil, err
+			}
 			lo, hi = math.Inf(1), math.Inf(-1)
 			for s := range j.n {
 				d := st.best[s] - v[s]

@@ -14,10 +14,7 @@ func BenchmarkSolveDemo(b *testing.B) {
 		b.Run(m.String(), func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
-				c, err := loadClass(demo)
-				if err != nil {
-					b.Fatal(err)
-				}
+				c := readClass(b, demo)
 				g, _ := c.DiscountFactor()
 				p, err := optimize.Build(c.Model, c.Costs, g)
 				if err != nil {

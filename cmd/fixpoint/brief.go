@@ -86,7 +86,7 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	if m, err := loadModel(path); err == nil && m.Fleet != nil {
+	if m, err := a.loadModel(path); err == nil && m.Fleet != nil {
 		return a.fleetBrief(cmd, path, date, out)
 	}
 	c, p, err := a.loadProblem(path)

@@ -17,7 +17,7 @@ func (a *app) newCheck() *cobra.Command {
 		Short: "Validate a class config and list every problem found",
 		Args:  exactArgs(1, "one class config file"),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			m, err := loadModel(args[0])
+			m, err := a.loadModel(args[0])
 			if err != nil {
 				return err
 			}

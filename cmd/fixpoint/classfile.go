@@ -79,11 +79,16 @@ var classKeys = []string{"version", "kind", "name", "currency", "period_years", 
 
 // loadClass reads and validates the class config at path; a system file
 // is refused with a message.
-func loadClass(path string) (*classFile, error) {
-	m, err := loadModel(path)
+func (a *app) loadClass(path string) (*classFile, error) {
+	m, err := a.loadModel(path)
 	if err != nil {
 		return nil, err
 	}
+	return classOnly(path, m)
+}
+
+// classOnly returns the class of a model file, refusing systems and fleets.
+func classOnly(path string, m *modelFile) (*classFile, error) {
 	switch {
 	case m.System != nil:
 		return nil, &inputError{File: path, Path: "kind", Msg: "this is a system file; this command works on class configs (solve and check take systems)"}
@@ -108,7 +113,7 @@ func openProblem(err error) string {
 // decodeClass decodes and validates a class config read from r; file
 // names it in errors. Every fault found is returned, joined.
 func decodeClass(file string, r io.Reader) (*classFile, error) {
-	m, err := decodeModel(file, r)
+	m, err := decodeModel(file, r, decodeOptions{}, nil)
 	if err != nil {
 		return nil, err
 	}
@@ -199,6 +204,12 @@ func (c *classFile) decodeBody(d *doc, node *yaml.Node, fields map[string]field)
 	}
 	if !structural {
 		return false
+	}
+	if d.opts.Renormalize {
+		for _, r := range c.Model.Renormalize(0.0005) {
+			d.note("%s: %s: row summed to %s; each entry divided by it (--renormalize)",
+				d.file, c.rowPath(r.Action, r.State), condition.FormatSum(r.Sum))
+		}
 	}
 	for _, err := range unjoin(c.Model.Validate()) {
 		c.locate(d, err)
@@ -486,6 +497,16 @@ func (c *classFile) locate(d *doc, err error) {
 	if f.Field == "sum" && l.broken[f.Action][f.State] {
 		return
 	}
+	if f.Field == "sum" {
+		row := c.Model.Actions[f.Action].Rows[f.State]
+		sum := 0.0
+		for _, e := range row {
+			sum += e.P
+		}
+		if condition.RoundedLooking(sum, len(row)) {
+			f.Problem += "; it looks rounded to 3 decimals: --renormalize divides such rows by their sum and says which"
+		}
+	}
 	node, path := l.root, ""
 	switch {
 	case f.Field == "period_years":
@@ -545,4 +566,12 @@ func sortedKeys(m map[string]field) []string {
 		return ka.Column - kb.Column
 	})
 	return keys
+}
+
+// rowPath is the field path of the row of action a in state s.
+func (c *classFile) rowPath(a, s int) string {
+	if p := c.loc.rowPath[a][s]; p != "" {
+		return p
+	}
+	return index(c.p("actions"), a)
 }

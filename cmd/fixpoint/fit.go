@@ -2,6 +2,8 @@ package main
 
 import (
 	"bytes"
+	"context"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -74,7 +76,7 @@ func (a *app) fitScale() (c *classFile, states []string, unsafe []bool, period f
 		if a.str("states") != "" || a.str("period-years") != "" {
 			return nil, nil, nil, 0, nil, 0, usagef("give either --config or --states/--period-years, not both")
 		}
-		if c, err = loadClass(path); err != nil {
+		if c, err = a.loadClass(path); err != nil {
 			return nil, nil, nil, 0, nil, 0, err
 		}
 		passive = c.Model.Passive()
@@ -160,7 +162,10 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 			opts.Method = condition.Generator
 		}
 	}
-	est, err := condition.Estimate(panel, opts)
+	est, err := condition.Estimate(cmd.Context(), panel, opts)
+	if errors.Is(err, context.Canceled) {
+		return err
+	}
 	if err != nil {
 		return &inputError{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: estimate: ")}
 	}

@@ -108,7 +108,11 @@ func (ff *fleetFile) decode(d *doc, root *yaml.Node) {
 				d.fault(f.value, join("classes", name), "the fleet file cannot be its own class")
 				continue
 			}
-			c, err := loadClass(path)
+			m, err := loadModelWith(path, d.opts, d.notes)
+			var c *classFile
+			if err == nil {
+				c, err = classOnly(path, m)
+			}
 			if err != nil {
 				// The class file's own faults name it; say where it is used.
 				d.fault(f.value, join("classes", name), "class file %s has problems (listed below)", path)

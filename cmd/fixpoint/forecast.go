@@ -126,7 +126,7 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	if m, err := loadModel(path); err == nil && m.Fleet != nil {
+	if m, err := a.loadModel(path); err == nil && m.Fleet != nil {
 		if a.str("simulate") == "0" {
 			return usagef("for a fleet file give --simulate N (or use fixpoint plan for the expected-count plan)")
 		}

@@ -44,7 +44,7 @@ func addFleetFlags(cmd *cobra.Command) {
 
 // loadFleet reads a fleet file and applies --budget and --years.
 func (a *app) loadFleet(path string) (*fleetFile, *optimize.Fleet, error) {
-	m, err := loadModel(path)
+	m, err := a.loadModel(path)
 	if err != nil {
 		return nil, nil, err
 	}

@@ -121,6 +121,7 @@ and a competent or licensed inspector's finding overrides the advice.`,
 		},
 	}
 	root.PersistentFlags().String("settings", "", "run-time settings file (YAML, TOML or JSON; env FIXPOINT_SETTINGS)")
+	root.PersistentFlags().Bool("renormalize", false, "divide rows that miss 1 only by 3-decimal rounding by their sum (each change is noted)")
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &usageError{err.Error()} })
 	root.AddCommand(a.newSolve(), a.newCompare(), a.newSensitivity(), a.newForecast(), a.newPlan(), a.newBrief(), a.newFit(), a.newCheck(), a.newInit())
 	return root
@@ -176,7 +177,7 @@ func (a *app) loadSettings(cmd *cobra.Command) error {
 var allSettings = []string{"method", "tol", "format", "rate", "factor", "max-iterations", "output", "force",
 	"target", "mix", "from", "units", "years", "date", "criterion", "rates", "inflation",
 	"config", "states", "period-years", "passive", "deterioration-only", "one-step", "improvement-as-error",
-	"bootstrap", "seed", "level", "workers", "merge", "merge-min", "max-memory-gib", "budget", "gap", "simulate", "follow", "progress"}
+	"bootstrap", "seed", "level", "workers", "merge", "merge-min", "max-memory-gib", "budget", "gap", "simulate", "follow", "progress", "renormalize"}
 
 func settingNames(cmd *cobra.Command) []string {
 	var names []string

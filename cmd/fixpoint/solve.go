@@ -118,7 +118,7 @@ func (a *app) discountOverride(c *fileHeader) error {
 // loadProblem reads a class config, applies the discount override and
 // builds its Problem.
 func (a *app) loadProblem(path string) (*classFile, *optimize.Problem, error) {
-	c, err := loadClass(path)
+	c, err := a.loadClass(path)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -214,7 +214,7 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	m, err := loadModel(path)
+	m, err := a.loadModel(path)
 	if err != nil {
 		return err
 	}
@@ -257,6 +257,11 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 func uncertified(r *optimize.Result) error {
 	if r.Status == optimize.Certified {
 		return nil
+	}
+	if r.Gap < 4*r.Rounding {
+		return &uncertifiedError{fmt.Sprintf(
+			"the answer is not certified: proven gap %.3g is above the tolerance %.3g, and %.3g of it is the allowance for floating-point rounding at these values and this discount factor; a tolerance below that cannot be proven in float64: loosen --tol",
+			r.Gap, r.Tol, r.Rounding)}
 	}
 	return &uncertifiedError{fmt.Sprintf(
 		"the answer is not certified: proven gap %.3g is above the tolerance %.3g after %d iterations; raise --max-iterations, loosen --tol or use --method policy",

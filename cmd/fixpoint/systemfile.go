@@ -35,20 +35,38 @@ type modelFile struct {
 	Fleet  *fleetFile
 }
 
-// loadModel reads a class config or, when its kind is system, a system
-// file.
-func loadModel(path string) (*modelFile, error) {
+// loadModel reads a class config, a system file or a fleet file, with the
+// run's decode options, and prints on stderr what decoding changed.
+func (a *app) loadModel(path string) (*modelFile, error) {
+	renorm, err := a.boolean("renormalize")
+	if err != nil {
+		return nil, err
+	}
+	var notes []string
+	m, err := loadModelWith(path, decodeOptions{Renormalize: renorm}, &notes)
+	for _, n := range notes {
+		fmt.Fprintln(a.stderr, "fixpoint: note: "+n)
+	}
+	return m, err
+}
+
+// loadModelWith reads a model file.
+func loadModelWith(path string, opts decodeOptions, notes *[]string) (*modelFile, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, &inputError{File: path, Msg: openProblem(err)}
 	}
 	defer f.Close()
-	return decodeModel(path, f)
+	return decodeModel(path, f, opts, notes)
 }
 
-// decodeModel decodes a class config or a system file read from r.
-func decodeModel(file string, r io.Reader) (*modelFile, error) {
-	d, root, err := parseYAML(file, r, maxFileBytes)
+// decodeModel decodes a class config, a system file or a fleet file read
+// from r.
+func decodeModel(file string, r io.Reader, opts decodeOptions, notes *[]string) (*modelFile, error) {
+	if notes == nil {
+		notes = new([]string)
+	}
+	d, root, err := parseYAML(file, r, maxFileBytes, opts, notes)
 	if err != nil {
 		return nil, err
 	}

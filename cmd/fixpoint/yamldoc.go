@@ -47,12 +47,27 @@ type doc struct {
 	file   string
 	faults []error
 	nodes  int
+	opts   decodeOptions
+	// notes collects what decoding changed (renormalized rows), for the
+	// user; shared by the files a fleet reads.
+	notes *[]string
+}
+
+// decodeOptions are the run-time choices that affect decoding.
+type decodeOptions struct {
+	// Renormalize rescales rows whose sum misses 1 only by rounding of
+	// their entries to 3 decimals.
+	Renormalize bool
+}
+
+func (d *doc) note(format string, args ...any) {
+	*d.notes = append(*d.notes, fmt.Sprintf(format, args...))
 }
 
 var yamlLine = regexp.MustCompile(`^yaml: line (\d+): (.*)$`)
 
 // parseYAML reads one YAML document of at most limit bytes from r.
-func parseYAML(file string, r io.Reader, limit int64) (*doc, *yaml.Node, error) {
+func parseYAML(file string, r io.Reader, limit int64, opts decodeOptions, notes *[]string) (*doc, *yaml.Node, error) {
 	data, err := io.ReadAll(io.LimitReader(r, limit+1))
 	if err != nil {
 		return nil, nil, &inputError{File: file, Msg: err.Error()}
@@ -78,7 +93,7 @@ func parseYAML(file string, r io.Reader, limit int64) (*doc, *yaml.Node, error) 
 	if err := dec.Decode(&extra); err == nil {
 		return nil, nil, &inputError{File: file, Line: extra.Line, Msg: "more than one YAML document; want one"}
 	}
-	d := &doc{file: file}
+	d := &doc{file: file, opts: opts, notes: notes}
 	body := &root
 	if body.Kind == yaml.DocumentNode && len(body.Content) == 1 {
 		body = body.Content[0]
