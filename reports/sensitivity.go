@@ -1,6 +1,7 @@
 package reports
 
 import (
+	"encoding/csv"
 	"fmt"
 	"io"
 	"math"
@@ -142,4 +143,40 @@ func (s *Sensitivity) WriteJSON(w io.Writer) error {
 			Below: change(f.Range.LowerState, f.Range.LowerAction), Above: change(f.Range.UpperState, f.Range.UpperAction)})
 	}
 	return writeJSON(w, out)
+}
+
+// WriteCSV writes a caution comment line, then the margins (kind
+// "margin": state, advice, action, margin) and the cost figures (kind
+// "figure": figure, path, value, lower, upper; empty when unlimited).
+func (s *Sensitivity) WriteCSV(w io.Writer) error {
+	p, r := s.Problem, s.Result
+	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
+		return err
+	}
+	cw := csv.NewWriter(w)
+	cw.Write([]string{"kind", "state_or_figure", "advice_or_path", "action_or_value", "margin_or_lower", "upper"})
+	for st, cs := range p.Choices {
+		var q0 float64
+		for k, c := range cs {
+			if c.Action == r.Policy[st] {
+				q0 = r.Q[st][k]
+			}
+		}
+		for k, c := range cs {
+			if c.Action != r.Policy[st] {
+				cw.Write([]string{"margin", p.States[st], p.Actions[r.Policy[st]], p.Actions[c.Action], Fixed(r.Q[st][k]-q0, 6), ""})
+			}
+		}
+	}
+	limit := func(x float64) string {
+		if math.IsInf(x, 0) {
+			return ""
+		}
+		return Fixed(x, 6)
+	}
+	for _, f := range s.Figures {
+		cw.Write([]string{"figure", f.Name, f.Path, Fixed(f.Value, 6), limit(f.Value + f.Range.Lower), limit(f.Value + f.Range.Upper)})
+	}
+	cw.Flush()
+	return cw.Error()
 }

@@ -135,30 +135,39 @@ func (c *classFile) decode(d *doc, root *yaml.Node) {
 	}
 }
 
-// decodeHeader reads version, name, currency, period_years, criterion (when
-// allowed) and discount from the top-level fields.
-func (h *fileHeader) decodeHeader(d *doc, root *yaml.Node, top map[string]field, criterion bool) {
-	required := func(key string) (*yaml.Node, bool) {
-		f, ok := top[key]
-		if !ok {
-			d.fault(root, key, "missing required key %q", key)
-		}
-		return f.value, ok
+// required returns the value of a required top-level key, recording a
+// fault when it is missing.
+func (d *doc) required(root *yaml.Node, top map[string]field, key string) (*yaml.Node, bool) {
+	f, ok := top[key]
+	if !ok {
+		d.fault(root, key, "missing required key %q", key)
 	}
-	if n, ok := required("version"); ok {
+	return f.value, ok
+}
+
+// decodeIdentity reads what every model file starts with: version (1),
+// an optional name (kept as given) and the currency.
+func (d *doc) decodeIdentity(root *yaml.Node, top map[string]field, name, currency *string) {
+	if n, ok := d.required(root, top, "version"); ok {
 		if v, ok := d.integer(n, "version"); ok && v != 1 {
 			d.fault(n, "version", "schema version %d is not supported; want 1", v)
 		}
 	}
 	if f, ok := top["name"]; ok {
 		if s, ok := d.str(f.value, "name"); ok {
-			h.Name = s
+			*name = s
 		}
 	}
-	if n, ok := required("currency"); ok {
-		h.Currency, _ = d.name(n, "currency")
+	if n, ok := d.required(root, top, "currency"); ok {
+		*currency, _ = d.name(n, "currency")
 	}
-	if n, ok := required("period_years"); ok {
+}
+
+// decodeHeader reads version, name, currency, period_years, criterion (when
+// allowed) and discount from the top-level fields.
+func (h *fileHeader) decodeHeader(d *doc, root *yaml.Node, top map[string]field, criterion bool) {
+	d.decodeIdentity(root, top, &h.Name, &h.Currency)
+	if n, ok := d.required(root, top, "period_years"); ok {
 		h.periodNode = n
 		if v, ok := d.number(n, "period_years"); ok {
 			h.PeriodYears = v

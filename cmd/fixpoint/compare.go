@@ -2,7 +2,6 @@ package main
 
 import (
 	"errors"
-	"io"
 	"math"
 	"slices"
 	"strings"
@@ -171,13 +170,5 @@ func (a *app) compare(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	return out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
-		switch format {
-		case "json":
-			return view.WriteJSON(w)
-		case "csv":
-			return view.WriteCSV(w)
-		}
-		return view.WriteTable(w)
-	})
+	return a.emit(cmd, out, format, view)
 }

@@ -65,26 +65,8 @@ func isFleet(root *yaml.Node, kind string) bool {
 
 func (ff *fleetFile) decode(d *doc, root *yaml.Node) {
 	top := d.mapping(root, "", fleetKeys)
-	required := func(key string) (*yaml.Node, bool) {
-		f, ok := top[key]
-		if !ok {
-			d.fault(root, key, "missing required key %q", key)
-		}
-		return f.value, ok
-	}
-	if n, ok := required("version"); ok {
-		if v, ok := d.integer(n, "version"); ok && v != 1 {
-			d.fault(n, "version", "schema version %d is not supported; want 1", v)
-		}
-	}
-	if f, ok := top["name"]; ok {
-		if s, ok := d.str(f.value, "name"); ok {
-			ff.Name = s
-		}
-	}
-	if n, ok := required("currency"); ok {
-		ff.Currency, _ = d.name(n, "currency")
-	}
+	required := func(key string) (*yaml.Node, bool) { return d.required(root, top, key) }
+	d.decodeIdentity(root, top, &ff.Name, &ff.Currency)
 	dir := filepath.Dir(ff.Path)
 	if n, ok := required("classes"); ok {
 		classes := d.mapping(n, "classes", nil)

@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"io"
 	"math"
 	"os"
 	"strings"
@@ -162,15 +161,7 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	}
 	view := &reports.Forecast{Model: c.Name, Currency: c.Currency, PeriodYears: c.Model.PeriodYears,
 		States: p.States, Actions: p.Actions, Discount: p.Discount, Forecast: f}
-	err = out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
-		switch format {
-		case "json":
-			return view.WriteJSON(w)
-		case "csv":
-			return view.WriteCSV(w)
-		}
-		return view.WriteTable(w)
-	})
+	err = a.emit(cmd, out, format, view)
 	if err != nil {
 		return err
 	}

@@ -8,7 +8,29 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+
+	"github.com/spf13/cobra"
 )
+
+// report is what every tabular result offers.
+type report interface {
+	WriteTable(io.Writer) error
+	WriteJSON(io.Writer) error
+	WriteCSV(io.Writer) error
+}
+
+// emit writes r in format ("table", "json" or "csv") to out.
+func (a *app) emit(cmd *cobra.Command, out output, format string, r report) error {
+	return out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
+		switch format {
+		case "json":
+			return r.WriteJSON(w)
+		case "csv":
+			return r.WriteCSV(w)
+		}
+		return r.WriteTable(w)
+	})
+}
 
 // output is where a command writes its result: standard output, or a file
 // that is written to a temporary file in the same directory and renamed

@@ -129,15 +129,7 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 	for _, wn := range view.Warnings {
 		a.warn(wn)
 	}
-	return out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
-		switch format {
-		case "json":
-			return view.WriteJSON(w)
-		case "csv":
-			return view.WriteCSV(w)
-		}
-		return view.WriteTable(w)
-	})
+	return a.emit(cmd, out, format, view)
 }
 
 // warn prints a warning on stderr.
@@ -172,15 +164,7 @@ func (a *app) simulateFleet(cmd *cobra.Command, path string, format string, out 
 		return err
 	}
 	view := &reports.SimulationReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Sim: sim, Follow: follow, Seed: uint64(seed)}
-	return out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
-		switch format {
-		case "json":
-			return view.WriteJSON(w)
-		case "csv":
-			return view.WriteCSV(w)
-		}
-		return view.WriteTable(w)
-	})
+	return a.emit(cmd, out, format, view)
 }
 
 // progressBar shows progress on stderr when it is a terminal, the run

@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"io"
 
 	"github.com/spf13/cobra"
 
@@ -79,7 +78,7 @@ func slicesContainsAction(cs []optimize.Choice, a int) bool {
 }
 
 func (a *app) sensitivity(cmd *cobra.Command, path string) error {
-	format, out, err := a.outputSettings([]string{"table", "json"}, path)
+	format, out, err := a.outputSettings(formats, path)
 	if err != nil {
 		return err
 	}
@@ -107,13 +106,7 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 		figs[i].Range = ranges[i]
 	}
 	view := &reports.Sensitivity{Model: c.Name, Currency: c.Currency, Unsafe: c.unsafe(), Problem: p, Result: r, Figures: figs}
-	err = out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
-		if format == "json" {
-			return view.WriteJSON(w)
-		}
-		return view.WriteTable(w)
-	})
-	if err != nil {
+	if err := a.emit(cmd, out, format, view); err != nil {
 		return err
 	}
 	return uncertified(r)

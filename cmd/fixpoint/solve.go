@@ -3,7 +3,6 @@ package main
 import (
 	"errors"
 	"fmt"
-	"io"
 	"math"
 	"slices"
 	"strings"
@@ -237,15 +236,7 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	err = out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
-		switch format {
-		case "json":
-			return adv.WriteJSON(w)
-		case "csv":
-			return adv.WriteCSV(w)
-		}
-		return adv.WriteTable(w)
-	})
+	err = a.emit(cmd, out, format, adv)
 	if err != nil {
 		return err
 	}
@@ -300,15 +291,7 @@ func (a *app) solveAverage(cmd *cobra.Command, s *optimize.Settings, c *classFil
 	}
 	adv := &reports.AverageAdvice{Model: c.Name, Currency: c.Currency, PeriodYears: c.Model.PeriodYears,
 		Unsafe: c.unsafe(), Problem: p, Result: r}
-	err = out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
-		switch format {
-		case "json":
-			return adv.WriteJSON(w)
-		case "csv":
-			return adv.WriteCSV(w)
-		}
-		return adv.WriteTable(w)
-	})
+	err = a.emit(cmd, out, format, adv)
 	if err != nil {
 		return err
 	}

@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"io"
 	"math"
 
 	"github.com/spf13/cobra"
@@ -84,15 +83,7 @@ func (a *app) solveSystem(cmd *cobra.Command, sf *systemFile, s *optimize.Settin
 	}
 	view := &reports.SystemAdvice{Model: sf.Name, Currency: sf.Currency, PeriodYears: sf.PeriodYears, Rate: rate,
 		HasRate: !math.IsNaN(rate), System: sys, Result: r, Separate: ev, Alone: alone, Groups: groups}
-	err = out.write(cmd.Context(), a.stdout, func(w io.Writer) error {
-		switch format {
-		case "json":
-			return view.WriteJSON(w)
-		case "csv":
-			return view.WriteCSV(w)
-		}
-		return view.WriteTable(w)
-	})
+	err = a.emit(cmd, out, format, view)
 	if err != nil {
 		return err
 	}
