@@ -41,6 +41,10 @@ const MaxRecords = 2_000_000
 // out. A missing header or column, or more than MaxRecords records, is an
 // error.
 func ReadRecords(r io.Reader, states []string) ([]Record, []Warning, error) {
+	return readRecords(r, states, MaxRecords)
+}
+
+func readRecords(r io.Reader, states []string, limit int) ([]Record, []Warning, error) {
 	cr := csv.NewReader(r)
 	cr.FieldsPerRecord = -1
 	cr.Comment = '#'
@@ -94,8 +98,8 @@ func ReadRecords(r io.Reader, states []string) ([]Record, []Warning, error) {
 			return nil, nil, fmt.Errorf("condition: records: %w", err)
 		}
 		line, _ := cr.FieldPos(0)
-		if len(out) >= MaxRecords {
-			return nil, nil, fmt.Errorf("condition: records: more than %d records; split the file", MaxRecords)
+		if len(out) >= limit {
+			return nil, nil, fmt.Errorf("condition: records: more than %d records; split the file", limit)
 		}
 		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
 			continue

@@ -89,3 +89,10 @@ func TestBuildPanelReportsProblems(t *testing.T) {
 		}
 	}
 }
+
+func TestReadRecordsLimit(t *testing.T) {
+	in := "unit,date,condition\n" + strings.Repeat("a,2020-01-01,good\n", 11)
+	if _, _, err := readRecords(strings.NewReader(in), scale3, 10); err == nil || !strings.Contains(err.Error(), "more than 10 records; split the file") {
+		t.Errorf("err = %v", err)
+	}
+}

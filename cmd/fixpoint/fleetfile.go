@@ -199,7 +199,7 @@ func (ff *fleetFile) readInventory(path string) error {
 		return &inputError{File: path, Msg: openProblem(err)}
 	}
 	defer f.Close()
-	inv, err := decodeInventory(path, io.LimitReader(f, maxInvBytes), ff.Names, ff.Classes)
+	inv, err := decodeInventory(path, io.LimitReader(f, maxInvBytes), ff.Names, ff.Classes, maxUnits)
 	if err != nil {
 		return err
 	}
@@ -213,7 +213,7 @@ type inventory struct {
 }
 
 // decodeInventory parses an inventory CSV against the classes.
-func decodeInventory(path string, r io.Reader, names []string, classes []*classFile) (*inventory, error) {
+func decodeInventory(path string, r io.Reader, names []string, classes []*classFile, limit int) (*inventory, error) {
 	cr := csv.NewReader(r)
 	cr.FieldsPerRecord = -1
 	cr.Comment = '#'
@@ -267,8 +267,8 @@ func decodeInventory(path string, r io.Reader, names []string, classes []*classF
 			return nil, &inputError{File: path, Msg: err.Error()}
 		}
 		line, _ := cr.FieldPos(0)
-		if inv.units >= maxUnits {
-			return nil, &inputError{File: path, Line: line, Msg: fmt.Sprintf("more than %d units", maxUnits)}
+		if inv.units >= limit {
+			return nil, &inputError{File: path, Line: line, Msg: fmt.Sprintf("more than %d units, over the limit", limit)}
 		}
 		unit, class, cond := get(rec, "unit"), get(rec, "class"), get(rec, "condition")
 		if unit == "" {

@@ -94,7 +94,7 @@ func FuzzDecodeInventory(f *testing.F) {
 	pumps, valves := readClass(f, "../../configs/pumps.yaml"), readClass(f, "../../configs/valves.yaml")
 	names, classes := []string{"pumps", "valves"}, []*classFile{pumps, valves}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		inv, err := decodeInventory("inv.csv", bytes.NewReader(data), names, classes)
+		inv, err := decodeInventory("inv.csv", bytes.NewReader(data), names, classes, 1000)
 		if err != nil {
 			return
 		}

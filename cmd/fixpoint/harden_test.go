@@ -172,3 +172,28 @@ func TestDeterminism(t *testing.T) {
 		t.Error("the brief differs between 1 and 4 cores")
 	}
 }
+
+// More components, classes or units than the limits allow get clear
+// messages.
+func TestMoreLimits(t *testing.T) {
+	data, _ := os.ReadFile(demoSystem)
+	text := string(data)
+	comp := text[strings.Index(text, "  - name: brake"):]
+	var b strings.Builder
+	b.WriteString(text[:strings.Index(text, "components:")] + "components:\n")
+	for i := range maxComponents + 1 {
+		b.WriteString(strings.Replace(comp, "name: brake", "name: part"+strconv.Itoa(i), 1))
+	}
+	code, _, stderr := runCLI(t, "check", writeFile(t, "many.yaml", b.String()))
+	if code != exitInput || !strings.Contains(stderr, "components: 17 components, over the limit of 16") {
+		t.Errorf("components: exit %d, %.300s", code, stderr)
+	}
+	pumps := readClass(t, demo)
+	inv := "unit,class,condition\n"
+	for i := range 6 {
+		inv += "u" + strconv.Itoa(i) + ",pumps,sound\n"
+	}
+	if _, err := decodeInventory("inv.csv", strings.NewReader(inv), []string{"pumps"}, []*classFile{pumps}, 5); err == nil || !strings.Contains(err.Error(), "inv.csv:7: more than 5 units") {
+		t.Errorf("units: %v", err)
+	}
+}
