@@ -38,12 +38,7 @@ var methodTitles = map[optimize.Method]string{
 	optimize.LinearProgram:   "linear programming (simplex)",
 }
 
-func (a *Advice) stateLabel(s int) string {
-	if a.Unsafe[s] {
-		return a.Problem.States[s] + " (unsafe)"
-	}
-	return a.Problem.States[s]
-}
+func (a *Advice) stateLabel(s int) string { return stateLabel(a.Problem.States, a.Unsafe, s) }
 
 // Thresholds returns the advice as one threshold sentence when the advised
 // action index does not decrease along the scale ("Leave while good or

@@ -20,13 +20,6 @@ type AverageAdvice struct {
 	Result      *optimize.AverageResult
 }
 
-func (a *AverageAdvice) label(s int) string {
-	if a.Unsafe[s] {
-		return a.Problem.States[s] + " (unsafe)"
-	}
-	return a.Problem.States[s]
-}
-
 // Thresholds is the threshold sentence of the advice (see Advice.Thresholds).
 func (a *AverageAdvice) Thresholds() string {
 	return thresholds(a.Problem.States, a.Problem.Actions, a.Result.Policy)
@@ -45,7 +38,7 @@ func (a *AverageAdvice) WriteTable(w io.Writer) error {
 		if r.RunnerUp[s] >= 0 {
 			runner, margin = p.Actions[r.RunnerUp[s]], Money(r.Margin[s], 2)
 		}
-		rows[s] = []string{a.label(s), p.Actions[r.Policy[s]], Money(r.Bias[s], 2), runner, margin}
+		rows[s] = []string{stateLabel(p.States, a.Unsafe, s), p.Actions[r.Policy[s]], Money(r.Bias[s], 2), runner, margin}
 	}
 	if err := table(w, []string{"condition", "advice", "relative value (" + a.Currency + ")", "runner-up", "margin"},
 		[]bool{false, false, true, false, true}, rows); err != nil {

@@ -95,23 +95,7 @@ func (r *PlanReport) WriteTable(w io.Writer) error {
 	if len(f.Classes) <= 5 {
 		for c, fc := range f.Classes {
 			fmt.Fprintf(w, "\nExpected units of %s per condition at the start of each year:\n", fc.Name)
-			header := []string{"year"}
-			for _, st := range fc.Model.States {
-				header = append(header, st.Name)
-			}
-			num := make([]bool, len(header))
-			for i := range num {
-				num[i] = true
-			}
-			rows = nil
-			for t := range T {
-				row := []string{strconv.Itoa(t + 1)}
-				for _, x := range p.Expected[c][t] {
-					row = append(row, Fixed(x, 1))
-				}
-				rows = append(rows, row)
-			}
-			if err := table(w, header, num, rows); err != nil {
+			if err := mixTable(w, fc.Model.States, T, func(t, s int) string { return Fixed(p.Expected[c][t][s], 1) }); err != nil {
 				return err
 			}
 		}

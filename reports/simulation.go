@@ -45,23 +45,7 @@ func (r *SimulationReport) WriteTable(w io.Writer) error {
 	if len(r.Fleet.Classes) <= 5 {
 		for c, fc := range r.Fleet.Classes {
 			fmt.Fprintf(w, "\nUnits of %s per condition at the start of each year, median [P10, P90]:\n", fc.Name)
-			header := []string{"year"}
-			for _, st := range fc.Model.States {
-				header = append(header, st.Name)
-			}
-			num := make([]bool, len(header))
-			for i := range num {
-				num[i] = true
-			}
-			rows = nil
-			for t := range s.Spend {
-				row := []string{strconv.Itoa(t + 1)}
-				for _, q := range s.Units[c][t] {
-					row = append(row, band(q, 0))
-				}
-				rows = append(rows, row)
-			}
-			if err := table(w, header, num, rows); err != nil {
+			if err := mixTable(w, fc.Model.States, len(s.Spend), func(t, i int) string { return band(s.Units[c][t][i], 0) }); err != nil {
 				return err
 			}
 		}
