@@ -27,13 +27,9 @@ func (a *app) newCheck() *cobra.Command {
 				return nil
 			}
 			if sf := m.System; sf != nil {
-				g, err := sf.DiscountFactor()
+				sys, err := sf.system()
 				if err != nil {
-					return &inputError{File: sf.Path, Path: "discount", Msg: err.Error()}
-				}
-				sys := sf.system(g)
-				if err := sys.Validate(); err != nil {
-					return &inputError{File: sf.Path, Msg: err.Error()}
+					return err
 				}
 				n, acts := sys.Size()
 				bytes, _ := optimize.SystemCost(sys, 2)

@@ -44,13 +44,9 @@ func (a *app) solveSystem(cmd *cobra.Command, sf *systemFile, s *optimize.Settin
 	if err := a.discountOverride(&sf.fileHeader); err != nil {
 		return err
 	}
-	g, err := sf.DiscountFactor()
+	sys, err := sf.system()
 	if err != nil {
-		return &inputError{File: sf.Path, Path: "discount", Msg: err.Error()}
-	}
-	sys := sf.system(g)
-	if err := sys.Validate(); err != nil {
-		return &inputError{File: sf.Path, Msg: err.Error()}
+		return err
 	}
 	workers, err := a.integer("workers")
 	if err != nil {
@@ -79,7 +75,7 @@ func (a *app) solveSystem(cmd *cobra.Command, sf *systemFile, s *optimize.Settin
 	alone, groups := sys.Rules(r.Policy)
 	rate := sf.Rate
 	if !sf.HasRate {
-		rate, _ = costs.RateFromFactor(g, sf.PeriodYears)
+		rate, _ = costs.RateFromFactor(sys.Discount, sf.PeriodYears)
 	}
 	view := &reports.SystemAdvice{Model: sf.Name, Currency: sf.Currency, PeriodYears: sf.PeriodYears, Rate: rate,
 		HasRate: !math.IsNaN(rate), System: sys, Result: r, Separate: ev, Alone: alone, Groups: groups}

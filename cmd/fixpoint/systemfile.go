@@ -176,13 +176,21 @@ func (s *systemFile) decode(d *doc, root *yaml.Node) {
 	}
 }
 
-// system builds the optimize.System of the file with discount factor g.
-func (s *systemFile) system(g float64) *optimize.System {
+// system builds the optimize.System of the file and validates it; the
+// errors name the file.
+func (s *systemFile) system() (*optimize.System, error) {
+	g, err := s.DiscountFactor()
+	if err != nil {
+		return nil, &inputError{File: s.Path, Path: "discount", Msg: err.Error()}
+	}
 	sys := &optimize.System{Shutdown: s.Shutdown, Down: s.Down, DownOnUnsafe: s.DownOnUnsafe, Discount: g}
 	for _, c := range s.Components {
 		sys.Components = append(sys.Components, optimize.Component{Name: c.Name, Model: c.Model, Costs: c.Costs})
 	}
-	return sys
+	if err := sys.Validate(); err != nil {
+		return nil, &inputError{File: s.Path, Msg: err.Error()}
+	}
+	return sys, nil
 }
 
 // byteSizeText formats a byte count for messages: "1.5 GiB".
