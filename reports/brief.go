@@ -46,14 +46,7 @@ func (b *Brief) WritePDF(w io.Writer) error {
 func (b *Brief) pageAdvice(d *doc) {
 	a := b.Advice
 	p := d.pdf
-	p.AddPage()
-	d.font("B", 18, ink)
-	p.MultiCell(contentW, 8, "Maintenance policy brief", "", "L", false)
-	d.font("B", 12, ink)
-	p.MultiCell(contentW, 6, a.Model, "", "L", false)
-	d.font("", bodySize, muted)
-	p.MultiCell(contentW, lineH, "Date: "+b.Date.Format("2 January 2006")+"   ·   prepared with fixpoint (decision support)", "", "L", false)
-	p.Ln(2)
+	d.title("Maintenance policy brief", a.Model, b.Date)
 	d.heading("Recommendation", 30)
 	d.paragraph(b.recommendation())
 	d.heading("Advice per condition", 40)

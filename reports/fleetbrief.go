@@ -24,14 +24,7 @@ func (b *FleetBrief) WritePDF(w io.Writer) error {
 	d := newDoc("Fleet plan brief: "+r.Model,
 		fmt.Sprintf("fixpoint fleet plan brief  ·  %s  ·  %s", r.Model, b.Date.Format("2006-01-02")), b.Date)
 	pdf := d.pdf
-	pdf.AddPage()
-	d.font("B", 18, ink)
-	pdf.MultiCell(contentW, 8, "Fleet plan under the budget", "", "L", false)
-	d.font("B", 12, ink)
-	pdf.MultiCell(contentW, 6, r.Model, "", "L", false)
-	d.font("", bodySize, muted)
-	pdf.MultiCell(contentW, lineH, "Date: "+b.Date.Format("2 January 2006")+"   ·   prepared with fixpoint (decision support)", "", "L", false)
-	pdf.Ln(2)
+	d.title("Fleet plan under the budget", r.Model, b.Date)
 	units := 0.0
 	for _, c := range f.Classes {
 		for _, x := range c.Counts {

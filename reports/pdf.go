@@ -108,6 +108,19 @@ func (d *doc) font(style string, size float64, c rgb) {
 	d.pdf.SetTextColor(c.R, c.G, c.B)
 }
 
+// title starts a page with the brief's title, the model name and the date.
+func (d *doc) title(text, model string, date time.Time) {
+	p := d.pdf
+	p.AddPage()
+	d.font("B", 18, ink)
+	p.MultiCell(contentW, 8, text, "", "L", false)
+	d.font("B", 12, ink)
+	p.MultiCell(contentW, 6, model, "", "L", false)
+	d.font("", bodySize, muted)
+	p.MultiCell(contentW, lineH, "Date: "+date.Format("2 January 2006")+"   ·   prepared with fixpoint (decision support)", "", "L", false)
+	p.Ln(2)
+}
+
 // heading writes a section heading, starting a new page when fewer than
 // need millimetres are left below it.
 func (d *doc) heading(text string, need float64) {
