@@ -47,22 +47,10 @@ func limitText(x float64) string {
 // WriteTable writes the margins of every non-advised action, then the
 // range of every cost figure, then the caution.
 func (s *Sensitivity) WriteTable(w io.Writer) error {
-	p, r := s.Problem, s.Result
 	fmt.Fprintf(w, "%s: how much costs must change before the advice changes (%s)\n", s.Model, s.Currency)
 	var rows [][]string
-	for st, cs := range p.Choices {
-		k0 := -1
-		for k, c := range cs {
-			if c.Action == r.Policy[st] {
-				k0 = k
-			}
-		}
-		for k, c := range cs {
-			if k == k0 {
-				continue
-			}
-			rows = append(rows, []string{p.States[st], p.Actions[r.Policy[st]], p.Actions[c.Action], Money(r.Q[st][k]-r.Q[st][k0], 2)})
-		}
+	for _, m := range s.margins() {
+		rows = append(rows, []string{m.State, m.Advice, m.Action, Money(m.Margin, 2)})
 	}
 	if err := table(w, []string{"condition", "advice", "alternative", "margin"}, []bool{false, false, false, true}, rows); err != nil {
 		return err
@@ -107,6 +95,27 @@ type sensitivityMargin struct {
 	Margin float64 `json:"margin"`
 }
 
+// margins lists, state by state, every admissible action other than the
+// advice with its margin: how much dearer it is than the advice there.
+func (s *Sensitivity) margins() []sensitivityMargin {
+	p, r := s.Problem, s.Result
+	var out []sensitivityMargin
+	for st, cs := range p.Choices {
+		var q0 float64
+		for k, c := range cs {
+			if c.Action == r.Policy[st] {
+				q0 = r.Q[st][k]
+			}
+		}
+		for k, c := range cs {
+			if c.Action != r.Policy[st] {
+				out = append(out, sensitivityMargin{p.States[st], p.Actions[r.Policy[st]], p.Actions[c.Action], r.Q[st][k] - q0})
+			}
+		}
+	}
+	return out
+}
+
 // WriteJSON writes {"margins": [...], "figures": [...], "caution": str};
 // a limit is null when the figure can move without limit that way.
 func (s *Sensitivity) WriteJSON(w io.Writer) error {
@@ -117,20 +126,7 @@ func (s *Sensitivity) WriteJSON(w io.Writer) error {
 		Margins  []sensitivityMargin `json:"margins"`
 		Figures  []sensitivityFigure `json:"figures"`
 		Caution  string              `json:"caution"`
-	}{Model: s.Model, Currency: s.Currency, Margins: []sensitivityMargin{}, Figures: []sensitivityFigure{}, Caution: Caution}
-	for st, cs := range p.Choices {
-		var q0 float64
-		for k, c := range cs {
-			if c.Action == r.Policy[st] {
-				q0 = r.Q[st][k]
-			}
-		}
-		for k, c := range cs {
-			if c.Action != r.Policy[st] {
-				out.Margins = append(out.Margins, sensitivityMargin{p.States[st], p.Actions[r.Policy[st]], p.Actions[c.Action], r.Q[st][k] - q0})
-			}
-		}
-	}
+	}{Model: s.Model, Currency: s.Currency, Margins: append([]sensitivityMargin{}, s.margins()...), Figures: []sensitivityFigure{}, Caution: Caution}
 	change := func(state, action int) *sensitivityChange {
 		if state < 0 {
 			return nil
@@ -149,24 +145,13 @@ func (s *Sensitivity) WriteJSON(w io.Writer) error {
 // "margin": state, advice, action, margin) and the cost figures (kind
 // "figure": figure, path, value, lower, upper; empty when unlimited).
 func (s *Sensitivity) WriteCSV(w io.Writer) error {
-	p, r := s.Problem, s.Result
 	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
 		return err
 	}
 	cw := csv.NewWriter(w)
 	cw.Write([]string{"kind", "state_or_figure", "advice_or_path", "action_or_value", "margin_or_lower", "upper"})
-	for st, cs := range p.Choices {
-		var q0 float64
-		for k, c := range cs {
-			if c.Action == r.Policy[st] {
-				q0 = r.Q[st][k]
-			}
-		}
-		for k, c := range cs {
-			if c.Action != r.Policy[st] {
-				cw.Write([]string{"margin", p.States[st], p.Actions[r.Policy[st]], p.Actions[c.Action], Fixed(r.Q[st][k]-q0, 6), ""})
-			}
-		}
+	for _, m := range s.margins() {
+		cw.Write([]string{"margin", m.State, m.Advice, m.Action, Fixed(m.Margin, 6), ""})
 	}
 	limit := func(x float64) string {
 		if math.IsInf(x, 0) {
