@@ -12,6 +12,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/optimize"
+	"gonum.org/v1/gonum/stat"
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -783,7 +784,7 @@ func (e *estimator) bootstrap(ctx context.Context, f *Fit, base *model) error {
 				}
 				slices.Sort(xs)
 				r.Lower[j], r.Upper[j] = quantile(xs, lo), quantile(xs, hi)
-				if p, v := r.P[j], variance(xs); p > 0.001 && p < 0.999 && v > 0 {
+				if p, v := r.P[j], stat.Variance(xs, nil); p > 0.001 && p < 0.999 && v > 0 {
 					ess = append(ess, p*(1-p)/v)
 				}
 			}
@@ -804,20 +805,6 @@ func quantile(xs []float64, q float64) float64 {
 		return xs[len(xs)-1]
 	}
 	return xs[i] + (pos-float64(i))*(xs[i+1]-xs[i])
-}
-
-// variance is the sample variance of xs.
-func variance(xs []float64) float64 {
-	m := 0.0
-	for _, x := range xs {
-		m += x
-	}
-	m /= float64(len(xs))
-	v := 0.0
-	for _, x := range xs {
-		v += (x - m) * (x - m)
-	}
-	return v / float64(len(xs)-1)
 }
 
 // goodness computes the G test of the model on the transitions.

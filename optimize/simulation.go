@@ -7,6 +7,8 @@ import (
 	"slices"
 	"sync"
 
+	"gonum.org/v1/gonum/stat"
+
 	"fixpoint/condition"
 )
 
@@ -201,16 +203,10 @@ func summarise(xs []float64) Quantiles {
 	s := slices.Clone(xs)
 	slices.Sort(s)
 	q := Quantiles{P10: pct(s, 0.1), P50: pct(s, 0.5), P90: pct(s, 0.9)}
-	for _, x := range s {
-		q.Mean += x
-	}
-	q.Mean /= float64(len(s))
-	v := 0.0
-	for _, x := range s {
-		v += (x - q.Mean) * (x - q.Mean)
-	}
+	mean, v := stat.MeanVariance(s, nil)
+	q.Mean = mean
 	if len(s) > 1 {
-		q.SE = math.Sqrt(v / float64(len(s)-1) / float64(len(s)))
+		q.SE = math.Sqrt(v / float64(len(s)))
 	}
 	return q
 }
