@@ -2,12 +2,10 @@ package optimize
 
 import (
 	"context"
+	"fixpoint/optimize/internal/mdptest"
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"os"
-	"os/exec"
-	"path/filepath"
 	"strings"
 	"testing"
 
@@ -193,7 +191,7 @@ func prepared(t *testing.T, f *Fleet) []*fleetClass {
 // GLPK's glpsol solves the same explicit LP and agrees with the plan's
 // bracket.
 func TestPlanAgreesWithGLPK(t *testing.T) {
-	bin := glpsol(t)
+	bin := mdptest.Glpsol(t)
 	rng := rand.New(rand.NewPCG(83, 84))
 	f := smallFleet(rng, 3, 4, 600)
 	plan, err := PlanFleet(context.Background(), f, &PlanSettings{Gap: 1e-9})
@@ -218,19 +216,7 @@ func TestPlanAgreesWithGLPK(t *testing.T) {
 		fmt.Fprintf(&sb, " = %.17g\n", b[i])
 	}
 	sb.WriteString("End\n")
-	dir := t.TempDir()
-	lpFile, sol := filepath.Join(dir, "fleet.lp"), filepath.Join(dir, "fleet.sol")
-	os.WriteFile(lpFile, []byte(sb.String()), 0o644)
-	if out, err := exec.Command(bin, "--lp", lpFile, "-w", sol).CombinedOutput(); err != nil {
-		t.Fatalf("glpsol: %v\n%s", err, out)
-	}
-	data, _ := os.ReadFile(sol)
-	var obj float64
-	for _, line := range strings.Split(string(data), "\n") {
-		if f := strings.Fields(line); len(f) == 7 && f[0] == "s" {
-			fmt.Sscan(f[6], &obj)
-		}
-	}
+	_, obj := mdptest.SolveLP(t, bin, sb.String(), 0)
 	short := 0.0
 	for _, s := range plan.Shortfall {
 		short += s

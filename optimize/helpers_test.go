@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"fixpoint/condition"
+	"fixpoint/optimize/internal/mdptest"
 )
 
 // arm is one action of a hand-written test problem.
@@ -57,20 +58,7 @@ func randomProblem(rng *rand.Rand, n, m, k int, gamma, scale float64) *Problem {
 	return p
 }
 
-func randomRow(rng *rand.Rand, n, k int) []condition.Entry {
-	targets := rng.Perm(n)[:min(k, n)]
-	w := make([]float64, len(targets))
-	sum := 0.0
-	for i := range w {
-		w[i] = rng.ExpFloat64()
-		sum += w[i]
-	}
-	row := make([]condition.Entry, len(targets))
-	for i, t := range targets {
-		row[i] = condition.Entry{To: t, P: w[i] / sum}
-	}
-	return row
-}
+func randomRow(rng *rand.Rand, n, k int) []condition.Entry { return mdptest.RandomRow(rng, n, k) }
 
 // bellman applies T to v and returns Tv.
 func bellman(p *Problem, v []float64) []float64 {
