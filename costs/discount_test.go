@@ -127,3 +127,87 @@ func TestRealRate(t *testing.T) {
 		t.Errorf("RealRate(0.07, 0.05) = %g, want %g", got, want)
 	}
 }
+
+func TestDiscountType(t *testing.T) {
+	half, _ := NewPeriod(0.5)
+	year, _ := NewPeriod(1)
+	tests := []struct {
+		name       string
+		d          func() (Discount, error)
+		wantFactor float64
+		wantRate   float64
+		tol        float64
+	}{
+		// (1.04)^-1 = 0.961538..., closed form.
+		{"rate 4% yearly", func() (Discount, error) { return Rate(0.04, year) }, 1 / 1.04, 0.04, 1e-15},
+		// (1.04)^-0.5 = 0.980581..., closed form.
+		{"rate 4% half-yearly", func() (Discount, error) { return Rate(0.04, half) }, 1 / math.Sqrt(1.04), 0.04, 1e-15},
+		// 0.95^-2 - 1 = 0.108033..., closed form.
+		{"factor 0.95 half-yearly", func() (Discount, error) { return Factor(0.95, half) }, 0.95, 1/(0.95*0.95) - 1, 1e-14},
+	}
+	for _, tc := range tests {
+		d, err := tc.d()
+		if err != nil {
+			t.Fatalf("%s: %v", tc.name, err)
+		}
+		if math.Abs(d.Factor()-tc.wantFactor) > tc.tol || math.Abs(d.RatePerYear()-tc.wantRate) > tc.tol {
+			t.Errorf("%s: factor %g rate %g, want %g and %g (tol %g)", tc.name, d.Factor(), d.RatePerYear(), tc.wantFactor, tc.wantRate, tc.tol)
+		}
+	}
+	for _, bad := range []func() (Discount, error){
+		func() (Discount, error) { return Rate(0, year) },
+		func() (Discount, error) { return Rate(-0.5, year) },
+		func() (Discount, error) { return Rate(math.NaN(), year) },
+		func() (Discount, error) { return Rate(1e-12, year) },
+		func() (Discount, error) { return Rate(0.04, Period{}) },
+		func() (Discount, error) { return Factor(1, year) },
+		func() (Discount, error) { return Factor(0.9999999999999999, year) },
+		func() (Discount, error) { return Factor(0, year) },
+		func() (Discount, error) { return Rate(1e300, year) },
+	} {
+		if d, err := bad(); err == nil {
+			t.Errorf("accepted %v", d)
+		}
+	}
+}
+
+func TestPeriodCalendar(t *testing.T) {
+	tests := []struct {
+		years     float64
+		horizon   float64
+		wantCount int
+		wantYears []int // Year(k) for k = 0..wantCount-1
+	}{
+		{0.25, 2, 8, []int{0, 0, 0, 0, 1, 1, 1, 1}},
+		{0.5, 1.5, 3, []int{0, 0, 1}},
+		{1, 3, 3, []int{0, 1, 2}},
+		{2, 5, 3, []int{0, 2, 4}},
+		{5, 10, 2, []int{0, 5}},
+		{0.1, 1, 10, []int{0, 0, 0, 0, 0, 0, 0, 0, 0, 0}},
+	}
+	for _, tc := range tests {
+		p, err := NewPeriod(tc.years)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if n := p.Count(tc.horizon); n != tc.wantCount {
+			t.Errorf("Period(%g).Count(%g) = %d, want %d", tc.years, tc.horizon, n, tc.wantCount)
+		}
+		for k, want := range tc.wantYears {
+			if y := p.Year(k); y != want {
+				t.Errorf("Period(%g).Year(%d) = %d, want %d", tc.years, k, y, want)
+			}
+		}
+	}
+	for _, bad := range []float64{0, -1, math.Inf(1), math.NaN(), 1e300} {
+		if _, err := NewPeriod(bad); err == nil {
+			t.Errorf("NewPeriod(%g) accepted", bad)
+		}
+	}
+	for years, want := range map[float64]string{1: "1 year", 0.5: "6 months", 0.25: "3 months", 2: "2 years", 1.5: "1.5 years"} {
+		p, _ := NewPeriod(years)
+		if p.String() != want {
+			t.Errorf("Period(%g) = %q, want %q", years, p.String(), want)
+		}
+	}
+}

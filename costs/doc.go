@@ -2,8 +2,12 @@
 // per condition state, action costs per action and state, discounting and
 // the interest factors of engineering economy.
 //
-// Key types: Schedule (the cost figures of one class of equipment) and the
-// factor functions (DiscountFactor, SeriesPresentWorth, CapitalRecovery, ...).
+// Key types: Schedule (the cost figures of one class of equipment), Period
+// (the length of a model period, with the calendar convention: a period's
+// work belongs to the calendar year in which the period starts), Discount
+// (a rate per year with its period, or a factor per period; built once by
+// Rate or Factor and asked for Factor()), and the factor functions
+// (DiscountFactor, SeriesPresentWorth, CapitalRecovery, ...).
 //
 // Conventions. Costs are in constant prices (real terms) of one currency.
 // A discount rate is per year; a discount factor is per model period:

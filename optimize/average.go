@@ -66,7 +66,7 @@ func (e *MultichainError) Error() string {
 func (p *Problem) policyChain(policy []int) condition.Chain {
 	rows := make([][]condition.Entry, len(p.States))
 	for s, a := range policy {
-		rows[s] = p.Choices[s][p.find(s, a)].Next
+		rows[s] = p.Choices[s][p.Find(s, a)].Next
 	}
 	return condition.Chain{Rows: rows}
 }
@@ -123,7 +123,7 @@ func evaluateAverage(p *Problem, policy []int, ref int) (float64, []float64, err
 	a := mat.NewDense(n, n, nil)
 	b := mat.NewVecDense(n, nil)
 	for s := range n {
-		c := p.Choices[s][p.find(s, policy[s])]
+		c := p.Choices[s][p.Find(s, policy[s])]
 		a.Set(s, ref, 1)
 		if s != ref {
 			a.Set(s, s, a.At(s, s)+1)
@@ -184,11 +184,11 @@ func averagePolicyIteration(ctx context.Context, p *Problem, s *Settings, ref in
 		changed := 0
 		worst := 0.0
 		for st, cs := range p.Choices {
-			cur := p.find(st, policy[st])
-			qCur := cs[cur].Cost + expect(cs[cur].Next, h)
+			cur := p.Find(st, policy[st])
+			qCur := cs[cur].Cost + Expect(cs[cur].Next, h)
 			best, arg := qCur, policy[st]
 			for _, c := range cs {
-				if q := c.Cost + expect(c.Next, h); q < best {
+				if q := c.Cost + Expect(c.Next, h); q < best {
 					best, arg = q, c.Action
 				}
 			}
@@ -226,7 +226,7 @@ func relativeValueIteration(ctx context.Context, p *Problem, s *Settings, ref in
 		for st, cs := range p.Choices {
 			best, arg := math.Inf(1), -1
 			for _, c := range cs {
-				if q := c.Cost + 0.5*expect(c.Next, w); q < best {
+				if q := c.Cost + 0.5*Expect(c.Next, w); q < best {
 					best, arg = q, c.Action
 				}
 			}
@@ -268,7 +268,7 @@ func certifyAverage(p *Problem, policy []int, ref int, s *Settings) (*AverageRes
 		for st, cs := range p.Choices {
 			q[st] = make([]float64, len(cs))
 			for k, c := range cs {
-				q[st][k] = c.Cost + expect(c.Next, h)
+				q[st][k] = c.Cost + Expect(c.Next, h)
 			}
 		}
 		tie = tieTol(s, append(slices.Clone(h), g))
@@ -298,7 +298,7 @@ func certifyAverage(p *Problem, policy []int, ref int, s *Settings) (*AverageRes
 // margin over the chosen one (-1 and NaN when there is none), and appends
 // a Tie to ties when several actions are within tie of the chosen one.
 func runnerUp(p *Problem, q [][]float64, tie float64, st, chosen int, ties []Tie) (int, float64, []Tie) {
-	k0 := p.find(st, chosen)
+	k0 := p.Find(st, chosen)
 	best, margin := -1, math.NaN()
 	var tied []int
 	for k, c := range p.Choices[st] {

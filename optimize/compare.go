@@ -52,10 +52,10 @@ type Comparison struct {
 }
 
 // CompareRates solves p at each annual real rate (>= 0; rate 0 uses the
-// average criterion) for periods of periodYears, locates every switch
+// average criterion) for periods of length period, locates every switch
 // point between the smallest and the largest rate, solves the average
 // criterion, and samples the equivalent annual cost at curvePoints rates.
-func CompareRates(ctx context.Context, p *Problem, periodYears float64, rates []float64, curvePoints int, settings *Settings) (*Comparison, error) {
+func CompareRates(ctx context.Context, p *Problem, period costs.Period, rates []float64, curvePoints int, settings *Settings) (*Comparison, error) {
 	if len(rates) == 0 {
 		return nil, errors.New("optimize: no rates to compare")
 	}
@@ -64,6 +64,7 @@ func CompareRates(ctx context.Context, p *Problem, periodYears float64, rates []
 			return nil, fmt.Errorf("optimize: rate %v is not a finite number >= 0", r)
 		}
 	}
+	periodYears := period.Years()
 	c := &Comparison{}
 	avg, err := SolveAverage(ctx, p, settings)
 	var me *MultichainError
@@ -84,10 +85,11 @@ func CompareRates(ctx context.Context, p *Problem, periodYears float64, rates []
 			row.Discount, row.Average, row.Policy = 1, c.Average, c.Average.Policy
 			row.EquivalentAnnual = c.Average.Gain / periodYears
 		} else {
-			g, err := costs.DiscountFactor(rate, periodYears)
+			d, err := costs.Rate(rate, period)
 			if err != nil {
 				return nil, err
 			}
+			g := d.Factor()
 			q := *p
 			q.Discount = g
 			r, err := Solve(ctx, &q, settings)

@@ -8,6 +8,7 @@ import (
 
 	"fixpoint/condition"
 	"fixpoint/costs"
+	"fixpoint/optimize/internal/mdptest"
 )
 
 // classModel is a four-state class with leave, repair and replace, for
@@ -125,7 +126,7 @@ func TestForecastAgreesWithSimulation(t *testing.T) {
 func TestLifeFiguresLongRun(t *testing.T) {
 	m, c := classModel()
 	_, r := solveClass(t, m, c, 0.97)
-	l, err := LifeFigures(m, c, r, 0.06, WorstTarget(4), 200)
+	l, err := LifeFigures(m, c, r, mdptest.Rate(0.06, m.PeriodYears), WorstTarget(4), 200)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -35,7 +35,7 @@ type Life struct {
 	CostPerPeriod, CostPerYear float64
 	// EquivalentAnnual[s] is the level amount per year, paid at the start
 	// of each year for ever, with the same present value at the annual
-	// rate as the advice from s (NaN when the rate is not positive).
+	// rate as the advice from s (NaN without a discount).
 	EquivalentAnnual []float64
 	// UnsafeShare is the long-run share of units in unsafe states.
 	UnsafeShare float64
@@ -47,10 +47,10 @@ type Life struct {
 }
 
 // LifeFigures computes the life figures of the advice r for the class
-// (m, c) at the annual discount rate: first passage to target, survival
+// (m, c) at the discount d: first passage to target, survival
 // curves over horizon periods, the long-run figures of the policy's chain
 // and the equivalent annual cost of r.Value.
-func LifeFigures(m *condition.Model, c *costs.Schedule, r *Result, rate float64, target []bool, horizon int) (*Life, error) {
+func LifeFigures(m *condition.Model, c *costs.Schedule, r *Result, d costs.Discount, target []bool, horizon int) (*Life, error) {
 	n := len(m.States)
 	policy := r.Policy
 	if len(policy) != n || len(target) != n {
@@ -61,8 +61,8 @@ func LifeFigures(m *condition.Model, c *costs.Schedule, r *Result, rate float64,
 		ActionShare:      make([]float64, len(m.Actions)), PeriodsBetween: make([]float64, len(m.Actions))}
 	for s, v := range r.Value {
 		l.EquivalentAnnual[s] = math.NaN()
-		if rate > 0 {
-			l.EquivalentAnnual[s] = costs.EquivalentAnnualCost(v, rate)
+		if !d.IsZero() {
+			l.EquivalentAnnual[s] = d.EquivalentAnnual(v)
 		}
 	}
 	pol := m.PolicyChain(policy)

@@ -58,7 +58,7 @@ func linearProgram(p *Problem) ([]int, error) {
 	basis := make([]int, n)
 	first := 0
 	for s, cs := range p.Choices {
-		basis[s] = first + p.find(s, start[s])
+		basis[s] = first + p.Find(s, start[s])
 		first += len(cs)
 	}
 	_, x, err := lp.Simplex(c, a, b, 1e-12, basis)

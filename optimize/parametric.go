@@ -143,7 +143,7 @@ func reducedCosts(p *Problem, policy []int, g float64, pairs [][2]int) (delta, s
 	n := len(p.States)
 	b := mat.NewVecDense(n, nil)
 	for s := range n {
-		b.SetVec(s, p.Choices[s][p.find(s, policy[s])].Cost)
+		b.SetVec(s, p.Choices[s][p.Find(s, policy[s])].Cost)
 	}
 	var lu mat.LU
 	lu.Factorize(policyMatrix(p, policy, g))
@@ -160,7 +160,7 @@ func reducedCosts(p *Problem, policy []int, g float64, pairs [][2]int) (delta, s
 	scale = make([]float64, len(pairs))
 	for i, pr := range pairs {
 		c := p.Choices[pr[0]][pr[1]]
-		qv := c.Cost + g*expect(c.Next, v)
+		qv := c.Cost + g*Expect(c.Next, v)
 		delta[i] = qv - v[pr[0]]
 		scale[i] = math.Abs(c.Cost) + math.Abs(qv) + math.Abs(v[pr[0]])
 	}

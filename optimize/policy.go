@@ -20,7 +20,7 @@ func Evaluate(p *Problem, policy []int) ([]float64, error) {
 	}
 	b := mat.NewVecDense(n, nil)
 	for s := range n {
-		k := p.find(s, policy[s])
+		k := p.Find(s, policy[s])
 		if k < 0 {
 			return nil, fmt.Errorf("optimize: policy takes action %d, not admissible in state %d", policy[s], s)
 		}
@@ -55,7 +55,7 @@ func greedy(p *Problem, v []float64, policy []int, tv []float64) {
 	for s, cs := range p.Choices {
 		best, arg := math.Inf(1), -1
 		for _, c := range cs {
-			if q := c.Cost + p.Discount*expect(c.Next, v); q < best {
+			if q := c.Cost + p.Discount*Expect(c.Next, v); q < best {
 				best, arg = q, c.Action
 			}
 		}
@@ -97,11 +97,11 @@ func policyIterationFrom(ctx context.Context, p *Problem, s *Settings, start []i
 		// v_π - v* <= max(-d) / (1-γ).
 		worst := 0.0
 		for st, cs := range p.Choices {
-			cur := p.find(st, policy[st])
-			qCur := cs[cur].Cost + p.Discount*expect(cs[cur].Next, v)
+			cur := p.Find(st, policy[st])
+			qCur := cs[cur].Cost + p.Discount*Expect(cs[cur].Next, v)
 			best, arg := qCur, policy[st]
 			for _, c := range cs {
-				if q := c.Cost + p.Discount*expect(c.Next, v); q < best {
+				if q := c.Cost + p.Discount*Expect(c.Next, v); q < best {
 					best, arg = q, c.Action
 				}
 			}

@@ -98,8 +98,8 @@ func (p *Problem) Validate(discounted bool) error {
 	return errors.Join(errs...)
 }
 
-// find returns the position of action a among the choices of state s, or -1.
-func (p *Problem) find(s, a int) int {
+// Find returns the position of action a among the choices of state s, or -1.
+func (p *Problem) Find(s, a int) int {
 	for k, c := range p.Choices[s] {
 		if c.Action == a {
 			return k
@@ -109,7 +109,7 @@ func (p *Problem) find(s, a int) int {
 }
 
 // expect returns sum_j P(j) v[j] for one next-state distribution.
-func expect(next []condition.Entry, v []float64) float64 {
+func Expect(next []condition.Entry, v []float64) float64 {
 	sum := 0.0
 	for _, e := range next {
 		sum += e.P * v[e.To]

@@ -36,7 +36,7 @@ func CostRanges(p *Problem, r *Result, groups [][]Pair) ([]CostRange, error) {
 	for gi, group := range groups {
 		in := make(map[Pair]bool, len(group))
 		for _, pr := range group {
-			if p.find(pr.State, pr.Action) < 0 {
+			if p.Find(pr.State, pr.Action) < 0 {
 				return nil, fmt.Errorf("optimize: cost group %d: action %d is not admissible in state %d", gi, pr.Action, pr.State)
 			}
 			in[pr] = true
@@ -54,12 +54,12 @@ func CostRanges(p *Problem, r *Result, groups [][]Pair) ([]CostRange, error) {
 		w := wv.RawVector().Data
 		cr := CostRange{Lower: math.Inf(-1), Upper: math.Inf(1), LowerState: -1, LowerAction: -1, UpperState: -1, UpperAction: -1}
 		for s, cs := range p.Choices {
-			k0 := p.find(s, r.Policy[s])
+			k0 := p.Find(s, r.Policy[s])
 			for k, c := range cs {
 				if k == k0 {
 					continue
 				}
-				slope := p.Discount*expect(c.Next, w) - w[s]
+				slope := p.Discount*Expect(c.Next, w) - w[s]
 				if in[Pair{s, c.Action}] {
 					slope++
 				}
@@ -83,7 +83,7 @@ func policyMatrix(p *Problem, policy []int, g float64) *mat.Dense {
 	a := mat.NewDense(n, n, nil)
 	for s := range n {
 		a.Set(s, s, 1)
-		for _, e := range p.Choices[s][p.find(s, policy[s])].Next {
+		for _, e := range p.Choices[s][p.Find(s, policy[s])].Next {
 			a.Set(s, e.To, a.At(s, e.To)-g*e.P)
 		}
 	}

@@ -187,7 +187,7 @@ func qValues(p *Problem, v []float64) [][]float64 {
 	for s, cs := range p.Choices {
 		q[s] = make([]float64, len(cs))
 		for k, c := range cs {
-			q[s][k] = c.Cost + p.Discount*expect(c.Next, v)
+			q[s][k] = c.Cost + p.Discount*Expect(c.Next, v)
 		}
 	}
 	return q
@@ -213,7 +213,7 @@ func preferFirst(p *Problem, q [][]float64, tie float64, policy []int) bool {
 	changed := false
 	for s, cs := range p.Choices {
 		best := slices.Min(q[s])
-		if q[s][p.find(s, policy[s])] > best+tie {
+		if q[s][p.Find(s, policy[s])] > best+tie {
 			continue
 		}
 		for k, c := range cs {

@@ -264,7 +264,7 @@ func TestMarginFlipsAdvice(t *testing.T) {
 			if r.RunnerUp[s] < 0 || r.Margin[s] < 1e-3 {
 				continue
 			}
-			k := p.find(s, r.RunnerUp[s])
+			k := p.Find(s, r.RunnerUp[s])
 			orig := p.Choices[s][k].Cost
 			for _, tc := range []struct {
 				delta float64

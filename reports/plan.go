@@ -2,27 +2,26 @@ package reports
 
 import (
 	"encoding/csv"
+	"fixpoint/optimize/fleet"
 	"fmt"
 	"io"
 	"math"
 	"strconv"
-
-	"fixpoint/optimize"
 )
 
 // PlanReport presents a budget-constrained fleet plan.
 type PlanReport struct {
 	Model    string
 	Currency string
-	Fleet    *optimize.Fleet
-	Plan     *optimize.Plan
+	Fleet    *fleet.Problem
+	Plan     *fleet.Plan
 	Warnings []string
 }
 
 // PlanWarnings lists what a reader must know about a plan: mandatory work
 // beyond the budget, rounding that lifts the expected spend above it, and
 // a gap target not met.
-func PlanWarnings(f *optimize.Fleet, p *optimize.Plan, target float64) []string {
+func PlanWarnings(f *fleet.Problem, p *fleet.Plan, target float64) []string {
 	var out []string
 	var over []string
 	worst := 0.0

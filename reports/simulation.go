@@ -2,25 +2,24 @@ package reports
 
 import (
 	"encoding/csv"
+	"fixpoint/optimize/fleet"
 	"fmt"
 	"io"
 	"strconv"
-
-	"fixpoint/optimize"
 )
 
 // SimulationReport presents a Monte-Carlo of a fleet.
 type SimulationReport struct {
 	Model    string
 	Currency string
-	Fleet    *optimize.Fleet
-	Sim      *optimize.Simulation
+	Fleet    *fleet.Problem
+	Sim      *fleet.Simulation
 	// Follow is "plan" or "advice".
 	Follow string
 	Seed   uint64
 }
 
-func band(q optimize.Quantiles, decimals int) string {
+func band(q fleet.Quantiles, decimals int) string {
 	return fmt.Sprintf("%s [%s, %s]", Money(q.P50, decimals), Money(q.P10, decimals), Money(q.P90, decimals))
 }
 
@@ -61,7 +60,7 @@ type quantJSON struct {
 	P90  float64 `json:"p90"`
 }
 
-func qj(q optimize.Quantiles) quantJSON { return quantJSON{q.Mean, q.SE, q.P10, q.P50, q.P90} }
+func qj(q fleet.Quantiles) quantJSON { return quantJSON{q.Mean, q.SE, q.P10, q.P50, q.P90} }
 
 // WriteJSON writes {"runs", "seed", "follow", "years": [{"year", "spend",
 // "total", "expected_spend", "units": {class: {state: {mean, se, p10, p50,
@@ -110,7 +109,7 @@ func (r *SimulationReport) WriteCSV(w io.Writer) error {
 	}
 	cw := csv.NewWriter(w)
 	cw.Write([]string{"year", "quantity", "mean", "se", "p10", "p50", "p90"})
-	row := func(t int, name string, q optimize.Quantiles) {
+	row := func(t int, name string, q fleet.Quantiles) {
 		cw.Write([]string{strconv.Itoa(t + 1), name, Fixed(q.Mean, 4), Fixed(q.SE, 4), Fixed(q.P10, 4), Fixed(q.P50, 4), Fixed(q.P90, 4)})
 	}
 	for t := range s.Spend {

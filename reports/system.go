@@ -2,13 +2,12 @@ package reports
 
 import (
 	"encoding/csv"
+	"fixpoint/optimize/system"
 	"fmt"
 	"io"
 	"math"
 	"slices"
 	"strings"
-
-	"fixpoint/optimize"
 )
 
 // SystemAdvice is the certified joint policy of a machine of components,
@@ -19,17 +18,17 @@ type SystemAdvice struct {
 	PeriodYears float64
 	Rate        float64
 	HasRate     bool
-	System      *optimize.System
-	Result      *optimize.SystemResult
+	System      *system.Machine
+	Result      *system.Result
 	// Separate is the joint-system value of the components' separate
 	// policies (each planned alone with the shutdown charged to it).
-	Separate *optimize.ProductEvaluation
-	Alone    []optimize.AloneRule
-	Groups   []optimize.GroupRule
+	Separate *system.ProductEvaluation
+	Alone    []system.AloneRule
+	Groups   []system.GroupRule
 }
 
 // aloneSentence is the threshold sentence of one component's alone rule.
-func (s *SystemAdvice) aloneSentence(r optimize.AloneRule) string {
+func (s *SystemAdvice) aloneSentence(r system.AloneRule) string {
 	m := s.System.Components[r.Component].Model
 	return thresholds(m.StateNames(), m.ActionNames(), r.Actions)
 }
@@ -127,7 +126,7 @@ func (s *SystemAdvice) WriteTable(w io.Writer) error {
 		}
 		lines = append(lines, line+".")
 	}
-	disc := fmt.Sprintf("Discount factor %s per period of %s", Fixed(sys.Discount, 6), Years(s.PeriodYears))
+	disc := fmt.Sprintf("Discount factor %s per period of %s", Fixed(sys.Discount.Factor(), 6), Years(s.PeriodYears))
 	if s.HasRate {
 		disc += fmt.Sprintf(" (rate %s per year)", Percent(s.Rate, 2))
 	}
@@ -179,7 +178,7 @@ func (s *SystemAdvice) WriteJSON(w io.Writer) error {
 		Thresholds    string   `json:"thresholds"`
 		Caution       string   `json:"caution"`
 	}
-	o := out{Model: s.Model, Kind: "system", Currency: s.Currency, PeriodYears: s.PeriodYears, DiscountFactor: sys.Discount,
+	o := out{Model: s.Model, Kind: "system", Currency: s.Currency, PeriodYears: s.PeriodYears, DiscountFactor: sys.Discount.Factor(),
 		Method: "value", Iterations: r.Sweeps, Thresholds: s.rulesText(), Caution: Caution, States: make([]systemState, 0, len(r.Policy))}
 	if s.HasRate {
 		rate := s.Rate

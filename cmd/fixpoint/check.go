@@ -7,7 +7,7 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"fixpoint/optimize"
+	"fixpoint/optimize/system"
 	"fixpoint/reports"
 )
 
@@ -32,7 +32,7 @@ func (a *app) newCheck() *cobra.Command {
 					return err
 				}
 				n, acts := sys.Size()
-				bytes, _ := optimize.SystemCost(sys, 2)
+				bytes, _ := system.Cost(sys, 2)
 				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, about %s of memory to solve\n",
 					args[0], sf.Name, len(sf.Components), reports.Money(n, 0), reports.Money(acts, 0), byteSizeText(bytes))
 				return nil

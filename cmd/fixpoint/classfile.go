@@ -276,6 +276,21 @@ func (c *fileHeader) checkDiscount(d *doc, n *yaml.Node) {
 	}
 }
 
+// discount returns the file's discount (rate or factor) as a value.
+func (c *fileHeader) discount() (costs.Discount, error) {
+	p, err := costs.NewPeriod(c.PeriodYears)
+	if err != nil {
+		return costs.Discount{}, err
+	}
+	switch {
+	case c.HasFactor:
+		return costs.Factor(c.Factor, p)
+	case c.HasRate:
+		return costs.Rate(c.Rate, p)
+	}
+	return costs.Discount{}, errors.New("the config gives no discount rate or factor")
+}
+
 // DiscountFactor returns gamma per period from the file's rate or factor.
 func (c *fileHeader) DiscountFactor() (float64, error) {
 	switch {

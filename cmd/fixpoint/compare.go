@@ -137,7 +137,11 @@ func (a *app) comparisonRates(c *classFile) (rates []float64, inflation float64,
 // comparison solves the class at the rates and wraps it for presentation.
 func (a *app) comparison(cmd *cobra.Command, s *optimize.Settings, c *classFile, p *optimize.Problem,
 	rates []float64, inflation float64, hasInflation bool) (*reports.Comparison, error) {
-	cmp, err := optimize.CompareRates(cmd.Context(), p, c.Model.PeriodYears, rates, 61, s)
+	period, err := costs.NewPeriod(c.Model.PeriodYears)
+	if err != nil {
+		return nil, &inputError{File: c.Path, Path: "period_years", Msg: err.Error()}
+	}
+	cmp, err := optimize.CompareRates(cmd.Context(), p, period, rates, 61, s)
 	var me *optimize.MultichainError
 	if errors.As(err, &me) {
 		return nil, &inputError{File: c.Path, Msg: "rate 0: " + strings.TrimPrefix(err.Error(), "optimize: ")}

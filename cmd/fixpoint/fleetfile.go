@@ -3,6 +3,7 @@ package main
 import (
 	"encoding/csv"
 	"errors"
+	"fixpoint/optimize/fleet"
 	"fmt"
 	"io"
 	"math"
@@ -11,8 +12,6 @@ import (
 	"strings"
 
 	"go.yaml.in/yaml/v3"
-
-	"fixpoint/optimize"
 )
 
 // Limits on a fleet.
@@ -307,15 +306,15 @@ func decodeInventory(path string, r io.Reader, names []string, classes []*classF
 	return inv, nil
 }
 
-// fleet builds the optimize.Fleet for years of budget.
-func (ff *fleetFile) fleet(budget []float64) (*optimize.Fleet, error) {
-	g, err := ff.Classes[0].DiscountFactor()
+// fleet builds the fleet.Problem for years of budget.
+func (ff *fleetFile) fleet(budget []float64) (*fleet.Problem, error) {
+	d, err := ff.Classes[0].discount()
 	if err != nil {
 		return nil, &inputError{File: ff.Classes[0].Path, Path: "discount", Msg: err.Error()}
 	}
-	f := &optimize.Fleet{Discount: g, Budget: budget}
+	f := &fleet.Problem{Discount: d, Budget: budget}
 	for i, c := range ff.Classes {
-		f.Classes = append(f.Classes, optimize.FleetClass{Name: ff.Names[i], Model: c.Model, Costs: c.Costs, Counts: ff.Counts[i]})
+		f.Classes = append(f.Classes, fleet.Class{Name: ff.Names[i], Model: c.Model, Costs: c.Costs, Counts: ff.Counts[i]})
 	}
 	return f, nil
 }

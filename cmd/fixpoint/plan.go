@@ -9,7 +9,7 @@ import (
 	"github.com/spf13/cobra"
 	"golang.org/x/term"
 
-	"fixpoint/optimize"
+	"fixpoint/optimize/fleet"
 	"fixpoint/reports"
 )
 
@@ -43,7 +43,7 @@ func addFleetFlags(cmd *cobra.Command) {
 }
 
 // loadFleet reads a fleet file and applies --budget and --years.
-func (a *app) loadFleet(path string) (*fleetFile, *optimize.Fleet, error) {
+func (a *app) loadFleet(path string) (*fleetFile, *fleet.Problem, error) {
 	m, err := a.loadModel(path)
 	if err != nil {
 		return nil, nil, err
@@ -100,7 +100,7 @@ func (a *app) gapTarget() (float64, error) {
 }
 
 // fleetPlan plans a fleet file.
-func (a *app) fleetPlan(cmd *cobra.Command, path string) (*fleetFile, *optimize.Fleet, *optimize.Plan, float64, error) {
+func (a *app) fleetPlan(cmd *cobra.Command, path string) (*fleetFile, *fleet.Problem, *fleet.Plan, float64, error) {
 	gap, err := a.gapTarget()
 	if err != nil {
 		return nil, nil, nil, 0, err
@@ -109,7 +109,7 @@ func (a *app) fleetPlan(cmd *cobra.Command, path string) (*fleetFile, *optimize.
 	if err != nil {
 		return nil, nil, nil, 0, err
 	}
-	p, err := optimize.PlanFleet(cmd.Context(), f, &optimize.PlanSettings{Gap: gap})
+	p, err := fleet.Solve(cmd.Context(), f, &fleet.Settings{Gap: gap})
 	if err != nil {
 		return nil, nil, nil, 0, err
 	}
@@ -158,7 +158,7 @@ func (a *app) simulateFleet(cmd *cobra.Command, path string, format string, out 
 		return err
 	}
 	bar := a.progress(runs, "simulating")
-	sim, err := optimize.SimulatePlan(cmd.Context(), f, p, follow == "advice", runs, uint64(seed), 0, bar.add)
+	sim, err := fleet.Simulate(cmd.Context(), f, p, follow == "advice", runs, uint64(seed), 0, bar.add)
 	bar.finish()
 	if err != nil {
 		return err

@@ -194,14 +194,11 @@ func (a *app) life(c *classFile, r *optimize.Result) (*optimize.Life, error) {
 	if m.Passive() >= 0 {
 		horizon = m.PassiveChain().SurvivalHorizon(target, 1e-3, limit)
 	}
-	rate := c.Rate
-	if !c.HasRate {
-		var err error
-		if rate, err = costs.RateFromFactor(c.Factor, m.PeriodYears); err != nil {
-			return nil, &inputError{File: c.Path, Path: "discount.factor", Msg: err.Error()}
-		}
+	d, err := c.discount()
+	if err != nil {
+		return nil, &inputError{File: c.Path, Path: "discount", Msg: err.Error()}
 	}
-	return optimize.LifeFigures(m, c.Costs, r, rate, target, max(horizon, 10))
+	return optimize.LifeFigures(m, c.Costs, r, d, target, max(horizon, 10))
 }
 
 func (a *app) solve(cmd *cobra.Command, path string) error {

@@ -6,8 +6,8 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"fixpoint/costs"
 	"fixpoint/optimize"
+	"fixpoint/optimize/system"
 	"fixpoint/reports"
 )
 
@@ -20,13 +20,13 @@ const systemOpsPerSecond = 3e8
 // sizeGuard estimates memory and time of a joint solve and refuses
 // systems whose memory exceeds the limit, with the numbers and how to
 // shrink the model.
-func (a *app) sizeGuard(sf *systemFile, sys *optimize.System, workers int) error {
+func (a *app) sizeGuard(sf *systemFile, sys *system.Machine, workers int) error {
 	limit, err := a.number("max-memory-gib")
 	if err != nil {
 		return err
 	}
 	n, acts := sys.Size()
-	bytes, ops := optimize.SystemCost(sys, workers)
+	bytes, ops := system.Cost(sys, workers)
 	if bytes <= limit*(1<<30) && n <= 5e7 && acts <= 1e6 {
 		return nil
 	}
@@ -60,7 +60,7 @@ func (a *app) solveSystem(cmd *cobra.Command, sf *systemFile, s *optimize.Settin
 		return err
 	}
 	warm := sys.SeparateStart(sep)
-	r, err := optimize.SolveSystem(cmd.Context(), sys, &optimize.SystemSettings{Tol: s.Tol, MaxSweeps: s.MaxIterations, Workers: workers, Start: warm})
+	r, err := system.Solve(cmd.Context(), sys, &system.Settings{Tol: s.Tol, MaxSweeps: s.MaxIterations, Workers: workers, Start: warm})
 	if err != nil {
 		return err
 	}
@@ -73,10 +73,7 @@ func (a *app) solveSystem(cmd *cobra.Command, sf *systemFile, s *optimize.Settin
 		return err
 	}
 	alone, groups := sys.Rules(r.Policy)
-	rate := sf.Rate
-	if !sf.HasRate {
-		rate, _ = costs.RateFromFactor(sys.Discount, sf.PeriodYears)
-	}
+	rate := sys.Discount.RatePerYear()
 	view := &reports.SystemAdvice{Model: sf.Name, Currency: sf.Currency, PeriodYears: sf.PeriodYears, Rate: rate,
 		HasRate: !math.IsNaN(rate), System: sys, Result: r, Separate: ev, Alone: alone, Groups: groups}
 	err = a.emit(cmd, out, format, view)

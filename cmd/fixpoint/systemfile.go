@@ -9,7 +9,7 @@ import (
 
 	"fixpoint/condition"
 	"fixpoint/costs"
-	"fixpoint/optimize"
+	"fixpoint/optimize/system"
 )
 
 // maxComponents bounds the components of a system file.
@@ -176,16 +176,16 @@ func (s *systemFile) decode(d *doc, root *yaml.Node) {
 	}
 }
 
-// system builds the optimize.System of the file and validates it; the
+// system builds the system.Machine of the file and validates it; the
 // errors name the file.
-func (s *systemFile) system() (*optimize.System, error) {
-	g, err := s.DiscountFactor()
+func (s *systemFile) system() (*system.Machine, error) {
+	g, err := s.discount()
 	if err != nil {
 		return nil, &inputError{File: s.Path, Path: "discount", Msg: err.Error()}
 	}
-	sys := &optimize.System{Shutdown: s.Shutdown, Down: s.Down, DownOnUnsafe: s.DownOnUnsafe, Discount: g}
+	sys := &system.Machine{Shutdown: s.Shutdown, Down: s.Down, DownOnUnsafe: s.DownOnUnsafe, Discount: g}
 	for _, c := range s.Components {
-		sys.Components = append(sys.Components, optimize.Component{Name: c.Name, Model: c.Model, Costs: c.Costs})
+		sys.Components = append(sys.Components, system.Component{Name: c.Name, Model: c.Model, Costs: c.Costs})
 	}
 	if err := sys.Validate(); err != nil {
 		return nil, &inputError{File: s.Path, Msg: err.Error()}

@@ -2,7 +2,7 @@
 // share: GLPK's stand-alone solver glpsol (Debian package glpk-utils) as an
 // independent reference, the primal LP of a discounted MDP in CPLEX LP
 // format, and random transition rows. It imports no fixpoint package but
-// condition, so that optimize's own internal tests can use it.
+// condition and costs, so that optimize's own internal tests can use it.
 package mdptest
 
 import (
@@ -17,6 +17,7 @@ import (
 	"testing"
 
 	"fixpoint/condition"
+	"fixpoint/costs"
 )
 
 // Glpsol returns the path of GLPK's stand-alone solver, skipping the test
@@ -159,4 +160,69 @@ func RandomRow(rng *rand.Rand, n, k int) []condition.Entry {
 		row[i] = condition.Entry{To: t, P: w[i] / sum}
 	}
 	return row
+}
+
+// RandomClass is an n-state class of equipment with m actions (m >= 2): a passive action that drifts
+// down the scale (not admissible in the unsafe last state), a repair one
+// or two states up, and a replacement; costs invented.
+func RandomClass(rng *rand.Rand, n, m int) (*condition.Model, *costs.Schedule) {
+	st := make([]condition.State, n)
+	for i := range st {
+		st[i] = condition.State{Name: "c" + strconv.Itoa(i), Unsafe: i == n-1}
+	}
+	model := &condition.Model{PeriodYears: 0.5, States: st}
+	sched := &costs.Schedule{Currency: "EUR", Running: make([]float64, n)}
+	for i := range n {
+		sched.Running[i] = 10 * float64(i*i) * (0.5 + rng.Float64())
+	}
+	for a := range m {
+		act := condition.Action{Name: "a" + strconv.Itoa(a), Passive: a == 0, Rows: make([][]condition.Entry, n)}
+		cost := make([]float64, n)
+		for x := range n {
+			switch {
+			case a == 0 && x < n-1:
+				stay := 0.5 + 0.4*rng.Float64()
+				act.Rows[x] = []condition.Entry{{To: x, P: stay}, {To: x + 1, P: 1 - stay}}
+			case a == m-1:
+				act.Rows[x] = []condition.Entry{{To: 0, P: 1}}
+				cost[x] = 400 + 200*rng.Float64()
+			case a > 0 && x > 0:
+				up := max(0, x-a)
+				act.Rows[x] = []condition.Entry{{To: up, P: 0.8}, {To: x, P: 0.2}}
+				cost[x] = 60*float64(a) + 40*rng.Float64()
+			}
+		}
+		model.Actions = append(model.Actions, act)
+		sched.Action = append(sched.Action, cost)
+	}
+	return model, sched
+}
+
+
+// Factor returns the discount of factor g per period of years years, and
+// panics on invalid input (tests only).
+func Factor(g, years float64) costs.Discount {
+	p, err := costs.NewPeriod(years)
+	if err != nil {
+		panic(err)
+	}
+	d, err := costs.Factor(g, p)
+	if err != nil {
+		panic(err)
+	}
+	return d
+}
+
+// Rate returns the discount at rate per year over periods of years years,
+// and panics on invalid input (tests only).
+func Rate(rate, years float64) costs.Discount {
+	p, err := costs.NewPeriod(years)
+	if err != nil {
+		panic(err)
+	}
+	d, err := costs.Rate(rate, p)
+	if err != nil {
+		panic(err)
+	}
+	return d
 }

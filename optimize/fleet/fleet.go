@@ -1,4 +1,4 @@
-package optimize
+package fleet
 
 import (
 	"context"
@@ -9,30 +9,32 @@ import (
 
 	"fixpoint/condition"
 	"fixpoint/costs"
+	"fixpoint/optimize"
 )
 
-// FleetClass is one class of a fleet: its model, costs and the number of
+// Class is one class of a fleet: its model, costs and the number of
 // units in each condition in year 1.
-type FleetClass struct {
+type Class struct {
 	Name   string
 	Model  *condition.Model
 	Costs  *costs.Schedule
 	Counts []float64
 }
 
-// Fleet is several classes sharing one discount factor, one period (a
+// Problem is several classes sharing one discount factor, one period (a
 // plan year) and an annual budget for work.
-type Fleet struct {
-	Classes []FleetClass
-	// Discount is the discount factor per year of the plan.
-	Discount float64
+type Problem struct {
+	Classes []Class
+	// Discount is the discount of the plan: its factor per period and
+	// the period length.
+	Discount costs.Discount
 	// Budget[t] caps the action spend of year t+1; len(Budget) is the
 	// horizon T.
 	Budget []float64
 }
 
-// PlanSettings controls PlanFleet.
-type PlanSettings struct {
+// Settings controls Solve.
+type Settings struct {
 	// Gap is the relative target (fluid cost - lower bound)/fluid cost;
 	// zero means 1e-5.
 	Gap float64
@@ -66,7 +68,7 @@ type Plan struct {
 	// condition s given action a in year t+1 by the fluid plan.
 	Flow [][][][]float64
 	// Advice holds each class's unconstrained optimum.
-	Advice []*Result
+	Advice []*optimize.Result
 	// Work[c][t][s][a] is the whole-unit work list: units of class c in
 	// condition s given action a in year t+1 (year 1 exact, later years
 	// applied to the expected fleet). Spend[t] is its action spend, never
@@ -95,9 +97,9 @@ type Plan struct {
 
 // fleetClass is a class prepared for planning.
 type fleetClass struct {
-	FleetClass
-	p       *Problem
-	advice  *Result
+	Class
+	p       *optimize.Problem
+	advice  *optimize.Result
 	running []float64
 	// choices[s] lists (action, action cost) of the admissible actions.
 	spend [][]float64
@@ -112,7 +114,7 @@ type column struct {
 	counts [][]float64 // [t][s], t = 0..T (T is after the horizon)
 }
 
-// PlanFleet plans the work of a fleet under annual budgets, with proven
+// Solve plans the work of a fleet under annual budgets, with proven
 // bounds on the expected-count (fluid) model. The fluid model is a linear
 // program; its budget rows couple the classes. Column generation
 // (Dantzig-Wolfe) solves it: the master chooses a mixture of class
@@ -125,8 +127,8 @@ type column struct {
 // when the relative gap is at most Gap. Mandatory work (unsafe states
 // admit no passive action) beyond a budget is paid as a shortfall at a
 // penalty price, so it is funded first and reported.
-func PlanFleet(ctx context.Context, f *Fleet, s *PlanSettings) (*Plan, error) {
-	var set PlanSettings
+func Solve(ctx context.Context, f *Problem, s *Settings) (*Plan, error) {
+	var set Settings
 	if s != nil {
 		set = *s
 	}
@@ -137,28 +139,28 @@ func PlanFleet(ctx context.Context, f *Fleet, s *PlanSettings) (*Plan, error) {
 		set.MaxIterations = 500
 	}
 	if len(f.Classes) == 0 || len(f.Budget) == 0 {
-		return nil, errors.New("optimize: the fleet needs at least one class and one year")
+		return nil, errors.New("fleet: the fleet needs at least one class and one year")
 	}
-	if !(f.Discount > 0 && f.Discount < 1) {
-		return nil, fmt.Errorf("optimize: discount factor %v is not in (0, 1)", f.Discount)
+	if f.Discount.IsZero() {
+		return nil, errors.New("fleet: the plan needs a discount")
 	}
 	for t, b := range f.Budget {
 		if !(b >= 0) || math.IsInf(b, 0) {
-			return nil, fmt.Errorf("optimize: budget of year %d is %v, want a finite number >= 0", t+1, b)
+			return nil, fmt.Errorf("fleet: budget of year %d is %v, want a finite number >= 0", t+1, b)
 		}
 	}
 	classes := make([]*fleetClass, len(f.Classes))
 	plan := &Plan{}
 	for i, fc := range f.Classes {
-		p, err := Build(fc.Model, fc.Costs, f.Discount)
+		p, err := optimize.Build(fc.Model, fc.Costs, f.Discount.Factor())
 		if err != nil {
-			return nil, fmt.Errorf("optimize: class %q: %w", fc.Name, err)
+			return nil, fmt.Errorf("fleet: class %q: %w", fc.Name, err)
 		}
-		r, err := Solve(ctx, p, &Settings{Method: PolicyIteration})
+		r, err := optimize.Solve(ctx, p, &optimize.Settings{Method: optimize.PolicyIteration})
 		if err != nil {
-			return nil, fmt.Errorf("optimize: class %q: %w", fc.Name, err)
+			return nil, fmt.Errorf("fleet: class %q: %w", fc.Name, err)
 		}
-		c := &fleetClass{FleetClass: fc, p: p, advice: r, running: fc.Costs.Running, spend: make([][]float64, len(p.States))}
+		c := &fleetClass{Class: fc, p: p, advice: r, running: fc.Costs.Running, spend: make([][]float64, len(p.States))}
 		for st, cs := range p.Choices {
 			c.spend[st] = make([]float64, len(cs))
 			for k, ch := range cs {
@@ -177,10 +179,10 @@ func PlanFleet(ctx context.Context, f *Fleet, s *PlanSettings) (*Plan, error) {
 	var cols []*column
 	for ci, c := range classes {
 		zero := make([]float64, T)
-		cols = append(cols, c.column(ci, c.price(f.Discount, zero), f.Discount, T))
+		cols = append(cols, c.column(ci, c.price(f.Discount.Factor(), zero), f.Discount.Factor(), T))
 		// A cheap column: the least-spend policy, so the master always has
 		// a way to save money.
-		cols = append(cols, c.column(ci, c.leastSpend(T), f.Discount, T))
+		cols = append(cols, c.column(ci, c.leastSpend(T), f.Discount.Factor(), T))
 	}
 	lower := math.Inf(-1)
 	var (
@@ -209,8 +211,8 @@ func PlanFleet(ctx context.Context, f *Fleet, s *PlanSettings) (*Plan, error) {
 		}
 		added := 0
 		for ci, c := range classes {
-			pol := c.price(f.Discount, lambda)
-			col := c.column(ci, pol, f.Discount, T)
+			pol := c.price(f.Discount.Factor(), lambda)
+			col := c.column(ci, pol, f.Discount.Factor(), T)
 			priced := col.cost
 			for t, sp := range col.spend {
 				priced += lambda[t] * sp
@@ -316,7 +318,7 @@ func (c *fleetClass) price(gamma float64, lambda []float64) [][]int {
 		for st, cs := range c.p.Choices {
 			var best float64
 			for k, ch := range cs {
-				q := disc*(c.running[st]+c.spend[st][k]) + lambda[t]*c.spend[st][k] + expect(ch.Next, w)
+				q := disc*(c.running[st]+c.spend[st][k]) + lambda[t]*c.spend[st][k] + optimize.Expect(ch.Next, w)
 				if k == 0 || q < best-1e-12*math.Abs(best) {
 					best, pol[t][st] = q, ch.Action
 				}
@@ -360,7 +362,7 @@ func (c *fleetClass) column(ci int, pol [][]int, gamma float64, T int) *column {
 			if x == 0 {
 				continue
 			}
-			k := c.p.find(st, pol[t][st])
+			k := c.p.Find(st, pol[t][st])
 			col.spend[t] += x * c.spend[st][k]
 			col.cost += disc * x * (c.running[st] + c.spend[st][k])
 			for _, e := range c.p.Choices[st][k].Next {
@@ -429,7 +431,7 @@ func solveMaster(cols []*column, nClasses int, budget []float64, penalty float64
 	}
 	x, obj, y, err := denseLP(c, a, b)
 	if err != nil {
-		return nil, 0, nil, 0, fmt.Errorf("optimize: plan master: %w", err)
+		return nil, 0, nil, 0, fmt.Errorf("fleet: plan master: %w", err)
 	}
 	short := 0.0
 	for _, z := range x[len(cols)+T:] {

@@ -1,56 +1,20 @@
-package optimize
+package system
 
 import (
 	"context"
+	"fixpoint/optimize"
+	"fixpoint/optimize/internal/mdptest"
 	"math"
 	"math/rand/v2"
 	"strconv"
 	"testing"
-
-	"fixpoint/condition"
-	"fixpoint/costs"
 )
 
-// randomComponent is an n-state component: a passive action that drifts
-// down the scale (not admissible in the unsafe last state), a repair one
-// or two states up, and a replacement; costs invented.
-func randomComponent(rng *rand.Rand, name string, n, m int) Component {
-	st := make([]condition.State, n)
-	for i := range st {
-		st[i] = condition.State{Name: "c" + strconv.Itoa(i), Unsafe: i == n-1}
-	}
-	model := &condition.Model{PeriodYears: 0.5, States: st}
-	sched := &costs.Schedule{Currency: "EUR", Running: make([]float64, n)}
-	for i := range n {
-		sched.Running[i] = 10 * float64(i*i) * (0.5 + rng.Float64())
-	}
-	for a := range m {
-		act := condition.Action{Name: "a" + strconv.Itoa(a), Passive: a == 0, Rows: make([][]condition.Entry, n)}
-		cost := make([]float64, n)
-		for x := range n {
-			switch {
-			case a == 0 && x < n-1:
-				stay := 0.5 + 0.4*rng.Float64()
-				act.Rows[x] = []condition.Entry{{To: x, P: stay}, {To: x + 1, P: 1 - stay}}
-			case a == m-1:
-				act.Rows[x] = []condition.Entry{{To: 0, P: 1}}
-				cost[x] = 400 + 200*rng.Float64()
-			case a > 0 && x > 0:
-				up := max(0, x-a)
-				act.Rows[x] = []condition.Entry{{To: up, P: 0.8}, {To: x, P: 0.2}}
-				cost[x] = 60*float64(a) + 40*rng.Float64()
-			}
-		}
-		model.Actions = append(model.Actions, act)
-		sched.Action = append(sched.Action, cost)
-	}
-	return Component{Name: name, Model: model, Costs: sched}
-}
-
-func randomSystem(rng *rand.Rand, k, n, m int, shutdown, down float64) *System {
-	sys := &System{Shutdown: shutdown, Down: down, DownOnUnsafe: down > 0, Discount: 0.95}
+func randomMachine(rng *rand.Rand, k, n, m int, shutdown, down float64) *Machine {
+	sys := &Machine{Shutdown: shutdown, Down: down, DownOnUnsafe: down > 0, Discount: mdptest.Factor(0.95, 0.5)}
 	for i := range k {
-		sys.Components = append(sys.Components, randomComponent(rng, "part"+strconv.Itoa(i), n, m))
+		model, sched := mdptest.RandomClass(rng, n, m)
+		sys.Components = append(sys.Components, Component{Name: "part" + strconv.Itoa(i), Model: model, Costs: sched})
 	}
 	return sys
 }
@@ -61,20 +25,20 @@ func TestSystemMatchesFlattened(t *testing.T) {
 	rng := rand.New(rand.NewPCG(61, 62))
 	for trial := range 8 {
 		k := 2 + trial%2
-		sys := randomSystem(rng, k, 3+rng.IntN(2), 2+rng.IntN(2), 150, 300)
+		sys := randomMachine(rng, k, 3+rng.IntN(2), 2+rng.IntN(2), 150, 300)
 		flat, err := sys.Flatten(1000)
 		if err != nil {
 			t.Fatal(err)
 		}
-		r, err := SolveSystem(context.Background(), sys, &SystemSettings{Tol: 1e-8})
+		r, err := Solve(context.Background(), sys, &Settings{Tol: 1e-8})
 		if err != nil {
 			t.Fatal(err)
 		}
-		if r.Status != Certified {
+		if r.Status != optimize.Certified {
 			t.Errorf("trial %d: structured solve not certified, gap %g", trial, r.Gap)
 		}
-		for _, m := range []Method{PolicyIteration, LinearProgram} {
-			ref, err := Solve(context.Background(), flat, &Settings{Method: m, Tol: 1e-8})
+		for _, m := range []optimize.Method{optimize.PolicyIteration, optimize.LinearProgram} {
+			ref, err := optimize.Solve(context.Background(), flat, &optimize.Settings{Method: m, Tol: 1e-8})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -103,12 +67,12 @@ func TestSystemMatchesFlattened(t *testing.T) {
 // component values (independent additive problems).
 func TestSystemDecomposesWithoutSharedCosts(t *testing.T) {
 	rng := rand.New(rand.NewPCG(63, 64))
-	sys := randomSystem(rng, 3, 4, 3, 0, 0)
+	sys := randomMachine(rng, 3, 4, 3, 0, 0)
 	sep, err := sys.Separate(context.Background())
 	if err != nil {
 		t.Fatal(err)
 	}
-	r, err := SolveSystem(context.Background(), sys, &SystemSettings{Tol: 1e-9})
+	r, err := Solve(context.Background(), sys, &Settings{Tol: 1e-9})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -133,12 +97,12 @@ func TestSystemDecomposesWithoutSharedCosts(t *testing.T) {
 // the joint system, and gains when a shutdown is costly.
 func TestSystemSavingOverSeparate(t *testing.T) {
 	rng := rand.New(rand.NewPCG(65, 66))
-	sys := randomSystem(rng, 3, 4, 3, 400, 1000)
+	sys := randomMachine(rng, 3, 4, 3, 400, 1000)
 	sep, err := sys.Separate(context.Background())
 	if err != nil {
 		t.Fatal(err)
 	}
-	r, err := SolveSystem(context.Background(), sys, &SystemSettings{Tol: 1e-6, Start: sys.SeparateStart(sep)})
+	r, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6, Start: sys.SeparateStart(sep)})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -166,13 +130,13 @@ func TestSystemSavingOverSeparate(t *testing.T) {
 // zero, with no more sweeps.
 func TestSystemWarmStart(t *testing.T) {
 	rng := rand.New(rand.NewPCG(67, 68))
-	sys := randomSystem(rng, 3, 4, 3, 200, 500)
+	sys := randomMachine(rng, 3, 4, 3, 200, 500)
 	sep, _ := sys.Separate(context.Background())
-	cold, err := SolveSystem(context.Background(), sys, &SystemSettings{Tol: 1e-6})
+	cold, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6})
 	if err != nil {
 		t.Fatal(err)
 	}
-	warm, err := SolveSystem(context.Background(), sys, &SystemSettings{Tol: 1e-6, Start: sys.SeparateStart(sep), Workers: 1})
+	warm, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6, Start: sys.SeparateStart(sep), Workers: 1})
 	if err != nil {
 		t.Fatal(err)
 	}

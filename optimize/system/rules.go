@@ -1,4 +1,4 @@
-package optimize
+package system
 
 import (
 	"context"
@@ -7,15 +7,16 @@ import (
 	"slices"
 
 	"fixpoint/condition"
+	"fixpoint/optimize"
 )
 
 // componentProblem is component i alone: its own costs, plus the shutdown
 // cost whenever it gets non-passive work, plus the down cost while it is
 // unsafe (when the system charges it).
-func (sys *System) componentProblem(i int) *Problem {
+func (sys *Machine) componentProblem(i int) *optimize.Problem {
 	c := sys.Components[i]
 	m := c.Model
-	p := &Problem{States: m.StateNames(), Actions: m.ActionNames(), Discount: sys.Discount, Choices: make([][]Choice, len(m.States))}
+	p := &optimize.Problem{States: m.StateNames(), Actions: m.ActionNames(), Discount: sys.Discount.Factor(), Choices: make([][]optimize.Choice, len(m.States))}
 	for x, st := range m.States {
 		for a, act := range m.Actions {
 			if !act.Admissible(x) || (act.Passive && st.Unsafe) {
@@ -28,7 +29,7 @@ func (sys *System) componentProblem(i int) *Problem {
 			if st.Unsafe && sys.DownOnUnsafe {
 				cost += sys.Down
 			}
-			p.Choices[x] = append(p.Choices[x], Choice{Action: a, Cost: cost, Next: act.Rows[x]})
+			p.Choices[x] = append(p.Choices[x], optimize.Choice{Action: a, Cost: cost, Next: act.Rows[x]})
 		}
 	}
 	return p
@@ -37,12 +38,12 @@ func (sys *System) componentProblem(i int) *Problem {
 // Separate solves every component alone (see componentProblem) and
 // returns their results: the policies a planner would use without
 // grouping work.
-func (sys *System) Separate(ctx context.Context) ([]*Result, error) {
-	out := make([]*Result, len(sys.Components))
+func (sys *Machine) Separate(ctx context.Context) ([]*optimize.Result, error) {
+	out := make([]*optimize.Result, len(sys.Components))
 	for i := range sys.Components {
-		r, err := Solve(ctx, sys.componentProblem(i), &Settings{Method: PolicyIteration})
+		r, err := optimize.Solve(ctx, sys.componentProblem(i), &optimize.Settings{Method: optimize.PolicyIteration})
 		if err != nil {
-			return nil, fmt.Errorf("optimize: component %q alone: %w", sys.Components[i].Name, err)
+			return nil, fmt.Errorf("system: component %q alone: %w", sys.Components[i].Name, err)
 		}
 		out[i] = r
 	}
@@ -51,7 +52,7 @@ func (sys *System) Separate(ctx context.Context) ([]*Result, error) {
 
 // SeparateStart returns Σ_k v_k(x_k), the sum of the separate components'
 // values: a good first iterate for the joint value iteration.
-func (sys *System) SeparateStart(sep []*Result) []float64 {
+func (sys *Machine) SeparateStart(sep []*optimize.Result) []float64 {
 	j := newJointLayout(sys)
 	v := make([]float64, j.n)
 	for s := range v {
@@ -75,7 +76,7 @@ type ProductEvaluation struct {
 // iterative policy evaluation: its transition operator is the Kronecker
 // product of the component matrices, so one sweep is K mode products. It
 // stops when the MacQueen bracket is narrower than tol.
-func (sys *System) EvaluateProduct(ctx context.Context, policies [][]int, start []float64, tol float64) (*ProductEvaluation, error) {
+func (sys *Machine) EvaluateProduct(ctx context.Context, policies [][]int, start []float64, tol float64) (*ProductEvaluation, error) {
 	j := newJoint(sys)
 	c := make([]float64, j.n)
 	for s := range j.n {
@@ -91,14 +92,14 @@ func (sys *System) EvaluateProduct(ctx context.Context, policies [][]int, start 
 			c[s] += sys.Shutdown
 		}
 		if math.IsInf(c[s], 0) {
-			return nil, fmt.Errorf("optimize: product policy takes an inadmissible action in joint state %d", s)
+			return nil, fmt.Errorf("system: product policy takes an inadmissible action in joint state %d", s)
 		}
 	}
 	v := make([]float64, j.n)
 	copy(v, start)
 	a, b := make([]float64, j.n), make([]float64, j.n)
-	g := sys.Discount
-	for sweep := 1; sweep <= DefaultValueSweeps; sweep++ {
+	g := sys.Discount.Factor()
+	for sweep := 1; sweep <= optimize.DefaultValueSweeps; sweep++ {
 		if sweep%16 == 1 {
 			if err := ctx.Err(); err != nil {
 				return nil, err
@@ -116,7 +117,7 @@ func (sys *System) EvaluateProduct(ctx context.Context, policies [][]int, start 
 			lo, hi = min(lo, d), max(hi, d)
 			a[s] = tv
 		}
-		if g/(1-g)*(hi-lo) <= tol || sweep == DefaultValueSweeps {
+		if g/(1-g)*(hi-lo) <= tol || sweep == optimize.DefaultValueSweeps {
 			out := &ProductEvaluation{Value: make([]float64, j.n), Lower: make([]float64, j.n), Upper: make([]float64, j.n), Sweeps: sweep}
 			for s := range j.n {
 				out.Lower[s] = a[s] + g/(1-g)*lo
@@ -149,19 +150,19 @@ func (j *joint) modeProductPolicy(out, in []float64, i int, policy []int) {
 	}
 }
 
-// Flatten returns the joint model as an explicit Problem (every joint
+// Flatten returns the joint model as an explicit optimize.Problem (every joint
 // state and admissible joint action with its Kronecker row), for checking
 // the structured solver on small systems. It refuses more than maxStates
 // joint states.
-func (sys *System) Flatten(maxStates int) (*Problem, error) {
+func (sys *Machine) Flatten(maxStates int) (*optimize.Problem, error) {
 	if err := sys.Validate(); err != nil {
 		return nil, err
 	}
 	j := newJoint(sys)
 	if j.n > maxStates {
-		return nil, fmt.Errorf("optimize: %d joint states, more than %d to flatten", j.n, maxStates)
+		return nil, fmt.Errorf("system: %d joint states, more than %d to flatten", j.n, maxStates)
 	}
-	p := &Problem{Discount: sys.Discount, Choices: make([][]Choice, j.n)}
+	p := &optimize.Problem{Discount: sys.Discount.Factor(), Choices: make([][]optimize.Choice, j.n)}
 	for s := range j.n {
 		p.States = append(p.States, sys.StateName(s))
 	}
@@ -195,7 +196,7 @@ func (sys *System) Flatten(maxStates int) (*Problem, error) {
 				cost += sys.Shutdown
 			}
 			slices.SortFunc(row, func(x, y condition.Entry) int { return x.To - y.To })
-			p.Choices[s] = append(p.Choices[s], Choice{Action: a, Cost: cost, Next: mergeEntries(row)})
+			p.Choices[s] = append(p.Choices[s], optimize.Choice{Action: a, Cost: cost, Next: mergeEntries(row)})
 		}
 	}
 	return p, nil
@@ -238,7 +239,7 @@ type GroupRule struct {
 // every grouping of work that the shared shutdown brings about. The rules
 // look at joint states where the components not named are as new; the
 // full joint table holds every case.
-func (sys *System) Rules(policy []int32) ([]AloneRule, []GroupRule) {
+func (sys *Machine) Rules(policy []int32) ([]AloneRule, []GroupRule) {
 	k := len(sys.Components)
 	best := make([]int, k)
 	alone := make([]AloneRule, k)
@@ -283,9 +284,9 @@ func (sys *System) Rules(policy []int32) ([]AloneRule, []GroupRule) {
 	return alone, groups
 }
 
-// SystemCost estimates what SolveSystem needs: memory in bytes for the
+// Cost estimates what Solve needs: memory in bytes for the
 // given number of workers, and arithmetic operations per sweep.
-func SystemCost(sys *System, workers int) (bytes, opsPerSweep float64) {
+func Cost(sys *Machine, workers int) (bytes, opsPerSweep float64) {
 	n, acts := sys.Size()
 	k := float64(len(sys.Components))
 	// Per worker: K+1 product and K+1 cost buffers of n float64, best and

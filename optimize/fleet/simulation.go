@@ -1,4 +1,4 @@
-package optimize
+package fleet
 
 import (
 	"context"
@@ -10,6 +10,7 @@ import (
 	"gonum.org/v1/gonum/stat"
 
 	"fixpoint/condition"
+	"fixpoint/optimize"
 )
 
 // Quantiles summarises a simulated quantity: its mean, the standard error
@@ -34,7 +35,7 @@ type Simulation struct {
 	ExpectedUnits [][][]float64
 }
 
-// SimulatePlan draws runs futures of the fleet. Each year, the units of a
+// Simulate draws runs futures of the fleet. Each year, the units of a
 // class in a condition are split over actions by one multinomial draw with
 // the rule's shares (so the simulation's mean is the expected-count
 // forecast), and each group moves by one multinomial draw of its
@@ -42,15 +43,15 @@ type Simulation struct {
 // unconstrained advice instead of the plan. Run r uses its own random
 // stream (seed, r), so results do not depend on the number of workers;
 // progress, if not nil, is called with the runs done.
-func SimulatePlan(ctx context.Context, f *Fleet, plan *Plan, useAdvice bool, runs int, seed uint64, workers int, progress func(int)) (*Simulation, error) {
+func Simulate(ctx context.Context, f *Problem, plan *Plan, useAdvice bool, runs int, seed uint64, workers int, progress func(int)) (*Simulation, error) {
 	T := len(f.Budget)
 	classes := make([]*fleetClass, len(f.Classes))
 	for ci, fc := range f.Classes {
-		p, err := Build(fc.Model, fc.Costs, f.Discount)
+		p, err := optimize.Build(fc.Model, fc.Costs, f.Discount.Factor())
 		if err != nil {
 			return nil, err
 		}
-		classes[ci] = &fleetClass{FleetClass: fc, p: p, advice: plan.Advice[ci], running: fc.Costs.Running}
+		classes[ci] = &fleetClass{Class: fc, p: p, advice: plan.Advice[ci], running: fc.Costs.Running}
 	}
 	shares := func(ci, t, s int) []float64 {
 		if !useAdvice {
@@ -153,7 +154,7 @@ func simulateRun(rng *rand.Rand, classes []*fleetClass, shares func(ci, t, s int
 					cost := c.Costs.Action[a][s]
 					spend[t] += float64(k) * cost
 					total[t] += float64(k) * (cost + c.running[s])
-					condition.Multinomial(rng, k, c.p.Choices[s][c.p.find(s, a)].Next, next)
+					condition.Multinomial(rng, k, c.p.Choices[s][c.p.Find(s, a)].Next, next)
 				}
 			}
 			cur = next
@@ -189,7 +190,7 @@ func (sim *Simulation) expected(classes []*fleetClass, shares func(ci, t, s int)
 						continue
 					}
 					sim.ExpectedSpend[t] += x * sh * c.Costs.Action[a][s]
-					for _, e := range c.p.Choices[s][c.p.find(s, a)].Next {
+					for _, e := range c.p.Choices[s][c.p.Find(s, a)].Next {
 						next[e.To] += x * sh * e.P
 					}
 				}

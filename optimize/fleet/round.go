@@ -1,4 +1,4 @@
-package optimize
+package fleet
 
 import (
 	"math"
@@ -54,7 +54,7 @@ func largestRemainder(x []float64, total int) []int {
 // shares the listed work (where it is not). That gives PlanCost, the
 // expected units, the expected spend and the shares used by the
 // simulation.
-func (plan *Plan) round(classes []*fleetClass, f *Fleet) {
+func (plan *Plan) round(classes []*fleetClass, f *Problem) {
 	T := len(f.Budget)
 	nc := len(classes)
 	plan.Work = make([][][][]int, nc)
@@ -88,7 +88,7 @@ func (plan *Plan) round(classes []*fleetClass, f *Fleet) {
 				for a, u := range plan.Work[ci][t][st] {
 					cost := float64(u) * c.Costs.Action[a][st]
 					plan.Spend[t] += cost
-					if c.p.find(st, plan.PassiveActions[ci]) < 0 {
+					if c.p.Find(st, plan.PassiveActions[ci]) < 0 {
 						plan.Mandatory[t] += cost
 					}
 				}
@@ -103,7 +103,7 @@ func (plan *Plan) round(classes []*fleetClass, f *Fleet) {
 
 // evaluate applies the work list's numbers to the expected fleet it
 // produces (see round).
-func (plan *Plan) evaluate(classes []*fleetClass, f *Fleet) {
+func (plan *Plan) evaluate(classes []*fleetClass, f *Problem) {
 	T := len(f.Budget)
 	nc := len(classes)
 	plan.Shares = make([][][][]float64, nc)
@@ -124,7 +124,7 @@ func (plan *Plan) evaluate(classes []*fleetClass, f *Fleet) {
 			next := make([]float64, len(cur))
 			for st, row := range plan.Work[ci][t] {
 				x := make([]float64, len(row))
-				passive := pa >= 0 && c.p.find(st, pa) >= 0
+				passive := pa >= 0 && c.p.Find(st, pa) >= 0
 				work := 0.0
 				for a, u := range row {
 					if !passive || a != pa {
@@ -173,13 +173,13 @@ func (plan *Plan) evaluate(classes []*fleetClass, f *Fleet) {
 					}
 					plan.PlanCost += disc * v * (c.running[st] + c.Costs.Action[a][st])
 					plan.ExpectedSpend[t] += v * c.Costs.Action[a][st]
-					for _, e := range c.p.Choices[st][c.p.find(st, a)].Next {
+					for _, e := range c.p.Choices[st][c.p.Find(st, a)].Next {
 						next[e.To] += v * e.P
 					}
 				}
 			}
 			cur = next
-			disc *= f.Discount
+			disc *= f.Discount.Factor()
 		}
 		plan.Expected[ci][T] = cur
 		for st, v := range cur {
@@ -209,7 +209,7 @@ func (plan *Plan) fitBudget(classes []*fleetClass, t int, limit float64) {
 				continue
 			}
 			for st, row := range plan.Work[ci][t] {
-				kp := c.p.find(st, pa)
+				kp := c.p.Find(st, pa)
 				if kp < 0 {
 					continue // passive not admissible: mandatory work
 				}
@@ -218,7 +218,7 @@ func (plan *Plan) fitBudget(classes []*fleetClass, t int, limit float64) {
 					if u == 0 || a == pa || saved <= 0 {
 						continue
 					}
-					loss := c.advice.Q[st][kp] - c.advice.Q[st][c.p.find(st, a)]
+					loss := c.advice.Q[st][kp] - c.advice.Q[st][c.p.Find(st, a)]
 					if ratio := loss / saved; ratio < bestRatio {
 						bestC, bestS, bestA, bestRatio = ci, st, a, ratio
 					}

@@ -1,4 +1,4 @@
-package optimize
+package system
 
 import (
 	"context"
@@ -11,6 +11,7 @@ import (
 
 	"fixpoint/condition"
 	"fixpoint/costs"
+	"fixpoint/optimize"
 )
 
 // Component is one part of a machine: its condition model and costs.
@@ -20,7 +21,7 @@ type Component struct {
 	Costs *costs.Schedule
 }
 
-// System is a machine of independently degrading components that share a
+// Machine is a machine of independently degrading components that share a
 // shutdown: any period in which at least one component gets non-passive
 // work costs Shutdown once, and any period in which some component is in
 // an unsafe state costs Down (when DownOnUnsafe).
@@ -31,17 +32,17 @@ type Component struct {
 // indices. Components transition independently given their actions, so
 // the transition operator of a joint action is the Kronecker product of
 // the component rows.
-type System struct {
+type Machine struct {
 	Components   []Component
 	Shutdown     float64
 	Down         float64
 	DownOnUnsafe bool
-	// Discount is the discount factor per period, in (0, 1).
-	Discount float64
+	// Discount is the discount per period.
+	Discount costs.Discount
 }
 
 // Size returns the number of joint states and joint actions.
-func (sys *System) Size() (states, actions float64) {
+func (sys *Machine) Size() (states, actions float64) {
 	states, actions = 1, 1
 	for _, c := range sys.Components {
 		states *= float64(len(c.Model.States))
@@ -52,39 +53,39 @@ func (sys *System) Size() (states, actions float64) {
 
 // Validate checks every component (condition model, costs, a passive
 // action), unique component names, finite shared costs and the discount.
-func (sys *System) Validate() error {
+func (sys *Machine) Validate() error {
 	var errs []error
 	if len(sys.Components) == 0 {
-		errs = append(errs, errors.New("optimize: the system has no components"))
+		errs = append(errs, errors.New("system: the system has no components"))
 	}
 	seen := make(map[string]bool)
 	for i, c := range sys.Components {
 		if seen[c.Name] {
-			errs = append(errs, fmt.Errorf("optimize: component %d: duplicate name %q", i, c.Name))
+			errs = append(errs, fmt.Errorf("system: component %d: duplicate name %q", i, c.Name))
 		}
 		seen[c.Name] = true
 		if err := errors.Join(c.Model.Validate(), c.Costs.Validate(len(c.Model.States), len(c.Model.Actions))); err != nil {
-			errs = append(errs, fmt.Errorf("optimize: component %q: %w", c.Name, err))
+			errs = append(errs, fmt.Errorf("system: component %q: %w", c.Name, err))
 			continue
 		}
 		if c.Model.Passive() < 0 {
-			errs = append(errs, fmt.Errorf("optimize: component %q has no passive action", c.Name))
+			errs = append(errs, fmt.Errorf("system: component %q has no passive action", c.Name))
 		}
 	}
 	for _, x := range []float64{sys.Shutdown, sys.Down} {
 		if math.IsNaN(x) || math.IsInf(x, 0) {
-			errs = append(errs, fmt.Errorf("optimize: shared cost %v is not finite", x))
+			errs = append(errs, fmt.Errorf("system: shared cost %v is not finite", x))
 		}
 	}
-	if !(sys.Discount > 0 && sys.Discount < 1) {
-		errs = append(errs, fmt.Errorf("optimize: discount factor %v is not in (0, 1)", sys.Discount))
+	if sys.Discount.IsZero() {
+		errs = append(errs, errors.New("system: the machine needs a discount"))
 	}
 	return errors.Join(errs...)
 }
 
 // joint holds the precomputed layout of a system.
 type joint struct {
-	sys     *System
+	sys     *Machine
 	k       int
 	dims    []int // states per component
 	strides []int // state strides
@@ -102,7 +103,7 @@ type joint struct {
 }
 
 // newJoint precomputes the layout, costs and rows of a system.
-func newJoint(sys *System) *joint {
+func newJoint(sys *Machine) *joint {
 	j := newJointLayout(sys)
 	for _, c := range sys.Components {
 		j.passive = append(j.passive, c.Model.Passive())
@@ -238,7 +239,7 @@ func (st *sweepState) offer(s int, q float64, a int32) {
 // far.
 func (j *joint) descend(st *sweepState, level, prefix int) {
 	if level == j.k {
-		g := j.sys.Discount
+		g := j.sys.Discount.Factor()
 		extra := 0.0
 		if j.worked(prefix) {
 			extra = j.sys.Shutdown
@@ -321,9 +322,9 @@ func (j *joint) sweep(ctx context.Context, v []float64, states []*sweepState) er
 	return nil
 }
 
-// SystemResult is the certified joint policy of a system.
-type SystemResult struct {
-	Status Status
+// Result is the certified joint policy of a system.
+type Result struct {
+	Status optimize.Status
 	Tol    float64
 	Sweeps int
 	// Policy[s] is the joint action index of joint state s.
@@ -341,22 +342,22 @@ type SystemResult struct {
 	Workers  int
 }
 
-// SystemSettings controls SolveSystem.
-type SystemSettings struct {
-	// Tol is the target gap in currency units; zero means DefaultTol.
+// Settings controls Solve.
+type Settings struct {
+	// Tol is the target gap in currency units; zero means optimize.DefaultTol.
 	Tol float64
-	// MaxSweeps caps value iteration; zero means DefaultValueSweeps.
+	// MaxSweeps caps value iteration; zero means optimize.DefaultValueSweeps.
 	MaxSweeps int
 	// Workers is the number of goroutines; zero means GOMAXPROCS.
 	Workers int
 	// Start, if not nil, is the first iterate (for instance the sum of the
 	// components' separate values).
 	Start []float64
-	// Progress, if not nil, is called after every sweep.
-	Progress func(Progress)
+	// optimize.Progress, if not nil, is called after every sweep.
+	Progress func(optimize.Progress)
 }
 
-// SolveSystem solves the joint model by value iteration with MacQueen's
+// Solve solves the joint model by value iteration with MacQueen's
 // bounds, never forming the joint transition matrix: for each joint
 // action, P v is the Kronecker product of the component rows applied by
 // successive mode products, O(n·Σ_k nnz_k/n_k) each, and joint actions
@@ -364,19 +365,19 @@ type SystemSettings struct {
 // costs O(n · Σ_k nnz_k/n_k · Π_{j<=k} m_j) for m_j actions of component j;
 // memory is O(n·K) per worker. It stops when γ/(1-γ)·span(Tv - v) is at
 // most Tol/2 (the bounds are then widened by a rounding allowance).
-func SolveSystem(ctx context.Context, sys *System, s *SystemSettings) (*SystemResult, error) {
+func Solve(ctx context.Context, sys *Machine, s *Settings) (*Result, error) {
 	if err := sys.Validate(); err != nil {
 		return nil, err
 	}
-	var set SystemSettings
+	var set Settings
 	if s != nil {
 		set = *s
 	}
 	if set.Tol <= 0 {
-		set.Tol = DefaultTol
+		set.Tol = optimize.DefaultTol
 	}
 	if set.MaxSweeps <= 0 {
-		set.MaxSweeps = DefaultValueSweeps
+		set.MaxSweeps = optimize.DefaultValueSweeps
 	}
 	if set.Workers <= 0 {
 		set.Workers = runtime.GOMAXPROCS(0)
@@ -391,8 +392,8 @@ func SolveSystem(ctx context.Context, sys *System, s *SystemSettings) (*SystemRe
 	if set.Start != nil {
 		copy(v, set.Start)
 	}
-	g := sys.Discount
-	r := &SystemResult{Tol: set.Tol, Workers: set.Workers}
+	g := sys.Discount.Factor()
+	r := &Result{Tol: set.Tol, Workers: set.Workers}
 	for sweep := 1; ; sweep++ {
 		if err := ctx.Err(); err != nil {
 			return nil, err
@@ -411,7 +412,7 @@ func SolveSystem(ctx context.Context, sys *System, s *SystemSettings) (*SystemRe
 		}
 		gap := g / (1 - g) * (hi - lo)
 		if set.Progress != nil {
-			set.Progress(Progress{Method: ValueIteration, Iteration: sweep, Gap: gap})
+			set.Progress(optimize.Progress{Method: optimize.ValueIteration, Iteration: sweep, Gap: gap})
 		}
 		// Half the tolerance: the rest is room for the rounding allowance.
 		if gap <= set.Tol/2 || sweep >= set.MaxSweeps {
@@ -449,8 +450,8 @@ func safeActs(j *joint, i int) int {
 
 // finish fills the certificate from the last sweep; prevLower holds lower
 // bounds proven by the sweep before.
-func (r *SystemResult) finish(j *joint, v []float64, st *sweepState, lo, hi float64, prevLower []float64) {
-	g := j.sys.Discount
+func (r *Result) finish(j *joint, v []float64, st *sweepState, lo, hi float64, prevLower []float64) {
+	g := j.sys.Discount.Factor()
 	n := j.n
 	r.Policy = make([]int32, n)
 	r.Value, r.Lower, r.Upper = make([]float64, n), make([]float64, n), make([]float64, n)
@@ -483,14 +484,14 @@ func (r *SystemResult) finish(j *joint, v []float64, st *sweepState, lo, hi floa
 			r.Margin[s] = math.NaN()
 		}
 	}
-	r.Status = Certified
+	r.Status = optimize.Certified
 	if !(r.Gap <= r.Tol) {
-		r.Status = NotCertified
+		r.Status = optimize.NotCertified
 	}
 }
 
 // StateName writes joint state s as "motor=worn,rope=good".
-func (sys *System) StateName(s int) string {
+func (sys *Machine) StateName(s int) string {
 	j := newJointLayout(sys)
 	parts := make([]string, len(sys.Components))
 	for i, c := range sys.Components {
@@ -500,7 +501,7 @@ func (sys *System) StateName(s int) string {
 }
 
 // ActionName writes joint action a as "motor=rewind,rope=leave".
-func (sys *System) ActionName(a int) string {
+func (sys *Machine) ActionName(a int) string {
 	j := newJointLayout(sys)
 	parts := make([]string, len(sys.Components))
 	for i, c := range sys.Components {
@@ -511,7 +512,7 @@ func (sys *System) ActionName(a int) string {
 
 // Coords returns the component conditions of joint state s, and
 // ActionCoords the component actions of joint action a.
-func (sys *System) Coords(s int) []int {
+func (sys *Machine) Coords(s int) []int {
 	j := newJointLayout(sys)
 	out := make([]int, len(sys.Components))
 	for i := range out {
@@ -521,7 +522,7 @@ func (sys *System) Coords(s int) []int {
 }
 
 // ActionCoords returns the component actions of joint action a.
-func (sys *System) ActionCoords(a int) []int {
+func (sys *Machine) ActionCoords(a int) []int {
 	j := newJointLayout(sys)
 	out := make([]int, len(sys.Components))
 	for i := range out {
@@ -531,7 +532,7 @@ func (sys *System) ActionCoords(a int) []int {
 }
 
 // Index returns the joint state of component conditions xs.
-func (sys *System) Index(xs []int) int {
+func (sys *Machine) Index(xs []int) int {
 	j := newJointLayout(sys)
 	s := 0
 	for i, x := range xs {
@@ -541,7 +542,7 @@ func (sys *System) Index(xs []int) int {
 }
 
 // newJointLayout computes only the strides of a system (cheap).
-func newJointLayout(sys *System) *joint {
+func newJointLayout(sys *Machine) *joint {
 	j := &joint{sys: sys, k: len(sys.Components), n: 1, nActs: 1}
 	for _, c := range sys.Components {
 		j.dims = append(j.dims, len(c.Model.States))
@@ -556,3 +557,5 @@ func newJointLayout(sys *System) *joint {
 	}
 	return j
 }
+
+var errNonFinite = errors.New("system: iteration produced a non-finite value")

@@ -1,4 +1,4 @@
-package optimize
+package fleet
 
 import (
 	"errors"
@@ -6,9 +6,9 @@ import (
 )
 
 var (
-	errInfeasible = errors.New("optimize: linear program is infeasible")
-	errUnbounded  = errors.New("optimize: linear program is unbounded")
-	errPivots     = errors.New("optimize: simplex pivot limit reached")
+	errInfeasible = errors.New("fleet: linear program is infeasible")
+	errUnbounded  = errors.New("fleet: linear program is unbounded")
+	errPivots     = errors.New("fleet: simplex pivot limit reached")
 )
 
 // denseLP solves min cᵀx subject to A x = b, x >= 0 by the two-phase

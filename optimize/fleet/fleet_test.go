@@ -1,7 +1,8 @@
-package optimize
+package fleet
 
 import (
 	"context"
+	"fixpoint/optimize"
 	"fixpoint/optimize/internal/mdptest"
 	"fmt"
 	"math"
@@ -14,15 +15,16 @@ import (
 )
 
 // smallFleet is two or three random classes with invented counts.
-func smallFleet(rng *rand.Rand, classes, years int, budget float64) *Fleet {
-	f := &Fleet{Discount: 0.95}
+func smallFleet(rng *rand.Rand, classes, years int, budget float64) *Problem {
+	f := &Problem{Discount: mdptest.Factor(0.95, 1)}
 	for i := range classes {
-		c := randomComponent(rng, fmt.Sprintf("class%d", i), 3+rng.IntN(2), 2+rng.IntN(2))
-		counts := make([]float64, len(c.Model.States))
+		model, sched := mdptest.RandomClass(rng, 3+rng.IntN(2), 2+rng.IntN(2))
+		name := fmt.Sprintf("class%d", i)
+		counts := make([]float64, len(model.States))
 		for s := range counts {
 			counts[s] = float64(rng.IntN(30))
 		}
-		f.Classes = append(f.Classes, FleetClass{Name: c.Name, Model: c.Model, Costs: c.Costs, Counts: counts})
+		f.Classes = append(f.Classes, Class{Name: name, Model: model, Costs: sched, Counts: counts})
 	}
 	for range years {
 		f.Budget = append(f.Budget, budget)
@@ -34,19 +36,19 @@ func smallFleet(rng *rand.Rand, classes, years int, budget float64) *Fleet {
 // form (variables x[c,t,s,a] per admissible pair, then per year a budget
 // slack and a shortfall priced at penalty): the independent reference for
 // the decomposed solver.
-func fluidLP(t *testing.T, f *Fleet, penalty float64) (c []float64, a [][]float64, b []float64, names []string) {
+func fluidLP(t *testing.T, f *Problem, penalty float64) (c []float64, a [][]float64, b []float64, names []string) {
 	t.Helper()
 	T := len(f.Budget)
 	type key struct{ c, t, s, a int }
 	idx := map[key]int{}
-	var probs []*Problem
+	var probs []*optimize.Problem
 	var vals [][]float64
 	for ci, fc := range f.Classes {
-		p, err := Build(fc.Model, fc.Costs, f.Discount)
+		p, err := optimize.Build(fc.Model, fc.Costs, f.Discount.Factor())
 		if err != nil {
 			t.Fatal(err)
 		}
-		r, err := Solve(context.Background(), p, &Settings{Method: PolicyIteration})
+		r, err := optimize.Solve(context.Background(), p, &optimize.Settings{Method: optimize.PolicyIteration})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -55,9 +57,9 @@ func fluidLP(t *testing.T, f *Fleet, penalty float64) (c []float64, a [][]float6
 			for s, cs := range p.Choices {
 				for _, ch := range cs {
 					idx[key{ci, tt, s, ch.Action}] = len(c)
-					cost := math.Pow(f.Discount, float64(tt)) * (fc.Costs.Running[s] + fc.Costs.Action[ch.Action][s])
+					cost := math.Pow(f.Discount.Factor(), float64(tt)) * (fc.Costs.Running[s] + fc.Costs.Action[ch.Action][s])
 					if tt == T-1 {
-						cost += math.Pow(f.Discount, float64(T)) * expect(ch.Next, r.Value)
+						cost += math.Pow(f.Discount.Factor(), float64(T)) * optimize.Expect(ch.Next, r.Value)
 					}
 					c = append(c, cost)
 					names = append(names, fmt.Sprintf("x_%d_%d_%d_%d", ci, tt, s, ch.Action))
@@ -137,7 +139,7 @@ func TestPlanBracketsExactLP(t *testing.T) {
 	rng := rand.New(rand.NewPCG(81, 82))
 	for trial := range 6 {
 		f := smallFleet(rng, 2, 3, 400+300*rng.Float64())
-		plan, err := PlanFleet(context.Background(), f, &PlanSettings{Gap: 1e-9})
+		plan, err := Solve(context.Background(), f, &Settings{Gap: 1e-9})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -168,16 +170,16 @@ func TestPlanBracketsExactLP(t *testing.T) {
 	}
 }
 
-func prepared(t *testing.T, f *Fleet) []*fleetClass {
+func prepared(t *testing.T, f *Problem) []*fleetClass {
 	t.Helper()
 	var out []*fleetClass
 	for _, fc := range f.Classes {
-		p, _ := Build(fc.Model, fc.Costs, f.Discount)
-		r, err := Solve(context.Background(), p, &Settings{Method: PolicyIteration})
+		p, _ := optimize.Build(fc.Model, fc.Costs, f.Discount.Factor())
+		r, err := optimize.Solve(context.Background(), p, &optimize.Settings{Method: optimize.PolicyIteration})
 		if err != nil {
 			t.Fatal(err)
 		}
-		c := &fleetClass{FleetClass: fc, p: p, advice: r, running: fc.Costs.Running, spend: make([][]float64, len(p.States))}
+		c := &fleetClass{Class: fc, p: p, advice: r, running: fc.Costs.Running, spend: make([][]float64, len(p.States))}
 		for st, cs := range p.Choices {
 			for _, ch := range cs {
 				c.spend[st] = append(c.spend[st], fc.Costs.Action[ch.Action][st])
@@ -194,7 +196,7 @@ func TestPlanAgreesWithGLPK(t *testing.T) {
 	bin := mdptest.Glpsol(t)
 	rng := rand.New(rand.NewPCG(83, 84))
 	f := smallFleet(rng, 3, 4, 600)
-	plan, err := PlanFleet(context.Background(), f, &PlanSettings{Gap: 1e-9})
+	plan, err := Solve(context.Background(), f, &Settings{Gap: 1e-9})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -232,7 +234,7 @@ func TestPlanAgreesWithGLPK(t *testing.T) {
 func TestPlanBudgetExtremes(t *testing.T) {
 	rng := rand.New(rand.NewPCG(85, 86))
 	f := smallFleet(rng, 2, 5, 1e9)
-	plan, err := PlanFleet(context.Background(), f, nil)
+	plan, err := Solve(context.Background(), f, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -253,7 +255,7 @@ func TestPlanBudgetExtremes(t *testing.T) {
 	for tt := range f.Budget {
 		f.Budget[tt] = 0
 	}
-	plan, err = PlanFleet(context.Background(), f, nil)
+	plan, err = Solve(context.Background(), f, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -280,7 +282,7 @@ func TestPlanBudgetExtremes(t *testing.T) {
 func TestPlanConservesUnits(t *testing.T) {
 	rng := rand.New(rand.NewPCG(87, 88))
 	f := smallFleet(rng, 3, 6, 500)
-	plan, err := PlanFleet(context.Background(), f, nil)
+	plan, err := Solve(context.Background(), f, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -310,12 +312,12 @@ func TestPlanConservesUnits(t *testing.T) {
 func TestSimulationAgreesWithForecast(t *testing.T) {
 	rng := rand.New(rand.NewPCG(89, 90))
 	f := smallFleet(rng, 2, 6, 700)
-	plan, err := PlanFleet(context.Background(), f, nil)
+	plan, err := Solve(context.Background(), f, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, advice := range []bool{false, true} {
-		sim, err := SimulatePlan(context.Background(), f, plan, advice, 2000, 7, 2, nil)
+		sim, err := Simulate(context.Background(), f, plan, advice, 2000, 7, 2, nil)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -341,8 +343,8 @@ func TestSimulationAgreesWithForecast(t *testing.T) {
 			}
 		}
 	}
-	a, _ := SimulatePlan(context.Background(), f, plan, false, 300, 3, 1, nil)
-	b, _ := SimulatePlan(context.Background(), f, plan, false, 300, 3, 4, nil)
+	a, _ := Simulate(context.Background(), f, plan, false, 300, 3, 1, nil)
+	b, _ := Simulate(context.Background(), f, plan, false, 300, 3, 4, nil)
 	for tt := range a.Spend {
 		if a.Spend[tt] != b.Spend[tt] {
 			t.Fatalf("year %d: 1 worker %+v, 4 workers %+v", tt+1, a.Spend[tt], b.Spend[tt])
