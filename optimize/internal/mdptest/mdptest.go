@@ -198,7 +198,6 @@ func RandomClass(rng *rand.Rand, n, m int) (*condition.Model, *costs.Schedule) {
 	return model, sched
 }
 
-
 // Factor returns the discount of factor g per period of years years, and
 // panics on invalid input (tests only).
 func Factor(g, years float64) costs.Discount {
