@@ -29,9 +29,13 @@ type State struct {
 // Action is an intervention with its transition rows.
 type Action struct {
 	Name string
-	// Passive marks the "leave it as it is" action. At most one action of a
-	// model is passive.
+	// Passive marks the "leave it as it is" action. A valid model has
+	// exactly one.
 	Passive bool
+	// OutOfService marks an action that takes the unit out of service
+	// (decommissioning, locking out): its row may keep an unsafe unit in
+	// unsafe states, because the unit is no longer used.
+	OutOfService bool
 	// Rows[s] is the distribution of the next state when the action is taken
 	// in state s; a nil row means the action is not admissible in s.
 	Rows [][]Entry
@@ -132,10 +136,13 @@ func (f *Fault) Error() string {
 
 // Validate reports every fault of the model, joined by errors.Join; each is
 // a *Fault. A valid model has at least one state, unique non-empty names, a
-// positive finite period, at most one passive action, rows that are
+// positive finite period, exactly one passive action, rows that are
 // probability distributions over the scale (finite, non-negative, each
 // target once, summing to 1 within RowTolerance), no passive row in an
-// unsafe state, and at least one admissible action in every state.
+// unsafe state, no row of an action that is not out of service that keeps
+// an unsafe unit within unsafe states with probability 1 (such an action
+// would leave the unit unsafe for ever), and at least one admissible
+// action in every state.
 func (m *Model) Validate() error {
 	var errs []error
 	add := func(f Fault) { errs = append(errs, &f) }
@@ -193,12 +200,21 @@ func (m *Model) Validate() error {
 			if row == nil {
 				continue
 			}
-			if act.Passive && m.States[s].Unsafe {
+			rowErrs := m.checkRow(a, s, row)
+			errs = append(errs, rowErrs...)
+			switch {
+			case act.Passive && m.States[s].Unsafe:
 				add(Fault{Field: "row", State: s, Action: a, Target: -1,
 					Problem: fmt.Sprintf("passive action %q has a row for unsafe state %q; the passive action is never admissible in an unsafe state", act.Name, m.States[s].Name)})
+			case m.States[s].Unsafe && !act.OutOfService && len(rowErrs) == 0 && m.staysUnsafe(row):
+				add(Fault{Field: "row", State: s, Action: a, Target: -1,
+					Problem: fmt.Sprintf("action %q keeps a unit in unsafe state %q within unsafe states with probability 1; give it a row that makes the unit safe, or mark the action out_of_service: true if it takes the unit out of service", act.Name, m.States[s].Name)})
 			}
-			errs = append(errs, m.checkRow(a, s, row)...)
 		}
+	}
+	if passive < 0 && len(m.Actions) > 0 {
+		add(Fault{Field: "actions", State: -1, Action: -1, Target: -1,
+			Problem: "no action is passive; mark the leave-as-is action passive: true (exactly one action must be)"})
 	}
 	for s := range m.States {
 		var admissible []int
@@ -217,6 +233,17 @@ func (m *Model) Validate() error {
 		}
 	}
 	return errors.Join(errs...)
+}
+
+// staysUnsafe reports whether a row puts all its probability on unsafe
+// states.
+func (m *Model) staysUnsafe(row []Entry) bool {
+	for _, e := range row {
+		if e.P > 0 && !m.States[e.To].Unsafe {
+			return false
+		}
+	}
+	return true
 }
 
 func (m *Model) checkRow(a, s int, row []Entry) []error {

@@ -53,6 +53,13 @@ func TestValidateFaults(t *testing.T) {
 			Fault{Field: "row", State: 1, Action: -1, Target: -1, Problem: `no action is admissible in state "worn"`}},
 		{"passive in unsafe", func(m *Model) { m.Actions[0].Rows[2] = []Entry{{2, 1}} },
 			Fault{Field: "row", State: 2, Action: 0, Target: -1, Problem: "passive action \"leave\" has a row for unsafe state"}},
+		// The safety rule must not hang on the passive flag: without one,
+		// a cheap "leave" would keep failed units failed.
+		{"no passive action", func(m *Model) { m.Actions[0].Passive = false },
+			Fault{Field: "actions", State: -1, Action: -1, Target: -1, Problem: "no action is passive"}},
+		{"action keeps unsafe unit unsafe", func(m *Model) {
+			m.Actions = append(m.Actions, Action{Name: "patch", Rows: [][]Entry{nil, nil, {{2, 1}}}})
+		}, Fault{Field: "row", State: 2, Action: 2, Target: -1, Problem: `action "patch" keeps a unit in unsafe state "failed" within unsafe states with probability 1`}},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -71,6 +78,18 @@ func TestValidateFaults(t *testing.T) {
 			}
 			t.Errorf("Validate() = %v, want a fault like %+v", err, tc.want)
 		})
+	}
+}
+
+// An action declared as taking the unit out of service may keep it in an
+// unsafe state; a row that makes the unit safe with some probability is
+// never refused.
+func TestValidateOutOfService(t *testing.T) {
+	m := validModel()
+	m.Actions = append(m.Actions, Action{Name: "retire", OutOfService: true, Rows: [][]Entry{nil, nil, {{2, 1}}}},
+		Action{Name: "try", Rows: [][]Entry{nil, nil, {{2, 0.5}, {1, 0.5}}}})
+	if err := m.Validate(); err != nil {
+		t.Fatal(err)
 	}
 }
 

@@ -204,7 +204,7 @@ func TestPeriodCalendar(t *testing.T) {
 			t.Errorf("NewPeriod(%g) accepted", bad)
 		}
 	}
-	for years, want := range map[float64]string{1: "1 year", 0.5: "6 months", 0.25: "3 months", 2: "2 years", 1.5: "1.5 years"} {
+	for years, want := range map[float64]string{1: "1 year", 0.5: "0.5 years", 0.25: "0.25 years", 2: "2 years", 1.5: "1.5 years"} {
 		p, _ := NewPeriod(years)
 		if p.String() != want {
 			t.Errorf("Period(%g) = %q, want %q", years, p.String(), want)

@@ -3,6 +3,7 @@ package costs
 import (
 	"fmt"
 	"math"
+	"strconv"
 )
 
 // MaxPeriodYears is the longest model period accepted, in years.
@@ -64,20 +65,12 @@ func (p Period) Whole() bool {
 	return near(1/p.years) || near(p.years)
 }
 
-// String says the period in words: "1 year", "0.5 years", "3 months".
+// String says the period in words: "1 year", "0.5 years".
 func (p Period) String() string {
-	y := p.years
-	switch {
-	case y == 1:
+	if p.years == 1 {
 		return "1 year"
-	case y < 1 && math.Abs(12*y-math.Round(12*y)) < 1e-9:
-		m := math.Round(12 * y)
-		if m == 1 {
-			return "1 month"
-		}
-		return fmt.Sprintf("%.0f months", m)
 	}
-	return fmt.Sprintf("%s years", trimFloat(y))
+	return strconv.FormatFloat(p.years, 'f', -1, 64) + " years"
 }
 
 // trimFloat formats x with up to 6 decimals and no trailing zeros.

@@ -4,6 +4,7 @@ import (
 	"context"
 	"testing"
 
+	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/optimize"
 )
 
@@ -14,9 +15,12 @@ func BenchmarkSolveDemo(b *testing.B) {
 		b.Run(m.String(), func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
-				c := readClass(b, demo)
-				g, _ := c.DiscountFactor()
-				p, err := optimize.Build(c.Model, c.Costs, g)
+				f, err := modelfile.Load(context.Background(), demo, modelfile.Options{})
+				if err != nil {
+					b.Fatal(err)
+				}
+				c := f.Class
+				p, err := optimize.Build(c.Model, c.Costs, c.Discount.Factor())
 				if err != nil {
 					b.Fatal(err)
 				}

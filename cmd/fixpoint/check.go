@@ -7,6 +7,8 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"fixpoint/cmd/internal/modelfile"
+	"fixpoint/cmd/internal/outfile"
 	"fixpoint/optimize/system"
 	"fixpoint/reports"
 )
@@ -14,36 +16,41 @@ import (
 func (a *app) newCheck() *cobra.Command {
 	return &cobra.Command{
 		Use:   "check FILE",
-		Short: "Validate a class config and list every problem found",
-		Args:  exactArgs(1, "one class config file"),
+		Short: "Validate a class config, system file or fleet file and list every problem found",
+		Example: `  fixpoint check configs/pumps.yaml
+  fixpoint check configs/east-zone.yaml`,
+		Args: exactArgs(1, "one class config, system or fleet file"),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			m, err := a.loadModel(args[0])
+			path := args[0]
+			f, err := a.load(cmd, path, modelfile.ClassFile, modelfile.SystemFile, modelfile.FleetFile)
 			if err != nil {
 				return err
 			}
-			if ff := m.Fleet; ff != nil {
-				fmt.Fprintf(a.stdout, "%s: ok: fleet %q, %d classes, %d units, %d years of budget\n",
-					args[0], ff.Name, len(ff.Classes), ff.Units, ff.Years)
-				return nil
-			}
-			if sf := m.System; sf != nil {
-				sys, err := sf.system()
+			switch {
+			case f.Fleet != nil:
+				ff := f.Fleet
+				fmt.Fprintf(a.stdout, "%s: ok: fleet %q, %d classes, %d units, %d years of budget, periods of %s\n",
+					path, ff.Name, len(ff.Classes), ff.Units, ff.Years, ff.Classes[0].Period)
+			case f.System != nil:
+				m, err := f.System.Machine()
 				if err != nil {
 					return err
 				}
-				n, acts := sys.Size()
-				bytes, _ := system.Cost(sys, 2)
+				n, acts := m.Size()
+				bytes, _ := system.Cost(m, 2)
 				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, about %s of memory to solve\n",
-					args[0], sf.Name, len(sf.Components), reports.Money(n, 0), reports.Money(acts, 0), byteSizeText(bytes))
-				return nil
+					path, f.System.Name, len(f.System.Components), reports.Money(n, 0), reports.Money(acts, 0), byteSizeText(bytes))
+			default:
+				c := f.Class
+				disc := "average criterion (no discounting)"
+				if !c.Discount.IsZero() {
+					disc = fmt.Sprintf("discount factor %.6f per period of %s", c.Discount.Factor(), c.Period)
+					if c.Criterion == modelfile.Average {
+						disc = "average criterion; " + disc + " for the commands that discount"
+					}
+				}
+				fmt.Fprintf(a.stdout, "%s: ok: %q, %d states, %d actions, %s\n", path, c.Name, len(c.Model.States), len(c.Model.Actions), disc)
 			}
-			c := m.Class
-			p, err := a.classProblem(c)
-			if err != nil {
-				return err
-			}
-			fmt.Fprintf(a.stdout, "%s: ok: %q, %d states, %d actions, discount factor %.6f per period of %s\n",
-				args[0], c.Name, len(p.States), len(p.Actions), p.Discount, reports.Years(c.Model.PeriodYears))
 			return nil
 		},
 	}
@@ -56,6 +63,8 @@ func (a *app) newInit() *cobra.Command {
 	return &cobra.Command{
 		Use:   "init [PATH]",
 		Short: "Write a commented starter class config (default fixpoint.yaml; - for standard output)",
+		Example: `  fixpoint init pumps.yaml
+  fixpoint init - | less`,
 		Args: func(_ *cobra.Command, args []string) error {
 			if len(args) > 1 {
 				return usagef("want at most one path, got %d", len(args))
@@ -74,7 +83,7 @@ func (a *app) newInit() *cobra.Command {
 			if _, err := os.Lstat(path); err == nil {
 				return usagef("%s exists; init never overwrites a file", path)
 			}
-			if err := writeFileAtomic(cmd.Context(), path, starter, false); err != nil {
+			if err := (outfile.Target{Path: path}).WriteBytes(cmd.Context(), starter); err != nil {
 				return err
 			}
 			fmt.Fprintf(a.stdout, "wrote %s: edit it, then run 'fixpoint check %s'\n", path, path)

@@ -8,13 +8,14 @@ import (
 	"io"
 	"os"
 	"runtime"
-	"slices"
 	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
 	"go.yaml.in/yaml/v3"
 
+	"fixpoint/cmd/internal/modelfile"
+	"fixpoint/cmd/internal/settings"
 	"fixpoint/condition"
 	"fixpoint/reports"
 )
@@ -36,127 +37,78 @@ none) and estimates the one-period transition rows of the passive action and of
 every recorded action, with bootstrap intervals, effective sample sizes, a
 goodness-of-fit test and a report of every data problem with its line.
 
---method counting counts transitions (maximum likelihood when inspections are
-one period apart; intervals more than 10% away are reported and left out);
---method generator fits a continuous-time generator Q by maximum likelihood on
-the panel and reports P = exp(Q·period); auto picks counting when every interval
-is within 10% of the period.
+--estimator counting counts transitions (maximum likelihood when inspections
+are one period apart; intervals more than 10% away are reported and left out);
+--estimator generator fits a continuous-time generator Q by maximum likelihood
+on the panel and reports P = exp(Q·period); auto picks counting when every
+interval is within 10% of the period.
 
 --format yaml prints transitions: blocks ready to paste into a class config;
 --merge writes the estimated rows into a copy of --config at -o FILE (never
 over the input).`,
+		Example: `  fixpoint fit configs/pump-inspections.csv --config configs/pumps.yaml
+  fixpoint fit records.csv --states good,fair,poor,failed --period-years 1 --format json
+  fixpoint fit configs/pump-inspections.csv --config configs/pumps.yaml --merge -o pumps-fitted.yaml`,
 		Args: exactArgs(1, "one inspection-records CSV file"),
 		RunE: func(cmd *cobra.Command, args []string) error { return a.fit(cmd, args[0]) },
 	}
 	f := cmd.Flags()
-	f.String("config", "", "class config `file` giving the scale, the period and the actions")
-	f.String("states", "", "condition `names`, best first, when there is no --config")
-	f.String("period-years", "", "period length in `years`, when there is no --config")
-	f.String("passive", "leave", "`name` of the no-work action, when there is no --config")
-	f.String("method", "auto", "auto, counting or generator")
-	f.Bool("deterioration-only", false, "generator: no improvement without recorded work")
-	f.Bool("one-step", false, "generator: deterioration one state at a time")
-	f.Bool("improvement-as-error", false, "treat an improvement with no recorded work as a misreading (the unit stayed as it was)")
-	f.String("bootstrap", "200", "bootstrap replicates over units for the intervals (`n`, 0 for none)")
-	f.String("seed", "1", "seed of the bootstrap (`n`)")
-	f.String("level", "0.9", "coverage of the intervals (`p`)")
-	f.String("workers", strconv.Itoa(runtime.NumCPU()), "goroutines for the bootstrap (`n`)")
-	f.Bool("merge", false, "write the estimated rows into a copy of --config at -o FILE")
-	f.String("merge-min", strconv.Itoa(roughRow), "merge only rows resting on at least `n` transitions")
-	f.String("format", "table", "output format: table, json or yaml")
-	f.StringP("output", "o", "", "write to this `file` (with --merge: the merged config)")
-	f.Bool("force", false, "replace the output file if it exists")
+	settings.AddFit(f, strconv.Itoa(roughRow))
+	settings.AddOutput(f, "table", "json", "yaml")
 	return cmd
 }
 
 // fitScale returns the states, unsafe flags, period and actions to fit,
 // from --config or from --states and --period-years.
-func (a *app) fitScale() (c *classFile, states []string, unsafe []bool, period float64, actions []string, passive int, err error) {
-	if path := a.str("config"); path != "" {
-		if a.str("states") != "" || a.str("period-years") != "" {
-			return nil, nil, nil, 0, nil, 0, usagef("give either --config or --states/--period-years, not both")
-		}
-		if c, err = a.loadClass(path); err != nil {
+func (a *app) fitScale(cmd *cobra.Command, st settings.Fit) (c *modelfile.Class, states []string, unsafe []bool, period float64, actions []string, passive int, err error) {
+	if st.Config != "" {
+		if c, err = a.class(cmd, st.Config); err != nil {
 			return nil, nil, nil, 0, nil, 0, err
 		}
 		passive = c.Model.Passive()
-		if passive < 0 {
-			return nil, nil, nil, 0, nil, 0, &inputError{File: path, Path: "actions", Msg: "no action is passive: records without work have no action to count for"}
-		}
-		return c, c.Model.StateNames(), c.unsafe(), c.Model.PeriodYears, c.Model.ActionNames(), passive, nil
+		return c, c.Model.StateNames(), c.Unsafe(), c.Model.PeriodYears, c.Model.ActionNames(), passive, nil
 	}
-	if a.str("states") == "" {
-		return nil, nil, nil, 0, nil, 0, usagef("give the scale with --config FILE or --states a,b,c --period-years N")
-	}
-	for _, s := range strings.Split(a.str("states"), ",") {
-		s = strings.TrimSpace(s)
-		if s == "" || slices.Contains(states, s) {
-			return nil, nil, nil, 0, nil, 0, usagef("setting states: empty or repeated name in %q", a.str("states"))
-		}
-		states = append(states, s)
-	}
-	if a.str("period-years") == "" {
-		return nil, nil, nil, 0, nil, 0, usagef("give --period-years with --states")
-	}
-	if period, err = a.number("period-years"); err != nil {
-		return nil, nil, nil, 0, nil, 0, err
-	}
-	if !(period > 0) || period > 100 {
-		return nil, nil, nil, 0, nil, 0, usagef("setting period-years: %g is not a period in (0, 100] years", period)
-	}
-	return nil, states, nil, period, []string{a.str("passive")}, 0, nil
+	return nil, st.States, nil, st.PeriodYears, []string{st.Passive}, 0, nil
 }
 
 func (a *app) fit(cmd *cobra.Command, path string) error {
-	format := a.str("format")
-	if !slices.Contains([]string{"table", "json", "yaml"}, format) {
-		return usagef("unknown format %q; want table, json or yaml", format)
-	}
-	force, err := a.boolean("force")
+	st, err := a.src.Fit()
 	if err != nil {
 		return err
 	}
-	merge, err := a.boolean("merge")
+	out := st.Output
+	if st.Merge {
+		out.Path = "" // -o is the merged config; the report goes to stdout
+	}
+	c, states, unsafe, period, actions, passive, err := a.fitScale(cmd, st)
 	if err != nil {
 		return err
 	}
-	inputs := []string{path}
-	if a.str("config") != "" {
-		inputs = append(inputs, a.str("config"))
-	}
-	out := output{path: a.str("output"), force: force, inputs: inputs}
-	if merge && (a.str("config") == "" || out.path == "" || out.path == "-") {
-		return usagef("--merge needs --config FILE and -o NEWFILE")
-	}
-	if err := out.check(); err != nil {
-		return err
-	}
-	c, states, unsafe, period, actions, passive, err := a.fitScale()
+	// Text that is not a model goes to the records reader, which says
+	// what is wrong with its header.
+	records, err := a.load(cmd, path, modelfile.RecordsFile, modelfile.OtherFile)
 	if err != nil {
 		return err
 	}
-	opts, err := a.fitOptions(states, period, passive)
-	if err != nil {
+	merged := a.target(settings.Output{Path: st.Output.Path, Force: st.Output.Force})
+	if err := merged.Check(); err != nil {
 		return err
 	}
-	f, err := os.Open(path)
+	opts := fitOptions(st, states, period, passive)
+	fh, err := os.Open(records.Path)
 	if err != nil {
-		return &inputError{File: path, Msg: openProblem(err)}
+		return &modelfile.Fault{File: path, Msg: modelfile.OpenProblem(err)}
 	}
-	defer f.Close()
-	recs, warn, err := condition.ReadRecords(io.LimitReader(f, maxRecordBytes), states)
+	defer fh.Close()
+	recs, warn, err := condition.ReadRecords(io.LimitReader(fh, maxRecordBytes), states)
 	if err != nil {
-		return &inputError{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: records: ")}
-	}
-	improveErr, err := a.boolean("improvement-as-error")
-	if err != nil {
-		return err
+		return &modelfile.Fault{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: records: ")}
 	}
 	panel, actions, pw := condition.BuildPanel(recs, condition.PanelOptions{Actions: actions, Passive: passive,
-		NewActions: c == nil, ImprovementIsError: improveErr || opts.Structure != condition.AnyChange})
+		NewActions: c == nil, ImprovementIsError: st.ImprovementIsError || opts.Structure != condition.AnyChange})
 	warn = append(warn, pw...)
 	opts.Actions = actions
-	if a.str("method") == "auto" {
+	if st.Estimator == "auto" {
 		opts.Method = condition.Counting
 		if !panel.IntervalsRegular(period) {
 			opts.Method = condition.Generator
@@ -167,7 +119,7 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		return err
 	}
 	if err != nil {
-		return &inputError{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: estimate: ")}
+		return &modelfile.Fault{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: estimate: ")}
 	}
 	est.Warnings = append(warn, est.Warnings...)
 	rep := &reports.FitReport{Source: path, States: states, Unsafe: unsafe, Passive: passive, Fit: est,
@@ -181,7 +133,7 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		}
 	}
 	render := func(w io.Writer) error {
-		switch format {
+		switch out.Format {
 		case "json":
 			return rep.WriteJSON(w)
 		case "yaml":
@@ -189,74 +141,39 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		}
 		return rep.WriteTable(w)
 	}
-	if merge {
-		minN, err := a.integer("merge-min")
-		if err != nil {
-			return err
-		}
-		merged, notes, err := mergeRows(c, rep, minN)
+	if st.Merge {
+		data, notes, err := mergeRows(c, rep, st.MergeMin)
 		if err != nil {
 			return err
 		}
 		for _, n := range notes {
 			est.Warnings = append(est.Warnings, condition.Warning{Message: n})
 		}
-		if err := writeFileAtomic(cmd.Context(), out.path, merged, force); err != nil {
+		if err := merged.WriteBytes(cmd.Context(), data); err != nil {
 			return err
 		}
-		fmt.Fprintf(a.stderr, "fixpoint: wrote the merged config %s\n", out.path)
-		return (output{}).write(cmd.Context(), a.stdout, render)
+		fmt.Fprintf(a.stderr, "fixpoint: wrote the merged config %s\n", st.Output.Path)
 	}
-	return out.write(cmd.Context(), a.stdout, render)
+	return a.target(out).Write(cmd.Context(), a.stdout, render)
 }
 
-func (a *app) fitOptions(states []string, period float64, passive int) (condition.FitOptions, error) {
+func fitOptions(st settings.Fit, states []string, period float64, passive int) condition.FitOptions {
 	o := condition.FitOptions{States: len(states), PeriodYears: period, Passive: passive}
-	switch m := a.str("method"); m {
-	case "auto", "counting":
-	case "generator":
+	if st.Estimator == "generator" {
 		o.Method = condition.Generator
-	default:
-		return o, usagef("setting method: unknown method %q; want auto, counting or generator", m)
-	}
-	det, err := a.boolean("deterioration-only")
-	if err != nil {
-		return o, err
-	}
-	one, err := a.boolean("one-step")
-	if err != nil {
-		return o, err
 	}
 	switch {
-	case one:
+	case st.OneStep:
 		o.Structure = condition.OneStep
-	case det:
+	case st.DeteriorationOnly:
 		o.Structure = condition.DeteriorationOnly
 	}
-	boot, err := a.integer("bootstrap")
-	if err != nil {
-		return o, err
+	workers := st.Workers
+	if workers == 0 {
+		workers = runtime.NumCPU()
 	}
-	if boot < 0 || boot > 100000 {
-		return o, usagef("setting bootstrap: %d is not a number of replicates in [0, 100000]", boot)
-	}
-	seed, err := a.integer("seed")
-	if err != nil {
-		return o, err
-	}
-	level, err := a.number("level")
-	if err != nil {
-		return o, err
-	}
-	if !(level > 0 && level < 1) {
-		return o, usagef("setting level: %g is not in (0, 1)", level)
-	}
-	workers, err := a.integer("workers")
-	if err != nil {
-		return o, err
-	}
-	o.Bootstrap, o.Seed, o.Level, o.Workers = boot, uint64(seed), level, max(1, min(workers, 64))
-	return o, nil
+	o.Bootstrap, o.Seed, o.Level, o.Workers = st.Bootstrap, st.Seed, st.Level, max(1, min(workers, 64))
+	return o
 }
 
 // mergeRows writes the estimated rows into a copy of the class config's
@@ -265,14 +182,14 @@ func (a *app) fitOptions(states []string, period float64, passive int) (conditio
 // transitions, rows where the config does not admit the action, and
 // passive rows of unsafe states are not merged (notes say so). The result
 // is validated before it is returned.
-func mergeRows(c *classFile, rep *reports.FitReport, minN int) ([]byte, []string, error) {
+func mergeRows(c *modelfile.Class, rep *reports.FitReport, minN int) ([]byte, []string, error) {
 	data, err := os.ReadFile(c.Path)
 	if err != nil {
-		return nil, nil, &inputError{File: c.Path, Msg: openProblem(err)}
+		return nil, nil, &modelfile.Fault{File: c.Path, Msg: modelfile.OpenProblem(err)}
 	}
 	var root yaml.Node
 	if err := yaml.Unmarshal(data, &root); err != nil {
-		return nil, nil, &inputError{File: c.Path, Msg: err.Error()}
+		return nil, nil, &modelfile.Fault{File: c.Path, Msg: err.Error()}
 	}
 	doc := root.Content[0]
 	actionsNode := lookup(doc, "actions")
@@ -314,7 +231,7 @@ func mergeRows(c *classFile, rep *reports.FitReport, minN int) ([]byte, []string
 	if err := enc.Encode(&root); err != nil {
 		return nil, nil, err
 	}
-	if _, err := decodeClass("merged config", bytes.NewReader(buf.Bytes())); err != nil {
+	if f, err := modelfile.Decode(context.Background(), "merged config", buf.Bytes(), modelfile.Options{}); err != nil || f.Kind != modelfile.ClassFile {
 		return nil, nil, fmt.Errorf("the merged config would not be valid (%v); nothing written", err)
 	}
 	return buf.Bytes(), notes, nil

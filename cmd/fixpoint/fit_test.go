@@ -60,7 +60,7 @@ func TestFitDemoRecords(t *testing.T) {
 		Method    string
 		Generator map[string]map[string]float64
 	}
-	runJSON(t, &gen, "fit", demoRecords, "--config", demo, "--format", "json", "--method", "generator", "--bootstrap", "0", "--deterioration-only")
+	runJSON(t, &gen, "fit", demoRecords, "--config", demo, "--format", "json", "--estimator", "generator", "--bootstrap", "0", "--deterioration-only")
 	if gen.Method != "generator" || gen.Generator["sound"]["light_wear"] <= 0 || gen.Generator["light_wear"]["sound"] != 0 {
 		t.Errorf("generator fit: %+v", gen)
 	}
@@ -88,7 +88,7 @@ func TestFitReportsDataProblems(t *testing.T) {
 		"e,2021-01-01,sound,\n"+ // 9
 		"e,2020-01-01,sound,\n"+ // 10: out of order
 		"e,2021-01-01,light_wear,\n") // 11: same date
-	code, out, stderr := runCLI(t, "fit", path, "--config", demo, "--method", "counting", "--bootstrap", "0")
+	code, out, stderr := runCLI(t, "fit", path, "--config", demo, "--estimator", "counting", "--bootstrap", "0")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}

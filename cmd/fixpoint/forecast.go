@@ -1,86 +1,65 @@
 package main
 
 import (
-	"fmt"
 	"math"
-	"os"
 	"strings"
 
 	"github.com/spf13/cobra"
 
+	"fixpoint/cmd/internal/modelfile"
+	"fixpoint/cmd/internal/settings"
 	"fixpoint/condition"
 	"fixpoint/optimize"
+	"fixpoint/optimize/fleet"
 	"fixpoint/reports"
 )
-
-// maxForecastYears bounds a forecast horizon.
-const maxForecastYears = 500
 
 func (a *app) newForecast() *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "forecast FILE",
-		Short: "Expected condition mix and spend per year of a population under the advice",
+		Short: "Expected condition mix and spend of a population under the advice",
 		Long: `forecast solves a class config, then follows a population of units under the
 advice: the expected number of units in each condition per period and the
 expected spend per period split by action, with its present value. Give the
-starting population with --mix (counts or shares per condition) or --from.`,
-		Args: exactArgs(1, "one class config file"),
+starting population with --mix (counts or shares per condition) or --from.
+
+For a fleet file, --simulate N runs the budget plan (or, with --follow advice,
+the unconstrained advice) N times on whole units and reports percentile bands.`,
+		Example: `  fixpoint forecast configs/pumps.yaml --mix sound=60,light_wear=30,heavy_wear=10
+  fixpoint forecast configs/pumps.yaml --from sound --units 40 --years 25 --format csv
+  fixpoint forecast configs/east-zone.yaml --simulate 1000`,
+		Args: exactArgs(1, "one class config or fleet file"),
 		RunE: func(cmd *cobra.Command, args []string) error { return a.forecast(cmd, args[0]) },
 	}
 	f := cmd.Flags()
-	addSolverFlags(cmd)
-	f.String("mix", "", "starting units per condition, e.g. `good=30,fair=50,worn=20` (counts or shares)")
-	f.String("from", "", "start every unit in this `state` (with --units)")
-	f.String("units", "1", "number of units for --from (`n`)")
-	f.String("years", "10", "horizon in `years`; the forecast runs ceil(years / period_years) periods")
-	f.String("simulate", "0", "fleet files: Monte-Carlo `runs` of the plan (or of the advice with --follow advice)")
-	f.String("seed", "1", "seed of the Monte-Carlo (`n`)")
-	f.String("follow", "plan", "fleet files: simulate the budget plan or the unconstrained advice")
-	f.String("budget", "", "fleet files: budget per year overriding the fleet file (`amount`)")
-	f.String("gap", "0.0001", "fleet files: target relative gap of the plan (`g`)")
-	f.String("progress", "auto", "progress bar on stderr: auto (a terminal and over a second), always or never")
-	addOutputFlags(cmd)
+	settings.AddSolver(f)
+	settings.AddOverride(f)
+	settings.AddStart(f, "1")
+	settings.AddYears(f, "horizon in `years` (default 10; for a fleet, the fleet file's)")
+	settings.AddSimulation(f)
+	settings.AddFleet(f)
+	settings.AddOutput(f, "table", "json", "csv")
 	return cmd
 }
 
-// addSolverFlags adds the flags that control a solve and its discounting.
-func addSolverFlags(cmd *cobra.Command) {
-	f := cmd.Flags()
-	f.String("method", "auto", "solution method: auto, value, policy or lp")
-	f.String("tol", fmt.Sprint(optimize.DefaultTol), "target proven gap, absolute, in `currency` units")
-	f.String("max-iterations", "0", "cap on sweeps or steps; 0 = the method's default (`n`)")
-	f.String("rate", "", "annual discount `rate` overriding the config (0.04 or 4%)")
-	f.String("factor", "", "discount `factor` per period overriding the config")
-}
-
-// startMix reads --mix or --from/--units into counts per state.
-func (a *app) startMix(m *condition.Model) ([]float64, error) {
-	mix, from := strings.TrimSpace(a.str("mix")), strings.TrimSpace(a.str("from"))
+// startMix turns --mix or --from/--units into counts per state.
+func startMix(m *condition.Model, st settings.Start) ([]float64, error) {
 	n := len(m.States)
 	counts := make([]float64, n)
 	switch {
-	case mix != "" && from != "":
-		return nil, usagef("give either --mix or --from, not both")
-	case from != "":
-		s := m.StateIndex(from)
+	case st.From != "":
+		s := m.StateIndex(st.From)
 		if s < 0 {
-			return nil, usagef("setting from: unknown state %q%s", from, didYouMean(from, m.StateNames()))
+			return nil, usagef("setting from: unknown state %q%s", st.From, modelfile.DidYouMean(st.From, m.StateNames()))
 		}
-		units, err := a.number("units")
-		if err != nil {
-			return nil, err
-		}
-		if !(units > 0) || math.IsInf(units, 0) {
-			return nil, usagef("setting units: %g is not a number of units > 0", units)
-		}
-		counts[s] = units
+		counts[s] = st.Units
 		return counts, nil
-	case mix == "":
+	case st.Mix == "":
 		return nil, usagef("give the starting population with --mix state=count,... or --from STATE")
 	}
 	seen := make(map[string]bool)
 	total := 0.0
-	for _, part := range strings.Split(mix, ",") {
+	for _, part := range strings.Split(st.Mix, ",") {
 		name, val, ok := strings.Cut(strings.TrimSpace(part), "=")
 		name = strings.TrimSpace(name)
 		if !ok || name == "" {
@@ -88,15 +67,15 @@ func (a *app) startMix(m *condition.Model) ([]float64, error) {
 		}
 		s := m.StateIndex(name)
 		if s < 0 {
-			return nil, usagef("setting mix: unknown state %q%s", name, didYouMean(name, m.StateNames()))
+			return nil, usagef("setting mix: unknown state %q%s", name, modelfile.DidYouMean(name, m.StateNames()))
 		}
 		if seen[name] {
 			return nil, usagef("setting mix: state %q given twice", name)
 		}
 		seen[name] = true
-		x, err := parseNumber(strings.TrimSpace(val))
-		if err != nil || x < 0 {
-			return nil, usagef("setting mix: %s=%s is not a count or share >= 0", name, strings.TrimSpace(val))
+		x, err := modelfile.ParseNumber(val)
+		if err != nil || x < 0 || x > 1e12 {
+			return nil, usagef("setting mix: %s=%s is not a count or share in [0, 1e12]", name, strings.TrimSpace(val))
 		}
 		counts[s] = x
 		total += x
@@ -107,63 +86,95 @@ func (a *app) startMix(m *condition.Model) ([]float64, error) {
 	return counts, nil
 }
 
-// horizonPeriods reads --years and converts it to periods.
-func (a *app) horizonPeriods(periodYears float64) (int, error) {
-	years, err := a.number("years")
+// classPolicy solves a class under its criterion and returns the advice
+// with the discount factor its present values use (1 under the average
+// criterion: totals are then undiscounted).
+func (a *app) classPolicy(cmd *cobra.Command, r *classRun, s optimize.Settings) ([]int, float64, *optimize.Result, error) {
+	if r.Average {
+		res, err := optimize.SolveAverage(cmd.Context(), r.Problem, &s)
+		if err != nil {
+			return nil, 0, nil, err
+		}
+		a.safetyWarnings(r, res.Policy)
+		return res.Policy, 1, nil, nil
+	}
+	res, err := optimize.Solve(cmd.Context(), r.Problem, &s)
 	if err != nil {
-		return 0, err
+		return nil, 0, nil, err
 	}
-	if !(years > 0) || years > maxForecastYears {
-		return 0, usagef("setting years: %g is not a horizon in (0, %d] years", years, maxForecastYears)
-	}
-	// The small allowance keeps 10 years of 0.1-year periods at 100.
-	return int(math.Ceil(years/periodYears - 1e-9)), nil
+	a.safetyWarnings(r, res.Policy)
+	return res.Policy, r.Discount.Factor(), res, nil
 }
 
 func (a *app) forecast(cmd *cobra.Command, path string) error {
-	format, out, err := a.outputSettings(formats, path)
+	st, err := a.src.Forecast()
 	if err != nil {
 		return err
 	}
-	if m, err := a.loadModel(path); err == nil && m.Fleet != nil {
-		if a.str("simulate") == "0" {
+	f, err := a.load(cmd, path, modelfile.ClassFile, modelfile.FleetFile)
+	if err != nil {
+		return err
+	}
+	if err := a.target(st.Output).Check(); err != nil {
+		return err
+	}
+	if f.Fleet != nil {
+		if st.Simulate == 0 {
 			return usagef("for a fleet file give --simulate N (or use fixpoint plan for the expected-count plan)")
 		}
-		// For a fleet, --years overrides the plan horizon only when given.
-		if !cmd.Flags().Changed("years") && os.Getenv("FIXPOINT_YEARS") == "" {
-			a.v.Set("years", "")
+		if err := a.src.NotFor("a fleet file", " (the fleet's classes give the discount and the plan the policy)",
+			"method", "tol", "max-iterations", "rate", "factor", "mix", "from", "units"); err != nil {
+			return err
 		}
-		return a.simulateFleet(cmd, path, format, out)
+		return a.simulateFleet(cmd, f.Fleet, st)
 	}
-	settings, err := a.solverSettings()
+	if err := a.src.NotFor("a class config", " (they apply to fleet files)", "simulate", "follow", "budget", "gap", "progress"); err != nil {
+		return err
+	}
+	r, err := prepare(f.Class, st.Override, "")
 	if err != nil {
 		return err
 	}
-	c, p, err := a.loadProblem(path)
+	start, err := startMix(r.Model, st.Start)
 	if err != nil {
 		return err
 	}
-	start, err := a.startMix(c.Model)
+	years := st.Years
+	if years == 0 {
+		years = 10
+	}
+	policy, gamma, res, err := a.classPolicy(cmd, r, st.Solver)
 	if err != nil {
 		return err
 	}
-	periods, err := a.horizonPeriods(c.Model.PeriodYears)
+	fc, err := optimize.NewForecast(r.Model, r.Costs, gamma, policy, start, r.Period.Count(years))
 	if err != nil {
 		return err
 	}
-	r, err := optimize.Solve(cmd.Context(), p, settings)
+	view := &reports.Forecast{Model: r.Name, Currency: r.Currency, PeriodYears: r.Period.Years(),
+		States: r.Problem.States, Actions: r.Problem.Actions, Discount: gamma, Forecast: fc}
+	if err := a.emit(cmd, st.Output, view); err != nil {
+		return err
+	}
+	if res != nil {
+		return uncertified(res)
+	}
+	return nil
+}
+
+// simulateFleet runs the Monte-Carlo of a fleet file for forecast
+// --simulate.
+func (a *app) simulateFleet(cmd *cobra.Command, ff *modelfile.Fleet, st settings.Forecast) error {
+	f, p, err := a.fleetPlan(cmd, ff, st.Fleet)
 	if err != nil {
 		return err
 	}
-	f, err := optimize.NewForecast(c.Model, c.Costs, p.Discount, r.Policy, start, periods)
+	bar := a.progress(st.Simulate, "simulating", st.Progress)
+	sim, err := fleet.Simulate(cmd.Context(), f, p, st.Follow == "advice", st.Simulate, st.Seed, 0, bar.add)
+	bar.finish()
 	if err != nil {
 		return err
 	}
-	view := &reports.Forecast{Model: c.Name, Currency: c.Currency, PeriodYears: c.Model.PeriodYears,
-		States: p.States, Actions: p.Actions, Discount: p.Discount, Forecast: f}
-	err = a.emit(cmd, out, format, view)
-	if err != nil {
-		return err
-	}
-	return uncertified(r)
+	view := &reports.SimulationReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Sim: sim, Follow: st.Follow, Seed: st.Seed}
+	return a.emit(cmd, st.Output, view)
 }

@@ -81,17 +81,3 @@ func golden(t *testing.T, name, got string) {
 		t.Errorf("output differs from %s (rerun with -update after checking the change):\n--- got\n%s\n--- want\n%s", path, got, want)
 	}
 }
-
-// readClass loads a class config for tests, without a run's settings.
-func readClass(tb testing.TB, path string) *classFile {
-	tb.Helper()
-	m, err := loadModelWith(path, decodeOptions{}, nil)
-	if err == nil {
-		var c *classFile
-		if c, err = classOnly(path, m); err == nil {
-			return c
-		}
-	}
-	tb.Fatal(err)
-	return nil
-}

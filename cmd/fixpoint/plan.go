@@ -1,14 +1,10 @@
 package main
 
 import (
-	"io"
-	"os"
-	"time"
-
-	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
-	"golang.org/x/term"
 
+	"fixpoint/cmd/internal/modelfile"
+	"fixpoint/cmd/internal/settings"
 	"fixpoint/optimize/fleet"
 	"fixpoint/reports"
 )
@@ -17,8 +13,8 @@ func (a *app) newPlan() *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "plan FLEET.yaml",
 		Short: "Budget-constrained multi-year work plan of a fleet, with proven bounds",
-		Long: `plan reads a fleet file (class configs, an inventory of units and an annual
-budget) and plans the work of every year under the budget: the optimal plan of
+		Long: `plan reads a fleet file (class configs, an inventory of units and a budget per
+year) and plans the work of every year under the budget: the optimal plan of
 the expected-count model, with a proven lower bound (Lagrangian relaxation of the
 budgets) and the gap to the plan found, then a whole-unit work list.
 
@@ -26,190 +22,72 @@ Years t = 1..T; the inventory gives year 1; year-t work is charged to the budget
 of year t (running costs are not); year-t costs are discounted by γ^(t-1); after
 year T each unit is charged its unconstrained optimal value, discounted by γ^T.
 Work in unsafe states is mandatory and funded first.`,
+		Example: `  fixpoint plan configs/east-zone.yaml
+  fixpoint plan configs/east-zone.yaml --budget 45000 --years 15 -o plan.json`,
 		Args: exactArgs(1, "one fleet file"),
 		RunE: func(cmd *cobra.Command, args []string) error { return a.plan(cmd, args[0]) },
 	}
-	addFleetFlags(cmd)
-	addOutputFlags(cmd)
+	f := cmd.Flags()
+	settings.AddFleet(f)
+	settings.AddYears(f, "horizon in `years` overriding the fleet file")
+	settings.AddOutput(f, "table", "json", "csv")
 	return cmd
 }
 
-// addFleetFlags adds the budget overrides and the gap target.
-func addFleetFlags(cmd *cobra.Command) {
-	f := cmd.Flags()
-	f.String("budget", "", "budget per year overriding the fleet file (`amount`)")
-	f.String("years", "", "horizon in years overriding the fleet file (`n`)")
-	f.String("gap", "0.0001", "target relative gap between the bounds (`g`)")
-}
-
-// loadFleet reads a fleet file and applies --budget and --years.
-func (a *app) loadFleet(path string) (*fleetFile, *fleet.Problem, error) {
-	m, err := a.loadModel(path)
-	if err != nil {
-		return nil, nil, err
-	}
-	ff := m.Fleet
-	if ff == nil {
-		return nil, nil, &inputError{File: path, Msg: "not a fleet file (a fleet file has classes, inventory and budget)"}
-	}
+// fleetPlan applies --budget and --years to a fleet file and plans it.
+func (a *app) fleetPlan(cmd *cobra.Command, ff *modelfile.Fleet, st settings.Fleet) (*fleet.Problem, *fleet.Plan, error) {
 	years := ff.Years
-	if s := a.str("years"); s != "" {
-		if years, err = a.integer("years"); err != nil {
-			return nil, nil, err
+	if st.Years != 0 {
+		if st.Years != float64(int(st.Years)) || st.Years > modelfile.MaxYears {
+			return nil, nil, usagef("setting years: %g is not a whole number of years in [1, %d]", st.Years, modelfile.MaxYears)
 		}
-		if years < 1 || years > maxYears {
-			return nil, nil, usagef("setting years: %d is not in [1, %d]", years, maxYears)
-		}
-		if !ff.HasPerYear && a.str("budget") == "" && years != len(ff.Budget) {
-			return nil, nil, usagef("--years %d does not match the %d budgets listed in %s; give --budget too", years, len(ff.Budget), path)
+		years = int(st.Years)
+		if !ff.PerYear && !st.HasBudget && years != len(ff.Budget) {
+			return nil, nil, usagef("--years %d does not match the %d budgets listed in %s; give --budget too", years, len(ff.Budget), ff.Path)
 		}
 	}
 	budget := make([]float64, years)
-	switch {
-	case a.str("budget") != "":
-		b, err := a.number("budget")
-		if err != nil {
-			return nil, nil, err
+	for t := range budget {
+		switch {
+		case st.HasBudget:
+			budget[t] = st.Budget
+		case ff.PerYear:
+			budget[t] = ff.Budget[0]
+		default:
+			budget[t] = ff.Budget[t]
 		}
-		if !(b >= 0) || b > maxBudgetYear {
-			return nil, nil, usagef("setting budget: %g is not a budget >= 0", b)
-		}
-		for t := range budget {
-			budget[t] = b
-		}
-	case ff.HasPerYear:
-		for t := range budget {
-			budget[t] = ff.PerYear
-		}
-	default:
-		copy(budget, ff.Budget)
 	}
-	f, err := ff.fleet(budget)
-	return ff, f, err
-}
-
-func (a *app) gapTarget() (float64, error) {
-	g, err := a.number("gap")
+	f, err := ff.Problem(budget)
 	if err != nil {
-		return 0, err
+		return nil, nil, err
 	}
-	if !(g > 0 && g < 1) {
-		return 0, usagef("setting gap: %g is not in (0, 1)", g)
-	}
-	return g, nil
-}
-
-// fleetPlan plans a fleet file.
-func (a *app) fleetPlan(cmd *cobra.Command, path string) (*fleetFile, *fleet.Problem, *fleet.Plan, float64, error) {
-	gap, err := a.gapTarget()
+	p, err := fleet.Solve(cmd.Context(), f, &fleet.Settings{Gap: st.Gap})
 	if err != nil {
-		return nil, nil, nil, 0, err
+		return nil, nil, err
 	}
-	ff, f, err := a.loadFleet(path)
-	if err != nil {
-		return nil, nil, nil, 0, err
-	}
-	p, err := fleet.Solve(cmd.Context(), f, &fleet.Settings{Gap: gap})
-	if err != nil {
-		return nil, nil, nil, 0, err
-	}
-	return ff, f, p, gap, nil
+	return f, p, nil
 }
 
 func (a *app) plan(cmd *cobra.Command, path string) error {
-	format, out, err := a.outputSettings(formats, path)
+	st, err := a.src.Plan()
 	if err != nil {
 		return err
 	}
-	ff, f, p, gap, err := a.fleetPlan(cmd, path)
+	file, err := a.load(cmd, path, modelfile.FleetFile)
 	if err != nil {
 		return err
 	}
-	view := &reports.PlanReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, gap)}
+	if err := a.target(st.Output).Check(); err != nil {
+		return err
+	}
+	ff := file.Fleet
+	f, p, err := a.fleetPlan(cmd, ff, st.Fleet)
+	if err != nil {
+		return err
+	}
+	view := &reports.PlanReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Fleet.Gap)}
 	for _, wn := range view.Warnings {
 		a.warn(wn)
 	}
-	return a.emit(cmd, out, format, view)
-}
-
-// warn prints a warning on stderr.
-func (a *app) warn(msg string) { io.WriteString(a.stderr, "fixpoint: warning: "+msg+"\n") }
-
-// simulateFleet runs the Monte-Carlo of a fleet file for forecast
-// --simulate.
-func (a *app) simulateFleet(cmd *cobra.Command, path string, format string, out output) error {
-	runs, err := a.integer("simulate")
-	if err != nil {
-		return err
-	}
-	if runs < 2 || runs > 1_000_000 {
-		return usagef("setting simulate: %d is not a number of runs in [2, 1000000]", runs)
-	}
-	seed, err := a.integer("seed")
-	if err != nil {
-		return err
-	}
-	follow := a.str("follow")
-	if follow != "plan" && follow != "advice" {
-		return usagef("setting follow: %q; want plan or advice", follow)
-	}
-	ff, f, p, _, err := a.fleetPlan(cmd, path)
-	if err != nil {
-		return err
-	}
-	bar := a.progress(runs, "simulating")
-	sim, err := fleet.Simulate(cmd.Context(), f, p, follow == "advice", runs, uint64(seed), 0, bar.add)
-	bar.finish()
-	if err != nil {
-		return err
-	}
-	view := &reports.SimulationReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Sim: sim, Follow: follow, Seed: uint64(seed)}
-	return a.emit(cmd, out, format, view)
-}
-
-// progressBar shows progress on stderr when it is a terminal, the run
-// takes longer than a second and --progress is not never (always shows it
-// whatever the terminal).
-type progressBar struct {
-	a     *app
-	total int
-	label string
-	start time.Time
-	bar   *progressbar.ProgressBar
-	mode  string
-}
-
-func (a *app) progress(total int, label string) *progressBar {
-	return &progressBar{a: a, total: total, label: label, start: time.Now(), mode: a.str("progress")}
-}
-
-func (b *progressBar) enabled() bool {
-	switch b.mode {
-	case "never":
-		return false
-	case "always":
-		return true
-	}
-	f, ok := b.a.stderr.(*os.File)
-	return ok && term.IsTerminal(int(f.Fd())) && time.Since(b.start) > time.Second
-}
-
-// add is called with the number of items done (from any goroutine, one at
-// a time).
-func (b *progressBar) add(done int) {
-	if b.bar == nil {
-		if !b.enabled() {
-			return
-		}
-		b.bar = progressbar.NewOptions(b.total, progressbar.OptionSetWriter(b.a.stderr),
-			progressbar.OptionSetDescription(b.label), progressbar.OptionShowCount(),
-			progressbar.OptionSetPredictTime(true), progressbar.OptionClearOnFinish())
-	}
-	b.bar.Set(done)
-}
-
-func (b *progressBar) finish() {
-	if b.bar != nil {
-		b.bar.Finish()
-	}
+	return a.emit(cmd, st.Output, view)
 }

@@ -86,7 +86,7 @@ func TestPlanBadInput(t *testing.T) {
 		{"unknown class names line", map[string][2]string{"east-zone-inventory.csv": {",valves,", ",valvs,"}}, `unknown class "valvs"; did you mean "valves"?`},
 		{"unknown condition", map[string][2]string{"east-zone-inventory.csv": {",pumps,sound,", ",pumps,shiny,"}}, `unknown condition "shiny" for class pumps`},
 		{"duplicate unit", map[string][2]string{"east-zone-inventory.csv": {"KV-V0001,", "KV-P001,"}}, `unit "KV-P001" is listed twice (also line`},
-		{"negative budget", map[string][2]string{"east-zone.yaml": {"per_year: 60000", "per_year: -5"}}, "budget.per_year: budget -5 is negative"},
+		{"negative budget", map[string][2]string{"east-zone.yaml": {"per_year: 60000", "per_year: -5"}}, "budget.per_year: budget -5 is not in [0, 1e+15]"},
 		{"budget list length", map[string][2]string{"east-zone.yaml": {"per_year: 60000", "per_year: [1, 2, 3]"}}, "budget.per_year: 3 budgets for 10 years"},
 		{"missing class file", map[string][2]string{"east-zone.yaml": {"valves: valves.yaml", "valves: gates.yaml"}}, "gates.yaml: file not found"},
 		{"different periods", map[string][2]string{"valves.yaml": {"period_years: 1", "period_years: 0.5"}}, "have different periods"},

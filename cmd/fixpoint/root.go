@@ -8,13 +8,15 @@ import (
 	"os"
 	"os/signal"
 	"slices"
-	"strconv"
 	"strings"
 	"syscall"
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
-	"github.com/spf13/viper"
+
+	"fixpoint/cmd/internal/modelfile"
+	"fixpoint/cmd/internal/outfile"
+	"fixpoint/cmd/internal/settings"
 )
 
 // Exit codes (documented in doc.go and the README).
@@ -26,25 +28,24 @@ const (
 	exitInterrupted = 130
 )
 
-// usageError is a mistake in the command line or the run-time settings.
-type usageError struct{ msg string }
-
-func (e *usageError) Error() string { return e.msg }
-
-func usagef(format string, args ...any) error { return &usageError{fmt.Sprintf(format, args...)} }
-
 // uncertifiedError says that an answer was written but its proven gap is
 // above the tolerance.
 type uncertifiedError struct{ msg string }
 
 func (e *uncertifiedError) Error() string { return e.msg }
 
+func usagef(format string, args ...any) error { return settings.Errorf(format, args...) }
+
 // app carries what every command needs: the standard streams and the
-// run-time settings of this run.
+// run-time settings of the command being run.
 type app struct {
 	stdin          io.Reader
 	stdout, stderr io.Writer
-	v              *viper.Viper
+	src            *settings.Source
+	// known lists every setting key (the flags of every command).
+	known []string
+	// inputs are the files read in the run, protected from being written.
+	inputs []string
 }
 
 // run builds a fresh command tree, runs it on args and returns the exit
@@ -52,7 +53,7 @@ type app struct {
 func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	a := &app{stdin: stdin, stdout: stdout, stderr: stderr, v: viper.New()}
+	a := &app{stdin: stdin, stdout: stdout, stderr: stderr}
 	root := a.newRoot()
 	root.SetArgs(args)
 	root.SetIn(stdin)
@@ -77,16 +78,18 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 }
 
 func exitCode(err error) int {
-	var ue *usageError
+	var se *settings.Error
+	var oe *outfile.Error
 	var ce *uncertifiedError
 	switch {
 	case errors.Is(err, context.Canceled):
 		return exitInterrupted
-	case errors.As(err, &ue):
+	case errors.As(err, &se), errors.As(err, &oe):
 		return exitUsage
 	case errors.As(err, &ce):
 		return exitUncertified
-	case strings.HasPrefix(err.Error(), "unknown command"), strings.HasPrefix(err.Error(), "unknown flag"):
+	case strings.HasPrefix(err.Error(), "unknown command"), strings.HasPrefix(err.Error(), "unknown flag"),
+		strings.HasPrefix(err.Error(), "unknown shorthand flag"):
 		return exitUsage
 	}
 	return exitInput
@@ -109,137 +112,49 @@ func (a *app) newRoot() *cobra.Command {
 		Use:   "fixpoint",
 		Short: "Certified maintenance policies from condition-state degradation models",
 		Long: `fixpoint turns the condition-state degradation (Markov transition) matrices and the
-costs of one class of equipment into a discounted-cost Markov decision process,
-solves it to proven optimality, and reports what to do in every condition.
+costs of equipment into a discounted-cost Markov decision process, solves it to
+proven optimality, and reports what to do in every condition.
 
 Output is advisory: statutory and safety inspections follow local regulation,
 and a competent or licensed inspector's finding overrides the advice.`,
 		SilenceErrors: true,
 		SilenceUsage:  true,
 		PersistentPreRunE: func(cmd *cobra.Command, _ []string) error {
-			return a.loadSettings(cmd)
+			src, err := settings.Open(cmd.Flags(), a.known)
+			if err != nil {
+				return err
+			}
+			a.src = src
+			if src.File != "" {
+				a.inputs = append(a.inputs, src.File)
+			}
+			return nil
 		},
 	}
-	root.PersistentFlags().String("settings", "", "run-time settings file (YAML, TOML or JSON; env FIXPOINT_SETTINGS)")
+	root.PersistentFlags().String("settings", "", "run-time settings `file` (YAML, TOML or JSON; env FIXPOINT_SETTINGS)")
 	root.PersistentFlags().Bool("renormalize", false, "divide rows that miss 1 only by 3-decimal rounding by their sum (each change is noted)")
-	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &usageError{err.Error()} })
-	root.AddCommand(a.newSolve(), a.newCompare(), a.newSensitivity(), a.newForecast(), a.newPlan(), a.newBrief(), a.newFit(), a.newCheck(), a.newInit())
+	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usagef("%v", err) })
+	root.AddCommand(a.newSolve(), a.newCompare(), a.newSensitivity(), a.newForecast(), a.newPlan(), a.newBrief(),
+		a.newFit(), a.newCheck(), a.newInit())
+	a.known = settingKeys(root)
 	return root
 }
 
-// loadSettings prepares the run's viper instance: FIXPOINT_* environment
-// variables, the optional settings file, and the flags of the command
-// being run, which win over both. Each command sets its own defaults.
-func (a *app) loadSettings(cmd *cobra.Command) error {
-	v := a.v
-	v.SetEnvPrefix("FIXPOINT")
-	v.SetEnvKeyReplacer(strings.NewReplacer("-", "_"))
-	v.AutomaticEnv()
-	path, _ := cmd.Flags().GetString("settings")
-	if !cmd.Flags().Changed("settings") {
-		path = os.Getenv("FIXPOINT_SETTINGS")
-	}
-	if path != "" {
-		v.SetConfigFile(path)
-		if err := v.ReadInConfig(); err != nil {
-			var nf viper.ConfigFileNotFoundError
-			if errors.As(err, &nf) || errors.Is(err, os.ErrNotExist) {
-				return &inputError{File: path, Msg: "settings file not found"}
-			}
-			return &inputError{File: path, Msg: "cannot read settings: " + err.Error()}
+// settingKeys lists the flags of every command: the keys a settings file
+// may hold.
+func settingKeys(root *cobra.Command) []string {
+	var keys []string
+	add := func(f *pflag.Flag) {
+		if f.Name != "settings" && f.Name != "help" && !slices.Contains(keys, f.Name) {
+			keys = append(keys, f.Name)
 		}
 	}
-	var bindErr error
-	cmd.Flags().VisitAll(func(f *pflag.Flag) {
-		if f.Name == "settings" || f.Name == "help" {
-			return
-		}
-		v.SetDefault(f.Name, f.DefValue)
-		if err := v.BindPFlag(f.Name, f); err != nil && bindErr == nil {
-			bindErr = err
-		}
-	})
-	if bindErr != nil {
-		return bindErr
+	root.PersistentFlags().VisitAll(add)
+	for _, c := range root.Commands() {
+		c.Flags().VisitAll(add)
 	}
-	if path != "" {
-		for _, key := range v.AllKeys() {
-			if cmd.Flags().Lookup(key) == nil && !slices.Contains(allSettings, key) {
-				return &inputError{File: path, Path: key, Msg: "unknown setting" + didYouMean(key, settingNames(cmd))}
-			}
-		}
-	}
-	return nil
-}
-
-// allSettings lists every key a settings file may set: the flags of every
-// command, so that one settings file can serve them all.
-var allSettings = []string{"method", "tol", "format", "rate", "factor", "max-iterations", "output", "force",
-	"target", "mix", "from", "units", "years", "date", "criterion", "rates", "inflation",
-	"config", "states", "period-years", "passive", "deterioration-only", "one-step", "improvement-as-error",
-	"bootstrap", "seed", "level", "workers", "merge", "merge-min", "max-memory-gib", "budget", "gap", "simulate", "follow", "progress", "renormalize"}
-
-func settingNames(cmd *cobra.Command) []string {
-	var names []string
-	cmd.Flags().VisitAll(func(f *pflag.Flag) {
-		if f.Name != "settings" && f.Name != "help" {
-			names = append(names, f.Name)
-		}
-	})
-	return names
-}
-
-// str, number, integer and boolean read a setting and say where a bad
-// value came from.
-func (a *app) str(key string) string { return a.v.GetString(key) }
-
-func (a *app) number(key string) (float64, error) {
-	s := strings.TrimSpace(a.v.GetString(key))
-	x, err := parseNumber(s)
-	if err != nil {
-		return 0, usagef("setting %s (flag --%s or FIXPOINT_%s): %v", key, key, envName(key), err)
-	}
-	return x, nil
-}
-
-func (a *app) integer(key string) (int, error) {
-	s := strings.TrimSpace(a.v.GetString(key))
-	i, err := strconv.Atoi(s)
-	if err != nil {
-		return 0, usagef("setting %s (flag --%s or FIXPOINT_%s): %q is not a whole number", key, key, envName(key), s)
-	}
-	return i, nil
-}
-
-func (a *app) boolean(key string) (bool, error) {
-	s := strings.TrimSpace(a.v.GetString(key))
-	b, err := strconv.ParseBool(s)
-	if err != nil {
-		return false, usagef("setting %s (flag --%s or FIXPOINT_%s): %q is not true or false", key, key, envName(key), s)
-	}
-	return b, nil
-}
-
-func envName(key string) string { return strings.ToUpper(strings.ReplaceAll(key, "-", "_")) }
-
-// parseNumber accepts a plain decimal number, optionally in exponent form
-// or with a trailing "%" (divided by 100). It refuses what
-// strconv.ParseFloat would also accept but no user means: NaN, Inf, hex
-// floats and "_" separators.
-func parseNumber(s string) (float64, error) {
-	pct := strings.HasSuffix(s, "%")
-	body := strings.TrimSuffix(s, "%")
-	if body == "" || strings.ContainsAny(body, "_xXpPnNiI") {
-		return 0, fmt.Errorf("%q is not a number", s)
-	}
-	x, err := strconv.ParseFloat(body, 64)
-	if err != nil {
-		return 0, fmt.Errorf("%q is not a number", s)
-	}
-	if pct {
-		x /= 100
-	}
-	return x, nil
+	slices.Sort(keys)
+	return keys
 }
 
 // exactArgs is cobra.ExactArgs with a usage error.
@@ -251,3 +166,53 @@ func exactArgs(n int, what string) cobra.PositionalArgs {
 		return nil
 	}
 }
+
+// takers says, for each kind of file, which commands take it.
+var takers = map[modelfile.Kind]string{
+	modelfile.ClassFile:     "solve, check, compare, sensitivity, forecast and brief take class configs",
+	modelfile.SystemFile:    "solve, check and brief take system files",
+	modelfile.FleetFile:     "plan, check, brief and forecast --simulate take fleet files",
+	modelfile.RecordsFile:   "fit takes inspection-records CSV files",
+	modelfile.InventoryFile: "an inventory is read through the fleet file that names it (plan, check, brief, forecast --simulate)",
+	modelfile.SettingsFile:  "a settings file is given with --settings FILE",
+	modelfile.EmptyFile:     "write a model with fixpoint init",
+	modelfile.BinaryFile:    "fixpoint reads YAML model files and CSV records",
+	modelfile.OtherFile:     "a model file is a YAML mapping with version: 1 (fixpoint init writes one of each kind)",
+}
+
+// load reads a model file for the command name, which takes the kinds
+// want; any other kind is refused in one line naming who takes it.
+func (a *app) load(cmd *cobra.Command, path string, want ...modelfile.Kind) (*modelfile.File, error) {
+	renorm, err := a.src.Renormalize()
+	if err != nil {
+		return nil, err
+	}
+	f, err := modelfile.Load(cmd.Context(), path, modelfile.Options{Renormalize: renorm})
+	if err != nil {
+		return nil, err
+	}
+	for _, n := range f.Notes {
+		a.note(n)
+	}
+	a.inputs = append(a.inputs, f.Inputs...)
+	if !slices.Contains(want, f.Kind) {
+		what := "this is a " + f.Kind.String()
+		switch f.Kind {
+		case modelfile.EmptyFile:
+			what = "the file is empty"
+		case modelfile.BinaryFile:
+			what = "this is not a text file"
+		}
+		return nil, &modelfile.Fault{File: path, Msg: fmt.Sprintf("%s, which %s does not take; %s", what, cmd.Name(), takers[f.Kind])}
+	}
+	return f, nil
+}
+
+// target returns where a command writes o, protecting every input.
+func (a *app) target(o settings.Output) outfile.Target {
+	return outfile.Target{Path: o.Path, Force: o.Force, Inputs: a.inputs, Notes: a.note}
+}
+
+// note prints a note on stderr; warn a warning.
+func (a *app) note(msg string) { io.WriteString(a.stderr, "fixpoint: note: "+msg+"\n") }
+func (a *app) warn(msg string) { io.WriteString(a.stderr, "fixpoint: warning: "+msg+"\n") }

@@ -5,6 +5,8 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"fixpoint/cmd/internal/modelfile"
+	"fixpoint/cmd/internal/settings"
 	"fixpoint/optimize"
 	"fixpoint/reports"
 )
@@ -19,17 +21,21 @@ action's cost in that condition must fall before it becomes the advice; and,
 for every cost figure of the config (each running cost, each action cost),
 the range over which it can vary alone without changing the advice anywhere,
 with the change that happens first beyond each end.`,
+		Example: `  fixpoint sensitivity configs/pumps.yaml
+  fixpoint sensitivity configs/pumps.yaml --rate 5% -o ranges.csv`,
 		Args: exactArgs(1, "one class config file"),
 		RunE: func(cmd *cobra.Command, args []string) error { return a.sensitivity(cmd, args[0]) },
 	}
-	addSolverFlags(cmd)
-	addOutputFlags(cmd)
+	f := cmd.Flags()
+	settings.AddSolver(f)
+	settings.AddOverride(f)
+	settings.AddOutput(f, "table", "json", "csv")
 	return cmd
 }
 
 // costFigures lists the cost figures of a class config as groups of
 // (state, action) costs that move together.
-func costFigures(c *classFile, p *optimize.Problem) ([]reports.CostFigure, [][]optimize.Pair) {
+func costFigures(c *modelfile.Class, p *optimize.Problem) ([]reports.CostFigure, [][]optimize.Pair) {
 	m := c.Model
 	var figs []reports.CostFigure
 	var groups [][]optimize.Pair
@@ -45,7 +51,7 @@ func costFigures(c *classFile, p *optimize.Problem) ([]reports.CostFigure, [][]o
 	for a, act := range m.Actions {
 		var all []optimize.Pair
 		for s := range m.States {
-			if p.Choices[s] != nil && slicesContainsAction(p.Choices[s], a) {
+			if p.Find(s, a) >= 0 {
 				all = append(all, optimize.Pair{State: s, Action: a})
 			}
 		}
@@ -68,46 +74,40 @@ func costFigures(c *classFile, p *optimize.Problem) ([]reports.CostFigure, [][]o
 	return figs, groups
 }
 
-func slicesContainsAction(cs []optimize.Choice, a int) bool {
-	for _, c := range cs {
-		if c.Action == a {
-			return true
-		}
-	}
-	return false
-}
-
 func (a *app) sensitivity(cmd *cobra.Command, path string) error {
-	format, out, err := a.outputSettings(formats, path)
+	st, err := a.src.Sensitivity()
 	if err != nil {
 		return err
 	}
-	settings, err := a.solverSettings()
+	c, err := a.class(cmd, path)
 	if err != nil {
 		return err
 	}
-	c, p, err := a.loadProblem(path)
+	if err := a.target(st.Output).Check(); err != nil {
+		return err
+	}
+	if c.Criterion == modelfile.Average && !st.Override.Given() {
+		return &modelfile.Fault{File: path, Path: "criterion", Msg: "sensitivity works under the discounted criterion only; give --rate or --factor"}
+	}
+	r, err := prepare(c, st.Override, "discounted")
 	if err != nil {
 		return err
 	}
-	if !c.HasRate && !c.HasFactor {
-		return &inputError{File: path, Path: "discount", Msg: "sensitivity needs a discount rate or factor (in the config, or --rate / --factor)"}
-	}
-	r, err := optimize.Solve(cmd.Context(), p, settings)
+	res, err := optimize.Solve(cmd.Context(), r.Problem, &st.Solver)
 	if err != nil {
 		return err
 	}
-	figs, groups := costFigures(c, p)
-	ranges, err := optimize.CostRanges(p, r, groups)
+	figs, groups := costFigures(r.Class, r.Problem)
+	ranges, err := optimize.CostRanges(r.Problem, res, groups)
 	if err != nil {
 		return err
 	}
 	for i := range figs {
 		figs[i].Range = ranges[i]
 	}
-	view := &reports.Sensitivity{Model: c.Name, Currency: c.Currency, Unsafe: c.unsafe(), Problem: p, Result: r, Figures: figs}
-	if err := a.emit(cmd, out, format, view); err != nil {
+	view := &reports.Sensitivity{Model: r.Name, Currency: r.Currency, Unsafe: r.Unsafe(), Problem: r.Problem, Result: res, Figures: figs}
+	if err := a.emit(cmd, st.Output, view); err != nil {
 		return err
 	}
-	return uncertified(r)
+	return uncertified(res)
 }

@@ -1,9 +1,8 @@
-package main
+package modelfile
 
 import (
 	"errors"
-	"io"
-	"os"
+	"fmt"
 	"slices"
 
 	"go.yaml.in/yaml/v3"
@@ -15,34 +14,48 @@ import (
 // Limits on a class file. A condition scale of a few dozen states is
 // already unusual; the caps keep a hostile file from exhausting memory.
 const (
-	maxFileBytes = 4 << 20
-	maxStates    = 500
-	maxActions   = 50
-	maxNameLen   = 200
+	MaxStates  = 500
+	MaxActions = 50
 )
 
-// fileHeader holds what class and system files share: name, currency,
-// period and discounting.
-type fileHeader struct {
-	Path        string
-	Name        string
-	Currency    string
-	PeriodYears float64
-	// Rate (per year) or Factor (per period), whichever the file gives.
-	Rate, Factor       float64
-	HasRate, HasFactor bool
-	// Average is true for criterion: average (the discount block is then
-	// optional).
-	Average bool
+// Criterion is the objective a file asks for.
+type Criterion int
+
+const (
+	// Discounted minimises the expected present value of costs.
+	Discounted Criterion = iota
+	// Average minimises the long-run average cost per period.
+	Average
+)
+
+func (c Criterion) String() string {
+	if c == Average {
+		return "average"
+	}
+	return "discounted"
+}
+
+// Header holds what class and system files share: name, currency, period,
+// discount and criterion.
+type Header struct {
+	// Path is the file as named by the user; Name the model's name (the
+	// path when the file gives none).
+	Path, Name string
+	Currency   string
+	Period     costs.Period
+	// Discount is the file's rate or factor; zero when it gives neither
+	// (allowed only with criterion: average).
+	Discount  costs.Discount
+	Criterion Criterion
 	// Compare lists the annual rates of discount.compare.
 	Compare []float64
 
 	periodNode *yaml.Node
 }
 
-// classFile is a decoded class config: one class of equipment.
-type classFile struct {
-	fileHeader
+// Class is a decoded class config: one class of equipment.
+type Class struct {
+	Header
 	Model *condition.Model
 	Costs *costs.Schedule
 	// CostScalar[a] is true when action a's cost is one number for every
@@ -55,8 +68,17 @@ type classFile struct {
 	prefix string
 }
 
+// Unsafe returns the unsafe flag of every state.
+func (c *Class) Unsafe() []bool {
+	u := make([]bool, len(c.Model.States))
+	for s, st := range c.Model.States {
+		u[s] = st.Unsafe
+	}
+	return u
+}
+
 // p returns the field path of key inside the model.
-func (c *classFile) p(key string) string { return join(c.prefix, key) }
+func (c *Class) p(key string) string { return join(c.prefix, key) }
 
 // classLocator remembers where each part of the model came from, so that
 // faults found by the libraries can name the file, line and field path.
@@ -77,62 +99,14 @@ type classLocator struct {
 
 var classKeys = []string{"version", "kind", "name", "currency", "period_years", "criterion", "discount", "states", "actions"}
 
-// loadClass reads and validates the class config at path; a system file
-// is refused with a message.
-func (a *app) loadClass(path string) (*classFile, error) {
-	m, err := a.loadModel(path)
-	if err != nil {
-		return nil, err
-	}
-	return classOnly(path, m)
-}
-
-// classOnly returns the class of a model file, refusing systems and fleets.
-func classOnly(path string, m *modelFile) (*classFile, error) {
-	switch {
-	case m.System != nil:
-		return nil, &inputError{File: path, Path: "kind", Msg: "this is a system file; this command works on class configs (solve and check take systems)"}
-	case m.Fleet != nil:
-		return nil, &inputError{File: path, Path: "kind", Msg: "this is a fleet file; this command works on class configs (plan, forecast and check take fleets)"}
-	}
-	return m.Class, nil
-}
-
-// openProblem says why a file could not be opened, without repeating its path.
-func openProblem(err error) string {
-	var pe *os.PathError
-	if errors.As(err, &pe) {
-		err = pe.Err
-	}
-	if errors.Is(err, os.ErrNotExist) {
-		return "file not found"
-	}
-	return err.Error()
-}
-
-// decodeClass decodes and validates a class config read from r; file
-// names it in errors. Every fault found is returned, joined.
-func decodeClass(file string, r io.Reader) (*classFile, error) {
-	m, err := decodeModel(file, r, decodeOptions{}, nil)
-	if err != nil {
-		return nil, err
-	}
-	if m.Class == nil {
-		return nil, &inputError{File: file, Path: "kind", Msg: "want a class config, not a system or fleet"}
-	}
-	return m.Class, nil
-}
-
-func (c *classFile) decode(d *doc, root *yaml.Node) {
+func (c *Class) decode(d *doc, root *yaml.Node) {
 	c.loc.root = root
 	top := d.mapping(root, "", classKeys)
 	c.decodeHeader(d, root, top, true)
-	c.Model = &condition.Model{PeriodYears: c.PeriodYears}
+	c.Model = &condition.Model{PeriodYears: c.Period.Years()}
 	c.Costs = &costs.Schedule{Currency: c.Currency}
 	c.loc.period = c.periodNode
-	if c.decodeBody(d, root, top) && c.PeriodYears > 0 && !c.Average {
-		c.checkDiscount(d, top["discount"].value)
-	}
+	c.decodeBody(d, root, top)
 }
 
 // required returns the value of a required top-level key, recording a
@@ -155,7 +129,11 @@ func (d *doc) decodeIdentity(root *yaml.Node, top map[string]field, name, curren
 	}
 	if f, ok := top["name"]; ok {
 		if s, ok := d.str(f.value, "name"); ok {
-			*name = s
+			if problem := TextProblem(s); problem != "" {
+				d.fault(f.value, "name", "%s", problem)
+			} else {
+				*name = s
+			}
 		}
 	}
 	if n, ok := d.required(root, top, "currency"); ok {
@@ -165,37 +143,96 @@ func (d *doc) decodeIdentity(root *yaml.Node, top map[string]field, name, curren
 
 // decodeHeader reads version, name, currency, period_years, criterion (when
 // allowed) and discount from the top-level fields.
-func (h *fileHeader) decodeHeader(d *doc, root *yaml.Node, top map[string]field, criterion bool) {
+func (h *Header) decodeHeader(d *doc, root *yaml.Node, top map[string]field, criterion bool) {
 	d.decodeIdentity(root, top, &h.Name, &h.Currency)
 	if n, ok := d.required(root, top, "period_years"); ok {
 		h.periodNode = n
 		if v, ok := d.number(n, "period_years"); ok {
-			h.PeriodYears = v
-			if v <= 0 {
-				d.fault(n, "period_years", "period is %g years; want a number > 0", v)
+			p, err := costs.NewPeriod(v)
+			if err != nil {
+				d.fault(n, "period_years", "period of %g years; want a number of years in (0, %d]", v, costs.MaxPeriodYears)
 			}
+			h.Period = p
 		}
 	}
 	if f, ok := top["criterion"]; ok && criterion {
 		switch v, _ := d.str(f.value, "criterion"); v {
 		case "average":
-			h.Average = true
+			h.Criterion = Average
 		case "discounted":
 		default:
-			d.fault(f.value, "criterion", "unknown criterion %q; want discounted (the default) or average", v)
+			d.fault(f.value, "criterion", "unknown criterion %q; want discounted (the default) or average", clip(v))
 		}
 	}
 	if f, ok := top["discount"]; ok {
 		h.decodeDiscount(d, f.value)
-	} else if !h.Average {
+	} else if h.Criterion != Average {
 		d.fault(root, "discount", "missing required key \"discount\" (optional only with criterion: average)")
 	}
+}
+
+func (h *Header) decodeDiscount(d *doc, n *yaml.Node) {
+	f := d.mapping(n, "discount", []string{"rate", "factor", "compare"})
+	if cf, ok := f["compare"]; ok {
+		for i, it := range d.sequence(cf.value, "discount.compare") {
+			if v, ok := d.rate(it, index("discount.compare", i)); ok {
+				if v < 0 {
+					d.fault(it, index("discount.compare", i), "rate %g is negative; compare real rates >= 0", v)
+					continue
+				}
+				h.Compare = append(h.Compare, v)
+			}
+		}
+	}
+	rate, hasRate := f["rate"]
+	factor, hasFactor := f["factor"]
+	switch {
+	case hasRate && hasFactor:
+		d.fault(n, "discount", "give either rate or factor, not both")
+	case !hasRate && !hasFactor && h.Criterion == Average:
+	case !hasRate && !hasFactor && d.resolve(n).Kind == yaml.MappingNode:
+		d.fault(n, "discount", "give a rate (per year, e.g. rate: 4%% or rate: 0.04) or a factor (per period, e.g. factor: 0.96)")
+	case hasRate:
+		if v, ok := d.rate(rate.value, "discount.rate"); ok && h.Period.Valid() {
+			disc, err := costs.Rate(v, h.Period)
+			if err != nil {
+				d.fault(rate.value, "discount.rate", "%s%s", trimPkg(err), averageHint(v))
+			}
+			h.Discount = disc
+		}
+	case hasFactor:
+		if v, ok := d.number(factor.value, "discount.factor"); ok && h.Period.Valid() {
+			disc, err := costs.Factor(v, h.Period)
+			if err != nil {
+				d.fault(factor.value, "discount.factor", "%s", trimPkg(err))
+			}
+			h.Discount = disc
+		}
+	}
+}
+
+func averageHint(rate float64) string {
+	if rate == 0 {
+		return "; for no discounting use criterion: average"
+	}
+	return ""
+}
+
+// trimPkg drops a library's package prefix from its message.
+func trimPkg(err error) string {
+	s := err.Error()
+	for _, p := range []string{"costs: ", "condition: ", "optimize: ", "system: ", "fleet: "} {
+		if len(s) > len(p) && s[:len(p)] == p {
+			return s[len(p):]
+		}
+	}
+	return s
 }
 
 // decodeBody reads the states and actions of a model from its fields and
 // validates the model, locating every fault; it reports whether the
 // structure was sound enough to validate.
-func (c *classFile) decodeBody(d *doc, node *yaml.Node, fields map[string]field) bool {
+func (c *Class) decodeBody(d *doc, node *yaml.Node, fields map[string]field) bool {
 	structural := true
 	if f, ok := fields["states"]; ok {
 		c.loc.states = f.value
@@ -211,98 +248,29 @@ func (c *classFile) decodeBody(d *doc, node *yaml.Node, fields map[string]field)
 		d.fault(node, c.p("actions"), "missing required key \"actions\"")
 		structural = false
 	}
-	if !structural {
+	if !structural || d.cancelled() {
 		return false
 	}
 	if d.opts.Renormalize {
 		for _, r := range c.Model.Renormalize(0.0005) {
 			d.note("%s: %s: row summed to %s; each entry divided by it (--renormalize)",
-				d.file, c.rowPath(r.Action, r.State), condition.FormatSum(r.Sum))
+				d.file, c.rowLabel(r.Action, r.State), condition.FormatSum(r.Sum))
 		}
+	}
+	if !c.Period.Valid() {
+		// The period's own fault is enough; Validate would repeat it.
+		c.Model.PeriodYears = 1
 	}
 	for _, err := range unjoin(c.Model.Validate()) {
 		c.locate(d, err)
 	}
+	for _, err := range unjoin(c.Costs.Validate(len(c.Model.States), len(c.Model.Actions))) {
+		c.locateCost(d, err)
+	}
 	return true
 }
 
-func (c *fileHeader) decodeDiscount(d *doc, n *yaml.Node) {
-	f := d.mapping(n, "discount", []string{"rate", "factor", "compare"})
-	if cf, ok := f["compare"]; ok {
-		for i, it := range d.sequence(cf.value, "discount.compare") {
-			if v, ok := d.number(it, index("discount.compare", i)); ok {
-				if v < 0 {
-					d.fault(it, index("discount.compare", i), "rate %g is negative; compare real rates >= 0", v)
-					continue
-				}
-				c.Compare = append(c.Compare, v)
-			}
-		}
-	}
-	rate, hasRate := f["rate"]
-	factor, hasFactor := f["factor"]
-	switch {
-	case hasRate && hasFactor:
-		d.fault(n, "discount", "give either rate or factor, not both")
-	case !hasRate && !hasFactor && c.Average:
-	case !hasRate && !hasFactor && d.resolve(n).Kind == yaml.MappingNode:
-		d.fault(n, "discount", "give a rate (per year, e.g. rate: 0.04) or a factor (per period, e.g. factor: 0.96)")
-	case hasRate:
-		if v, ok := d.number(rate.value, "discount.rate"); ok {
-			c.Rate, c.HasRate = v, true
-			if v <= -1 {
-				d.fault(rate.value, "discount.rate", "rate %g is not above -1", v)
-				c.HasRate = false
-			}
-		}
-	case hasFactor:
-		if v, ok := d.number(factor.value, "discount.factor"); ok {
-			c.Factor, c.HasFactor = v, true
-			if !(v > 0 && v < 1) {
-				d.fault(factor.value, "discount.factor", "factor %g is not in (0, 1)", v)
-				c.HasFactor = false
-			}
-		}
-	}
-}
-
-// checkDiscount rejects a rate that gives no discounting.
-func (c *fileHeader) checkDiscount(d *doc, n *yaml.Node) {
-	if !c.HasRate {
-		return
-	}
-	if g, err := costs.DiscountFactor(c.Rate, c.PeriodYears); err == nil && !(g < 1) {
-		d.fault(n, "discount.rate", "rate %g gives a discount factor of %g; the discounted criterion needs a rate above 0", c.Rate, g)
-	}
-}
-
-// discount returns the file's discount (rate or factor) as a value.
-func (c *fileHeader) discount() (costs.Discount, error) {
-	p, err := costs.NewPeriod(c.PeriodYears)
-	if err != nil {
-		return costs.Discount{}, err
-	}
-	switch {
-	case c.HasFactor:
-		return costs.Factor(c.Factor, p)
-	case c.HasRate:
-		return costs.Rate(c.Rate, p)
-	}
-	return costs.Discount{}, errors.New("the config gives no discount rate or factor")
-}
-
-// DiscountFactor returns gamma per period from the file's rate or factor.
-func (c *fileHeader) DiscountFactor() (float64, error) {
-	switch {
-	case c.HasFactor:
-		return c.Factor, nil
-	case c.HasRate:
-		return costs.DiscountFactor(c.Rate, c.PeriodYears)
-	}
-	return 0, errors.New("the config gives no discount rate or factor")
-}
-
-func (c *classFile) decodeStates(d *doc, n *yaml.Node) bool {
+func (c *Class) decodeStates(d *doc, n *yaml.Node) bool {
 	items := d.sequence(n, c.p("states"))
 	if items == nil {
 		if d.resolve(n).Kind == yaml.SequenceNode {
@@ -310,39 +278,45 @@ func (c *classFile) decodeStates(d *doc, n *yaml.Node) bool {
 		}
 		return false
 	}
-	if len(items) > maxStates {
-		d.fault(n, c.p("states"), "%d states, over the limit of %d", len(items), maxStates)
+	if len(items) > MaxStates {
+		d.fault(n, c.p("states"), "%d states, over the limit of %d", len(items), MaxStates)
 		return false
 	}
 	m := c.Model
 	c.Costs.Running = make([]float64, len(items))
+	ok := true
 	for i, it := range items {
 		path := index(c.p("states"), i)
 		c.loc.stateNode = append(c.loc.stateNode, it)
 		st := condition.State{}
 		if r := d.resolve(it); r.Kind == yaml.ScalarNode {
-			st.Name, _ = d.name(r, path)
+			var good bool
+			st.Name, good = d.name(r, path)
+			ok = ok && good
 			m.States = append(m.States, st)
 			continue
 		}
 		f := d.mapping(it, path, []string{"name", "running_cost", "unsafe"})
-		if nf, ok := f["name"]; ok {
-			st.Name, _ = d.name(nf.value, path+".name")
+		if nf, has := f["name"]; has {
+			var good bool
+			st.Name, good = d.name(nf.value, path+".name")
+			ok = ok && good
 		} else {
 			d.fault(it, path, "missing required key \"name\"")
+			ok = false
 		}
-		if rf, ok := f["running_cost"]; ok {
+		if rf, has := f["running_cost"]; has {
 			c.Costs.Running[i], _ = d.number(rf.value, path+".running_cost")
 		}
-		if uf, ok := f["unsafe"]; ok {
+		if uf, has := f["unsafe"]; has {
 			st.Unsafe, _ = d.boolean(uf.value, path+".unsafe")
 		}
 		m.States = append(m.States, st)
 	}
-	return true
+	return ok
 }
 
-func (c *classFile) decodeActions(d *doc, n *yaml.Node) bool {
+func (c *Class) decodeActions(d *doc, n *yaml.Node) bool {
 	items := d.sequence(n, c.p("actions"))
 	if items == nil {
 		if d.resolve(n).Kind == yaml.SequenceNode {
@@ -350,8 +324,8 @@ func (c *classFile) decodeActions(d *doc, n *yaml.Node) bool {
 		}
 		return false
 	}
-	if len(items) > maxActions {
-		d.fault(n, c.p("actions"), "%d actions, over the limit of %d", len(items), maxActions)
+	if len(items) > MaxActions {
+		d.fault(n, c.p("actions"), "%d actions, over the limit of %d", len(items), MaxActions)
 		return false
 	}
 	ns := len(c.Model.States)
@@ -365,7 +339,7 @@ func (c *classFile) decodeActions(d *doc, n *yaml.Node) bool {
 		c.loc.broken = append(c.loc.broken, make([]bool, ns))
 		act := condition.Action{Rows: make([][]condition.Entry, ns)}
 		cost := make([]float64, ns)
-		f := d.mapping(it, path, []string{"name", "passive", "cost", "transitions", "matrix"})
+		f := d.mapping(it, path, []string{"name", "passive", "out_of_service", "cost", "transitions", "matrix"})
 		if nf, ok := f["name"]; ok {
 			act.Name, _ = d.name(nf.value, path+".name")
 		} else {
@@ -373,6 +347,9 @@ func (c *classFile) decodeActions(d *doc, n *yaml.Node) bool {
 		}
 		if pf, ok := f["passive"]; ok {
 			act.Passive, _ = d.boolean(pf.value, path+".passive")
+		}
+		if of, ok := f["out_of_service"]; ok {
+			act.OutOfService, _ = d.boolean(of.value, path+".out_of_service")
 		}
 		tf, hasT := f["transitions"]
 		mf, hasM := f["matrix"]
@@ -401,15 +378,15 @@ func (c *classFile) decodeActions(d *doc, n *yaml.Node) bool {
 }
 
 // stateRef resolves a state name used as a key, with a hint when unknown.
-func (c *classFile) stateRef(d *doc, key *yaml.Node, path string) int {
+func (c *Class) stateRef(d *doc, key *yaml.Node, path string) int {
 	s := c.Model.StateIndex(key.Value)
 	if s < 0 {
-		d.fault(key, path, "unknown state %q%s", key.Value, didYouMean(key.Value, c.Model.StateNames()))
+		d.fault(key, path, "unknown state %q%s", clip(key.Value), d.didYouMean(key.Value, c.Model.StateNames()))
 	}
 	return s
 }
 
-func (c *classFile) decodeTransitions(d *doc, a int, n *yaml.Node, path string, rows [][]condition.Entry) {
+func (c *Class) decodeTransitions(d *doc, a int, n *yaml.Node, path string, rows [][]condition.Entry) {
 	from := d.mapping(n, path, nil)
 	for _, name := range sortedKeys(from) {
 		f := from[name]
@@ -438,7 +415,7 @@ func (c *classFile) decodeTransitions(d *doc, a int, n *yaml.Node, path string, 
 	}
 }
 
-func (c *classFile) decodeMatrix(d *doc, a int, n *yaml.Node, path string, rows [][]condition.Entry) {
+func (c *Class) decodeMatrix(d *doc, a int, n *yaml.Node, path string, rows [][]condition.Entry) {
 	items := d.sequence(n, path)
 	if items == nil {
 		return
@@ -479,7 +456,7 @@ func (c *classFile) decodeMatrix(d *doc, a int, n *yaml.Node, path string, rows 
 }
 
 // decodeCost reads a number (every admissible state) or a map by state.
-func (c *classFile) decodeCost(d *doc, n *yaml.Node, path string, rows [][]condition.Entry, cost []float64) {
+func (c *Class) decodeCost(d *doc, n *yaml.Node, path string, rows [][]condition.Entry, cost []float64) {
 	if r := d.resolve(n); r.Kind == yaml.ScalarNode {
 		if v, ok := d.number(r, path); ok {
 			for s := range cost {
@@ -510,16 +487,32 @@ func (c *classFile) decodeCost(d *doc, n *yaml.Node, path string, rows [][]condi
 	}
 }
 
-// locate turns a fault of the condition package into a located input error.
-func (c *classFile) locate(d *doc, err error) {
+// rowLabel names the row of action a in state s by its path and, in
+// words, by the action's and the state's names.
+func (c *Class) rowLabel(a, s int) string {
+	path := c.loc.rowPath[a][s]
+	if path == "" {
+		path = index(c.p("actions"), a)
+	}
+	return fmt.Sprintf("%s (action %s, row %s)", path, c.Model.Actions[a].Name, c.Model.States[s].Name)
+}
+
+// locate turns a fault of the condition package into a located fault.
+func (c *Class) locate(d *doc, err error) {
 	var f *condition.Fault
 	if !errors.As(err, &f) {
-		d.fault(c.loc.root, "", "%v", err)
+		d.fault(c.loc.root, c.prefix, "%s", trimPkg(err))
 		return
 	}
 	l := &c.loc
 	if f.Field == "sum" && l.broken[f.Action][f.State] {
 		return
+	}
+	if f.Field == "name" && (f.State >= 0 && c.Model.States[f.State].Name == "" || f.Action >= 0 && f.State < 0 && c.Model.Actions[f.Action].Name == "") {
+		return // the name's own fault was reported while decoding
+	}
+	if f.Field == "period_years" {
+		return // decodeHeader reported it
 	}
 	if f.Field == "sum" {
 		row := c.Model.Actions[f.Action].Rows[f.State]
@@ -527,22 +520,23 @@ func (c *classFile) locate(d *doc, err error) {
 		for _, e := range row {
 			sum += e.P
 		}
-		if condition.RoundedLooking(sum, len(row)) {
+		if condition.RoundedLooking(sum, len(row)) && !d.opts.Renormalize {
 			f.Problem += "; it looks rounded to 3 decimals: --renormalize divides such rows by their sum and says which"
 		}
 	}
-	node, path := l.root, ""
+	node, path := l.root, c.prefix
 	switch {
-	case f.Field == "period_years":
-		node, path = l.period, "period_years"
 	case f.Field == "states":
 		node, path = l.states, c.p("states")
 	case f.Field == "actions":
 		node, path = l.actions, c.p("actions")
 	case f.Action < 0 && f.State >= 0:
 		node, path = l.stateNode[f.State], index(c.p("states"), f.State)
-		if f.Field == "name" {
+		switch f.Field {
+		case "name":
 			path += ".name"
+		default:
+			path += " (" + c.Model.States[f.State].Name + ")"
 		}
 	case f.Action >= 0 && f.State >= 0 && l.rowNode[f.Action][f.State] != nil:
 		node, path = l.rowNode[f.Action][f.State], l.rowPath[f.Action][f.State]
@@ -556,13 +550,35 @@ func (c *classFile) locate(d *doc, err error) {
 				path = join(path, c.Model.States[f.Target].Name)
 			}
 		}
+		path += fmt.Sprintf(" (action %s, row %s)", c.Model.Actions[f.Action].Name, c.Model.States[f.State].Name)
 	case f.Action >= 0:
 		node, path = l.actionNode[f.Action], l.actionPath[f.Action]
-		if f.Field == "name" || f.Field == "passive" {
+		switch f.Field {
+		case "name", "passive", "out_of_service":
 			path += "." + f.Field
 		}
 	}
 	d.fault(node, path, "%s", f.Problem)
+}
+
+// locateCost turns a fault of the costs package into a located fault.
+func (c *Class) locateCost(d *doc, err error) {
+	var f *costs.Fault
+	if !errors.As(err, &f) {
+		d.fault(c.loc.root, c.prefix, "%s", trimPkg(err))
+		return
+	}
+	switch {
+	case f.Action < 0 && f.State >= 0:
+		d.fault(c.loc.stateNode[f.State], index(c.p("states"), f.State)+".running_cost", "%s", f.Problem)
+	case f.Action >= 0 && f.State >= 0:
+		d.fault(c.loc.actionNode[f.Action], fmt.Sprintf("%s.cost (action %s, state %s)", c.loc.actionPath[f.Action],
+			c.Model.Actions[f.Action].Name, c.Model.States[f.State].Name), "%s", f.Problem)
+	case f.Action >= 0:
+		d.fault(c.loc.actionNode[f.Action], c.loc.actionPath[f.Action]+".cost", "%s", f.Problem)
+	default:
+		d.fault(c.loc.root, c.prefix, "%s", f.Problem)
+	}
 }
 
 func unjoin(err error) []error {
@@ -590,12 +606,4 @@ func sortedKeys(m map[string]field) []string {
 		return ka.Column - kb.Column
 	})
 	return keys
-}
-
-// rowPath is the field path of the row of action a in state s.
-func (c *classFile) rowPath(a, s int) string {
-	if p := c.loc.rowPath[a][s]; p != "" {
-		return p
-	}
-	return index(c.p("actions"), a)
 }

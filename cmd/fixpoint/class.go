@@ -1,0 +1,174 @@
+package main
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/spf13/cobra"
+
+	"fixpoint/cmd/internal/modelfile"
+	"fixpoint/cmd/internal/settings"
+	"fixpoint/costs"
+	"fixpoint/optimize"
+	"fixpoint/reports"
+)
+
+// classRun is a class config ready to solve: the discount after any
+// override, the criterion and the Problem.
+type classRun struct {
+	*modelfile.Class
+	Average bool
+	Problem *optimize.Problem
+}
+
+// prepare applies the discount override and the criterion (criterion ""
+// keeps the config's) to a class and builds its Problem. A discounted
+// solve without a discount is a fault of the file.
+func prepare(c *modelfile.Class, o settings.Override, criterion string) (*classRun, error) {
+	r := &classRun{Class: c, Average: c.Criterion == modelfile.Average}
+	switch criterion {
+	case "average":
+		r.Average = true
+	case "discounted":
+		r.Average = false
+	}
+	if o.Given() {
+		d, err := override(c.Period, o)
+		if err != nil {
+			return nil, err
+		}
+		h := c.Header
+		h.Discount = d
+		r.Class = &modelfile.Class{Header: h, Model: c.Model, Costs: c.Costs, CostScalar: c.CostScalar}
+	}
+	if !r.Average && r.Discount.IsZero() {
+		return nil, &modelfile.Fault{File: c.Path, Path: "discount",
+			Msg: "the discounted criterion needs a discount rate or factor (in the config, or --rate / --factor)"}
+	}
+	p, err := optimize.Build(c.Model, c.Costs, r.Discount.Factor())
+	if err != nil {
+		return nil, &modelfile.Fault{File: c.Path, Msg: err.Error()}
+	}
+	r.Problem = p
+	return r, nil
+}
+
+// override turns --rate or --factor into a discount for periods p.
+func override(p costs.Period, o settings.Override) (costs.Discount, error) {
+	if o.HasRate {
+		d, err := costs.Rate(o.Rate, p)
+		if err != nil {
+			return d, usagef("setting rate: %v", trimLib(err))
+		}
+		return d, nil
+	}
+	d, err := costs.Factor(o.Factor, p)
+	if err != nil {
+		return d, usagef("setting factor: %v", trimLib(err))
+	}
+	return d, nil
+}
+
+// trimLib drops the "costs: " prefix from a library message shown as a
+// setting's problem.
+func trimLib(err error) string {
+	s := err.Error()
+	if len(s) > 7 && s[:7] == "costs: " {
+		return s[7:]
+	}
+	return s
+}
+
+// classFile returns the class of a loaded file for a command that takes
+// class configs only.
+func (a *app) class(cmd *cobra.Command, path string) (*modelfile.Class, error) {
+	f, err := a.load(cmd, path, modelfile.ClassFile)
+	if err != nil {
+		return nil, err
+	}
+	return f.Class, nil
+}
+
+// maxLifeYears caps the survival curves of the life figures.
+const maxLifeYears = 100
+
+// life computes the life figures of the advice, with first passage to
+// target (default: the worst state) and survival curves until both the
+// advice's and the passive chain's fall below 0.1%, or maxLifeYears.
+func life(r *classRun, res *optimize.Result, targetName string) (*optimize.Life, error) {
+	m := r.Model
+	n := len(m.States)
+	target := optimize.WorstTarget(n)
+	if targetName != "" {
+		s := m.StateIndex(targetName)
+		if s < 0 {
+			return nil, usagef("setting target: unknown state %q%s", targetName, modelfile.DidYouMean(targetName, m.StateNames()))
+		}
+		target = make([]bool, n)
+		target[s] = true
+	}
+	limit := int(math.Ceil(maxLifeYears / m.PeriodYears))
+	horizon := m.PolicyChain(res.Policy).SurvivalHorizon(target, 1e-3, limit)
+	if m.Passive() >= 0 {
+		horizon = max(horizon, m.PassiveChain().SurvivalHorizon(target, 1e-3, limit))
+	}
+	return optimize.LifeFigures(m, r.Costs, res, r.Discount, target, max(horizon, 10))
+}
+
+// advise solves a class (discounted criterion) and wraps the result for
+// presentation.
+func (a *app) advise(cmd *cobra.Command, r *classRun, s optimize.Settings, target string) (*reports.Advice, error) {
+	res, err := optimize.Solve(cmd.Context(), r.Problem, &s)
+	if err != nil {
+		return nil, err
+	}
+	l, err := life(r, res, target)
+	if err != nil {
+		return nil, err
+	}
+	adv := &reports.Advice{
+		Model: r.Name, Currency: r.Currency, PeriodYears: r.Period.Years(),
+		Rate: r.Discount.RatePerYear(), HasRate: r.Discount.ByRate(), Unsafe: r.Unsafe(), Passive: r.Model.Passive(),
+		Problem: r.Problem, Result: res, Life: l,
+	}
+	a.safetyWarnings(r, res.Policy)
+	return adv, nil
+}
+
+// safetyWarnings warns when, under the advice, a unit that enters an
+// unsafe state is expected to stay in unsafe states for more than one
+// period, and says which advice takes units out of service.
+func (a *app) safetyWarnings(r *classRun, policy []int) {
+	m := r.Model
+	for s, t := range optimize.UnsafeStay(m, policy) {
+		act := m.Actions[policy[s]]
+		switch {
+		case !m.States[s].Unsafe:
+		case act.OutOfService:
+			a.warn(fmt.Sprintf("in unsafe state %s the advice is %s, which takes the unit out of service", m.States[s].Name, act.Name))
+		case t > 1+1e-9:
+			a.warn(fmt.Sprintf("under the advice a unit that becomes %s is expected to stay in unsafe states for %.2f periods (%.2f years), not one: check that the advised %s really makes it safe",
+				m.States[s].Name, t, t*m.PeriodYears, act.Name))
+		}
+	}
+}
+
+// uncertified returns the exit-3 error for a result whose gap is above
+// its tolerance, and nil for a certified one.
+func uncertified(r *optimize.Result) error {
+	if r.Status == optimize.Certified {
+		return nil
+	}
+	if r.Gap < 4*r.Rounding {
+		return &uncertifiedError{fmt.Sprintf(
+			"the answer is not certified: proven gap %.3g is above the tolerance %.3g, and %.3g of it is the allowance for floating-point rounding at these values and this discount factor; a tolerance below that cannot be proven in float64: loosen --tol",
+			r.Gap, r.Tol, r.Rounding)}
+	}
+	remedy := "raise --max-iterations, loosen --tol or use --method policy"
+	if r.Method == optimize.PolicyIteration {
+		remedy = "raise --max-iterations or loosen --tol"
+	}
+	return &uncertifiedError{fmt.Sprintf(
+		"the answer is not certified: proven gap %.3g is above the tolerance %.3g after %d iterations; %s",
+		r.Gap, r.Tol, r.Iterations, remedy)}
+}

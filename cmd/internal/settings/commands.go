@@ -1,0 +1,705 @@
+package settings
+
+import (
+	"fmt"
+	"math"
+	"path/filepath"
+	"slices"
+	"strings"
+	"time"
+
+	"github.com/spf13/pflag"
+
+	"fixpoint/optimize"
+)
+
+// Output is where and how a command writes its result.
+type Output struct {
+	// Format is table, json, csv, yaml or pdf.
+	Format string
+	// Path is the output file, or "" for standard output.
+	Path  string
+	Force bool
+}
+
+// AddOutput declares --format (one of formats, the first the default),
+// --output and --force.
+func AddOutput(f *pflag.FlagSet, formats ...string) {
+	f.String("format", formats[0], "output format: "+strings.Join(formats, ", ")+" (default: from the -o file's extension, else "+formats[0]+")")
+	f.StringP("output", "o", "", "write to this `file` instead of standard output")
+	f.Bool("force", false, "replace the output file if it exists")
+}
+
+// extensions maps output file extensions to formats.
+var extensions = map[string]string{".csv": "csv", ".json": "json", ".yaml": "yaml", ".yml": "yaml", ".pdf": "pdf", ".xlsx": "xlsx", ".txt": "table"}
+
+// Output reads --format, --output and --force. Without --format the format
+// follows the output file's extension; a --format that contradicts the
+// extension is an error.
+func (s *Source) Output(formats ...string) (Output, error) {
+	o := Output{Format: s.text("format"), Path: s.text("output")}
+	if o.Path == "-" {
+		o.Path = ""
+	}
+	var err error
+	if o.Force, err = s.boolean("force"); err != nil {
+		return o, err
+	}
+	ext := strings.ToLower(filepath.Ext(o.Path))
+	implied, known := extensions[ext]
+	switch {
+	case !slices.Contains(formats, o.Format):
+		return o, Errorf("unknown format %q; want one of %s", clip(o.Format), strings.Join(formats, ", "))
+	case o.Path == "" || !known || !slices.Contains(formats, implied):
+		// An extension this command does not write says nothing.
+	case !s.given("format"):
+		o.Format = implied
+	case implied != o.Format && implied != "table":
+		return o, Errorf("--format %s contradicts the output file %s (a %s file); drop --format or rename the file", o.Format, o.Path, implied)
+	}
+	return o, nil
+}
+
+// AddSolver declares --method, --tol and --max-iterations.
+func AddSolver(f *pflag.FlagSet) {
+	f.String("method", "auto", "solution method: auto, value, policy or lp")
+	f.String("tol", fmt.Sprint(optimize.DefaultTol), "target proven gap, absolute, in `currency` units")
+	f.String("max-iterations", "0", "cap on sweeps or steps; 0 = the method's default (`n`)")
+}
+
+// Solver reads --method, --tol and --max-iterations.
+func (s *Source) Solver() (optimize.Settings, error) {
+	m, err := optimize.ParseMethod(s.text("method"))
+	if err != nil {
+		return optimize.Settings{}, Errorf("%s: unknown method %q; want auto, value, policy or lp", where("method"), clip(s.text("method")))
+	}
+	tol, err := s.number("tol")
+	if err != nil {
+		return optimize.Settings{}, err
+	}
+	if !(tol > 0) {
+		return optimize.Settings{}, Errorf("%s: %g is not a tolerance > 0", where("tol"), tol)
+	}
+	maxIt, err := s.whole("max-iterations")
+	if err != nil {
+		return optimize.Settings{}, err
+	}
+	if maxIt < 0 {
+		return optimize.Settings{}, Errorf("%s: %d is negative", where("max-iterations"), maxIt)
+	}
+	return optimize.Settings{Method: m, Tol: tol, MaxIterations: maxIt}, nil
+}
+
+// Override is a discount given on the command line instead of the file's.
+type Override struct {
+	// Rate per year (HasRate) or Factor per period (HasFactor).
+	Rate, Factor       float64
+	HasRate, HasFactor bool
+}
+
+// AddOverride declares --rate and --factor.
+func AddOverride(f *pflag.FlagSet) {
+	f.String("rate", "", "annual discount `rate` overriding the config (4% or 0.04)")
+	f.String("factor", "", "discount `factor` per period overriding the config")
+}
+
+// Override reads --rate and --factor.
+func (s *Source) Override() (Override, error) {
+	var o Override
+	var err error
+	switch {
+	case s.text("rate") != "" && s.text("factor") != "":
+		return o, Errorf("give either --rate or --factor, not both")
+	case s.text("rate") != "":
+		o.Rate, err = s.rate("rate")
+		o.HasRate = true
+	case s.text("factor") != "":
+		o.Factor, err = s.number("factor")
+		o.HasFactor = true
+	}
+	return o, err
+}
+
+// Given reports whether the override replaces the file's discount.
+func (o Override) Given() bool { return o.HasRate || o.HasFactor }
+
+// Solve holds the settings of solve.
+type Solve struct {
+	Output    Output
+	Solver    optimize.Settings
+	Override  Override
+	Criterion string // "", discounted or average
+	Target    string
+	Workers   int
+	// MaxMemoryGiB refuses joint models needing more memory.
+	MaxMemoryGiB float64
+}
+
+// AddCriterion declares --criterion.
+func AddCriterion(f *pflag.FlagSet) {
+	f.String("criterion", "", "`discounted` or average (default: the config's criterion, else discounted)")
+}
+
+// AddTarget declares --target.
+func AddTarget(f *pflag.FlagSet) {
+	f.String("target", "", "`state` whose first passage the life figures measure (default: the worst state)")
+}
+
+// AddSystem declares --workers and --max-memory-gib.
+func AddSystem(f *pflag.FlagSet) {
+	f.String("workers", "0", "goroutines for a system's joint solve; 0 = all cores (`n`)")
+	f.String("max-memory-gib", "4", "refuse joint models needing more memory than this (`GiB`)")
+}
+
+// Criterion reads --criterion.
+func (s *Source) Criterion() (string, error) {
+	switch c := s.text("criterion"); c {
+	case "", "discounted", "average":
+		return c, nil
+	default:
+		return "", Errorf("%s: unknown criterion %q; want discounted or average", where("criterion"), clip(c))
+	}
+}
+
+// Solve reads the settings of solve.
+func (s *Source) Solve() (st Solve, err error) {
+	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
+		return
+	}
+	if st.Solver, err = s.Solver(); err != nil {
+		return
+	}
+	if st.Override, err = s.Override(); err != nil {
+		return
+	}
+	if st.Criterion, err = s.Criterion(); err != nil {
+		return
+	}
+	st.Target = s.text("target")
+	if st.Workers, err = s.Workers(); err != nil {
+		return
+	}
+	if st.MaxMemoryGiB, err = s.number("max-memory-gib"); err != nil {
+		return
+	}
+	if !(st.MaxMemoryGiB > 0) || st.MaxMemoryGiB > 1<<20 {
+		err = Errorf("%s: %g is not a memory limit in (0, 1048576] GiB", where("max-memory-gib"), st.MaxMemoryGiB)
+	}
+	return
+}
+
+// Workers reads --workers (0 = all cores).
+func (s *Source) Workers() (int, error) {
+	w, err := s.whole("workers")
+	if err == nil && (w < 0 || w > 1024) {
+		err = Errorf("%s: %d is not a number of goroutines in [0, 1024]", where("workers"), w)
+	}
+	return w, err
+}
+
+// Compare holds the settings of compare.
+type Compare struct {
+	Output   Output
+	Solver   optimize.Settings
+	Rates    Rates
+	Override Override
+}
+
+// Rates is the list of rates to compare (empty: the config's), with the
+// inflation that makes them nominal.
+type Rates struct {
+	List         []float64
+	Inflation    float64
+	HasInflation bool
+}
+
+// AddRates declares --rates and --inflation.
+func AddRates(f *pflag.FlagSet, usage string) {
+	f.String("rates", "", usage)
+	f.String("inflation", "", "annual inflation `rate`: --rates are then nominal")
+}
+
+// MaxRates bounds the rates of a comparison.
+const MaxRates = 200
+
+// Rates reads --rates (a list or lo:hi[:step]) and --inflation.
+func (s *Source) Rates() (Rates, error) {
+	var r Rates
+	if text := s.text("rates"); text != "" {
+		list, err := ParseRates(text)
+		if err != nil {
+			return r, Errorf("%s: %v", where("rates"), err)
+		}
+		r.List = list
+	}
+	if s.text("inflation") != "" {
+		x, err := s.rate("inflation")
+		if err != nil {
+			return r, err
+		}
+		if !(x > -1) {
+			return r, Errorf("%s: %g is not a rate above -1", where("inflation"), x)
+		}
+		r.Inflation, r.HasInflation = x, true
+	}
+	return r, nil
+}
+
+// ParseRates reads a list of rates ("2%,3.5%,0.05") or a range
+// "lo:hi[:step]" (default step 1 point, or a quarter of a narrow range).
+func ParseRates(text string) ([]float64, error) {
+	if strings.Contains(text, ":") {
+		parts := strings.Split(text, ":")
+		if len(parts) > 3 {
+			return nil, fmt.Errorf("%q is not lo:hi or lo:hi:step", clip(text))
+		}
+		var v [3]float64
+		for i, p := range parts {
+			x, err := ParseRate(p)
+			if err != nil {
+				return nil, err
+			}
+			v[i] = x
+		}
+		lo, hi, step := v[0], v[1], v[2]
+		if !(hi > lo) {
+			return nil, fmt.Errorf("range %s needs lo < hi", clip(text))
+		}
+		if len(parts) < 3 {
+			step = 0.01
+			if hi-lo < 0.04 {
+				step = (hi - lo) / 4
+			}
+		}
+		if !(step > 0) || (hi-lo)/step > MaxRates {
+			return nil, fmt.Errorf("step %g gives more than %d rates", step, MaxRates)
+		}
+		var rates []float64
+		for k := 0; ; k++ {
+			r := lo + float64(k)*step
+			if r > hi+step*1e-9 {
+				break
+			}
+			rates = append(rates, math.Round(r*1e12)/1e12)
+		}
+		if last := rates[len(rates)-1]; last < hi-step*1e-9 {
+			rates = append(rates, hi)
+		}
+		return rates, nil
+	}
+	var rates []float64
+	for _, p := range strings.Split(text, ",") {
+		x, err := ParseRate(p)
+		if err != nil {
+			return nil, err
+		}
+		rates = append(rates, x)
+	}
+	if len(rates) > MaxRates {
+		return nil, fmt.Errorf("%d rates, over the limit of %d", len(rates), MaxRates)
+	}
+	return rates, nil
+}
+
+// Compare reads the settings of compare.
+func (s *Source) Compare() (st Compare, err error) {
+	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
+		return
+	}
+	if st.Solver, err = s.Solver(); err != nil {
+		return
+	}
+	st.Rates, err = s.Rates()
+	return
+}
+
+// Sensitivity holds the settings of sensitivity.
+type Sensitivity struct {
+	Output   Output
+	Solver   optimize.Settings
+	Override Override
+}
+
+// Sensitivity reads the settings of sensitivity.
+func (s *Source) Sensitivity() (st Sensitivity, err error) {
+	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
+		return
+	}
+	if st.Solver, err = s.Solver(); err != nil {
+		return
+	}
+	st.Override, err = s.Override()
+	return
+}
+
+// Start is the starting population of a forecast: Mix (state=count,...)
+// or From (every unit in one state) with Units.
+type Start struct {
+	Mix, From string
+	Units     float64
+}
+
+// AddStart declares --mix, --from and --units (default units).
+func AddStart(f *pflag.FlagSet, units string) {
+	f.String("mix", "", "starting units per condition, e.g. `good=30,fair=50,worn=20` (counts or shares)")
+	f.String("from", "", "start every unit in this `state` (with --units)")
+	f.String("units", units, "number of units for --from (`n`)")
+}
+
+// Start reads --mix, --from and --units.
+func (s *Source) Start() (Start, error) {
+	st := Start{Mix: s.text("mix"), From: s.text("from")}
+	if st.Mix != "" && st.From != "" {
+		return st, Errorf("give either --mix or --from, not both")
+	}
+	var err error
+	if st.Units, err = s.number("units"); err != nil {
+		return st, err
+	}
+	if !(st.Units > 0) || st.Units > 1e12 {
+		return st, Errorf("%s: %g is not a number of units in (0, 1e12]", where("units"), st.Units)
+	}
+	return st, nil
+}
+
+// AddYears declares --years with its default ("" = the command's).
+func AddYears(f *pflag.FlagSet, usage string) { f.String("years", "", usage) }
+
+// MaxYears bounds a forecast horizon.
+const MaxYears = 500
+
+// Years reads --years; 0 when it is not given.
+func (s *Source) Years() (float64, error) {
+	if s.text("years") == "" {
+		return 0, nil
+	}
+	y, err := s.number("years")
+	if err == nil && (!(y > 0) || y > MaxYears) {
+		err = Errorf("%s: %g is not a horizon in (0, %d] years", where("years"), y, MaxYears)
+	}
+	return y, err
+}
+
+// Fleet holds the settings of a fleet plan: the budget per year and the
+// horizon overriding the fleet file's (0: the file's), and the gap target.
+type Fleet struct {
+	Budget    float64
+	HasBudget bool
+	Years     float64
+	Gap       float64
+}
+
+// AddFleet declares --budget and --gap (and --years when withYears).
+func AddFleet(f *pflag.FlagSet) {
+	f.String("budget", "", "budget per year overriding the fleet file (`amount`)")
+	f.String("gap", "0.0001", "target relative gap between the bounds (`g`)")
+}
+
+// Fleet reads --budget, --years and --gap.
+func (s *Source) Fleet() (Fleet, error) {
+	var st Fleet
+	var err error
+	if s.text("budget") != "" {
+		if st.Budget, err = s.number("budget"); err != nil {
+			return st, err
+		}
+		if !(st.Budget >= 0) || st.Budget > 1e15 {
+			return st, Errorf("%s: %g is not a budget in [0, 1e15]", where("budget"), st.Budget)
+		}
+		st.HasBudget = true
+	}
+	if st.Years, err = s.Years(); err != nil {
+		return st, err
+	}
+	if st.Gap, err = s.number("gap"); err != nil {
+		return st, err
+	}
+	if !(st.Gap > 0 && st.Gap < 1) {
+		return st, Errorf("%s: %g is not in (0, 1)", where("gap"), st.Gap)
+	}
+	return st, nil
+}
+
+// Forecast holds the settings of forecast.
+type Forecast struct {
+	Output   Output
+	Solver   optimize.Settings
+	Override Override
+	Start    Start
+	// Years is the horizon (0: the default).
+	Years float64
+	// Simulate is the number of Monte-Carlo runs of a fleet (0: none).
+	Simulate int
+	Seed     uint64
+	// Follow is plan or advice.
+	Follow   string
+	Fleet    Fleet
+	Progress string
+}
+
+// AddSimulation declares --simulate, --seed, --follow and --progress.
+func AddSimulation(f *pflag.FlagSet) {
+	f.String("simulate", "0", "fleet files: Monte-Carlo `runs` of the plan (or of the advice with --follow advice)")
+	f.String("seed", "1", "seed of the random numbers (`n`)")
+	f.String("follow", "plan", "fleet files: simulate the budget plan or the unconstrained advice")
+	f.String("progress", "auto", "progress bar on stderr: auto (a terminal and over a second), always or never")
+}
+
+// Forecast reads the settings of forecast.
+func (s *Source) Forecast() (st Forecast, err error) {
+	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
+		return
+	}
+	if st.Solver, err = s.Solver(); err != nil {
+		return
+	}
+	if st.Override, err = s.Override(); err != nil {
+		return
+	}
+	if st.Start, err = s.Start(); err != nil {
+		return
+	}
+	if st.Years, err = s.Years(); err != nil {
+		return
+	}
+	if st.Simulate, err = s.whole("simulate"); err != nil {
+		return
+	}
+	if st.Simulate != 0 && (st.Simulate < 2 || st.Simulate > 1_000_000) {
+		err = Errorf("%s: %d is not a number of runs in [2, 1000000]", where("simulate"), st.Simulate)
+		return
+	}
+	if st.Seed, err = s.Seed(); err != nil {
+		return
+	}
+	st.Follow = s.text("follow")
+	if st.Follow != "plan" && st.Follow != "advice" {
+		err = Errorf("%s: %q; want plan or advice", where("follow"), clip(st.Follow))
+		return
+	}
+	st.Progress = s.text("progress")
+	if !slices.Contains([]string{"auto", "always", "never"}, st.Progress) {
+		err = Errorf("%s: %q; want auto, always or never", where("progress"), clip(st.Progress))
+		return
+	}
+	st.Fleet, err = s.Fleet()
+	return
+}
+
+// Seed reads --seed.
+func (s *Source) Seed() (uint64, error) {
+	seed, err := s.whole("seed")
+	if err == nil && seed < 0 {
+		err = Errorf("%s: %d is negative", where("seed"), seed)
+	}
+	return uint64(seed), err
+}
+
+// Plan holds the settings of plan.
+type Plan struct {
+	Output Output
+	Fleet  Fleet
+}
+
+// Plan reads the settings of plan.
+func (s *Source) Plan() (st Plan, err error) {
+	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
+		return
+	}
+	st.Fleet, err = s.Fleet()
+	return
+}
+
+// Brief holds the settings of brief.
+type Brief struct {
+	Output   Output
+	Solver   optimize.Settings
+	Override Override
+	Target   string
+	Start    Start
+	// Start given by --mix or --from; else Start.Units in the best state.
+	HasStart bool
+	Years    float64
+	Rates    Rates
+	Fleet    Fleet
+	Date     time.Time
+}
+
+// AddDate declares --date.
+func AddDate(f *pflag.FlagSet) {
+	f.String("date", "", "date printed on the brief, `YYYY-MM-DD` (default: SOURCE_DATE_EPOCH or today)")
+}
+
+// Brief reads the settings of brief; today is the date used when neither
+// --date nor SOURCE_DATE_EPOCH gives one.
+func (s *Source) Brief(today time.Time, sourceDateEpoch string) (st Brief, err error) {
+	if st.Output, err = s.Output("pdf"); err != nil {
+		return
+	}
+	if st.Output.Path == "" {
+		err = Errorf("give the PDF file to write with -o FILE")
+		return
+	}
+	if st.Solver, err = s.Solver(); err != nil {
+		return
+	}
+	if st.Override, err = s.Override(); err != nil {
+		return
+	}
+	st.Target = s.text("target")
+	if st.Start, err = s.Start(); err != nil {
+		return
+	}
+	st.HasStart = st.Start.Mix != "" || st.Start.From != ""
+	if st.Years, err = s.Years(); err != nil {
+		return
+	}
+	if st.Rates, err = s.Rates(); err != nil {
+		return
+	}
+	if st.Fleet, err = s.Fleet(); err != nil {
+		return
+	}
+	st.Date, err = s.date(today, sourceDateEpoch)
+	return
+}
+
+func (s *Source) date(today time.Time, epoch string) (time.Time, error) {
+	if v := s.text("date"); v != "" {
+		t, err := time.Parse("2006-01-02", v)
+		if err != nil {
+			return time.Time{}, Errorf("%s: %q is not a date YYYY-MM-DD", where("date"), clip(v))
+		}
+		return t, nil
+	}
+	if epoch != "" {
+		var sec int64
+		if _, err := fmt.Sscan(epoch, &sec); err != nil {
+			return time.Time{}, Errorf("SOURCE_DATE_EPOCH: %q is not a number of seconds", clip(epoch))
+		}
+		return time.Unix(sec, 0).UTC(), nil
+	}
+	y, m, d := today.UTC().Date()
+	return time.Date(y, m, d, 0, 0, 0, 0, time.UTC), nil
+}
+
+// Fit holds the settings of fit.
+type Fit struct {
+	Output Output
+	// Config is a class config giving the scale; else States, PeriodYears
+	// and Passive.
+	Config      string
+	States      []string
+	PeriodYears float64
+	Passive     string
+	// Estimator is auto, counting or generator.
+	Estimator          string
+	DeteriorationOnly  bool
+	OneStep            bool
+	ImprovementIsError bool
+	Bootstrap          int
+	Seed               uint64
+	Level              float64
+	Workers            int
+	Merge              bool
+	MergeMin           int
+}
+
+// AddFit declares the flags of fit.
+func AddFit(f *pflag.FlagSet, mergeMin string) {
+	f.String("config", "", "class config `file` giving the scale, the period and the actions")
+	f.String("states", "", "condition `names`, best first, when there is no --config")
+	f.String("period-years", "", "period length in `years`, when there is no --config")
+	f.String("passive", "leave", "`name` of the no-work action, when there is no --config")
+	f.String("estimator", "auto", "auto, counting or generator")
+	f.Bool("deterioration-only", false, "generator: no improvement without recorded work")
+	f.Bool("one-step", false, "generator: deterioration one state at a time")
+	f.Bool("improvement-as-error", false, "treat an improvement with no recorded work as a misreading (the unit stayed as it was)")
+	f.String("bootstrap", "200", "bootstrap replicates over units for the intervals (`n`, 0 for none)")
+	f.String("seed", "1", "seed of the random numbers (`n`)")
+	f.String("level", "0.9", "coverage of the intervals (`p`)")
+	f.String("workers", "0", "goroutines for the bootstrap; 0 = all cores (`n`)")
+	f.Bool("merge", false, "write the estimated rows into a copy of --config at -o FILE")
+	f.String("merge-min", mergeMin, "merge only rows resting on at least `n` transitions")
+}
+
+// Fit reads the settings of fit.
+func (s *Source) Fit() (st Fit, err error) {
+	if st.Output, err = s.Output("table", "json", "yaml"); err != nil {
+		return
+	}
+	st.Config = s.text("config")
+	if text := s.text("states"); text != "" {
+		for _, name := range strings.Split(text, ",") {
+			name = strings.TrimSpace(name)
+			if name == "" || slices.Contains(st.States, name) {
+				err = Errorf("%s: empty or repeated name in %q", where("states"), clip(text))
+				return
+			}
+			st.States = append(st.States, name)
+		}
+	}
+	switch {
+	case st.Config != "" && (st.States != nil || s.text("period-years") != ""):
+		err = Errorf("give either --config or --states/--period-years, not both")
+		return
+	case st.Config == "" && st.States == nil:
+		err = Errorf("give the scale with --config FILE or --states a,b,c --period-years N")
+		return
+	case st.Config == "" && s.text("period-years") == "":
+		err = Errorf("give --period-years with --states")
+		return
+	case st.Config == "":
+		if st.PeriodYears, err = s.number("period-years"); err != nil {
+			return
+		}
+		if !(st.PeriodYears > 0) || st.PeriodYears > 100 {
+			err = Errorf("%s: %g is not a period in (0, 100] years", where("period-years"), st.PeriodYears)
+			return
+		}
+	}
+	st.Passive = s.text("passive")
+	st.Estimator = s.text("estimator")
+	if !slices.Contains([]string{"auto", "counting", "generator"}, st.Estimator) {
+		err = Errorf("%s: unknown estimator %q; want auto, counting or generator", where("estimator"), clip(st.Estimator))
+		return
+	}
+	for _, b := range []struct {
+		key string
+		dst *bool
+	}{{"deterioration-only", &st.DeteriorationOnly}, {"one-step", &st.OneStep}, {"improvement-as-error", &st.ImprovementIsError}, {"merge", &st.Merge}} {
+		if *b.dst, err = s.boolean(b.key); err != nil {
+			return
+		}
+	}
+	if st.Bootstrap, err = s.whole("bootstrap"); err != nil {
+		return
+	}
+	if st.Bootstrap < 0 || st.Bootstrap > 100000 {
+		err = Errorf("%s: %d is not a number of replicates in [0, 100000]", where("bootstrap"), st.Bootstrap)
+		return
+	}
+	if st.Seed, err = s.Seed(); err != nil {
+		return
+	}
+	if st.Level, err = s.number("level"); err != nil {
+		return
+	}
+	if !(st.Level > 0 && st.Level < 1) {
+		err = Errorf("%s: %g is not in (0, 1)", where("level"), st.Level)
+		return
+	}
+	if st.Workers, err = s.Workers(); err != nil {
+		return
+	}
+	if st.MergeMin, err = s.whole("merge-min"); err != nil {
+		return
+	}
+	if st.Merge && (st.Config == "" || st.Output.Path == "") {
+		err = Errorf("--merge needs --config FILE and -o NEWFILE")
+	}
+	return
+}
+
+// Renormalize reads the persistent --renormalize.
+func (s *Source) Renormalize() (bool, error) { return s.boolean("renormalize") }

@@ -1,0 +1,202 @@
+// Package settings reads fixpoint's run-time settings: a typed struct per
+// command, read once with the precedence flags > FIXPOINT_* environment
+// variables > settings file > defaults. Every key means one thing in every
+// command that has it; a settings file may hold the keys of any command.
+//
+// Model files (class, system, fleet) are not settings: package modelfile
+// reads them.
+package settings
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/pflag"
+	"github.com/spf13/viper"
+
+	"fixpoint/cmd/internal/modelfile"
+)
+
+// Error is a mistake in the command line or the run-time settings (exit
+// code 2).
+type Error struct{ Msg string }
+
+func (e *Error) Error() string { return e.Msg }
+
+// Errorf returns a usage *Error.
+func Errorf(format string, args ...any) error { return &Error{fmt.Sprintf(format, args...)} }
+
+// Source is where one run's settings come from.
+type Source struct {
+	v     *viper.Viper
+	flags *pflag.FlagSet
+	// File is the settings file read, or "".
+	File string
+}
+
+// Open prepares the settings of a command whose flags are flags: the
+// settings file named by --settings or FIXPOINT_SETTINGS (YAML, TOML or
+// JSON; no extension means YAML), FIXPOINT_* variables and the flags.
+// known lists every key a settings file may hold (the flags of every
+// command).
+func Open(flags *pflag.FlagSet, known []string) (*Source, error) {
+	v := viper.New()
+	v.SetEnvPrefix("FIXPOINT")
+	v.SetEnvKeyReplacer(strings.NewReplacer("-", "_"))
+	v.AutomaticEnv()
+	s := &Source{v: v, flags: flags}
+	path, _ := flags.GetString("settings")
+	if !flags.Changed("settings") {
+		path = os.Getenv("FIXPOINT_SETTINGS")
+	}
+	if path != "" {
+		if err := s.readFile(path, known); err != nil {
+			return nil, err
+		}
+	}
+	var bindErr error
+	flags.VisitAll(func(f *pflag.Flag) {
+		if f.Name == "settings" || f.Name == "help" {
+			return
+		}
+		v.SetDefault(f.Name, f.DefValue)
+		if err := v.BindPFlag(f.Name, f); err != nil && bindErr == nil {
+			bindErr = err
+		}
+	})
+	return s, bindErr
+}
+
+// readFile reads the settings file and refuses unknown keys.
+func (s *Source) readFile(path string, known []string) error {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return &Error{fmt.Sprintf("%s: settings file: %s", path, modelfile.OpenProblem(err))}
+	}
+	if bytes.IndexByte(data, 0) >= 0 {
+		return &Error{fmt.Sprintf("%s: settings file: not a text file", path)}
+	}
+	typ := strings.TrimPrefix(strings.ToLower(filepath.Ext(path)), ".")
+	switch typ {
+	case "yaml", "yml", "toml", "json":
+	case "":
+		typ = "yaml"
+	default:
+		return &Error{fmt.Sprintf("%s: settings file: unknown type %q; name it .yaml, .toml or .json", path, typ)}
+	}
+	s.v.SetConfigType(typ)
+	if err := s.v.ReadConfig(bytes.NewReader(data)); err != nil {
+		return &Error{fmt.Sprintf("%s: settings file: cannot read it as %s: %v", path, strings.ToUpper(typ), err)}
+	}
+	keys := s.v.AllKeys()
+	slices.Sort(keys)
+	for _, key := range keys {
+		if !slices.Contains(known, key) {
+			return &Error{fmt.Sprintf("%s: %s: unknown setting%s", path, key, modelfile.DidYouMean(key, known))}
+		}
+	}
+	s.File = path
+	return nil
+}
+
+// text returns the setting of key as given.
+func (s *Source) text(key string) string { return strings.TrimSpace(s.v.GetString(key)) }
+
+// Changed reports whether the flag of key was given on the command line.
+func (s *Source) Changed(key string) bool {
+	f := s.flags.Lookup(key)
+	return f != nil && f.Changed
+}
+
+// given reports whether key has a value that is not its default.
+func (s *Source) given(key string) bool {
+	f := s.flags.Lookup(key)
+	return f != nil && s.text(key) != f.DefValue
+}
+
+// where names the places a setting comes from, for messages.
+func where(key string) string {
+	return fmt.Sprintf("setting %s (flag --%s or FIXPOINT_%s)", key, key, strings.ToUpper(strings.ReplaceAll(key, "-", "_")))
+}
+
+func (s *Source) number(key string) (float64, error) {
+	x, err := modelfile.ParseNumber(s.text(key))
+	if err != nil {
+		return 0, Errorf("%s: %v", where(key), err)
+	}
+	return x, nil
+}
+
+func (s *Source) whole(key string) (int, error) {
+	v := s.text(key)
+	i, err := strconv.Atoi(v)
+	if err != nil {
+		return 0, Errorf("%s: %q is not a whole number", where(key), clip(v))
+	}
+	return i, nil
+}
+
+func (s *Source) boolean(key string) (bool, error) {
+	v := s.text(key)
+	b, err := strconv.ParseBool(v)
+	if err != nil {
+		return false, Errorf("%s: %q is not true or false", where(key), clip(v))
+	}
+	return b, nil
+}
+
+// ParseRate reads an annual rate written as a fraction (0.035) or a
+// percentage (3.5%). A plain number above 1 is refused: it is almost always
+// a percentage typed without its sign.
+func ParseRate(s string) (float64, error) {
+	x, err := modelfile.ParseNumber(s)
+	if err != nil {
+		return 0, err
+	}
+	if x > 1 && !strings.HasSuffix(strings.TrimSpace(s), "%") {
+		return 0, fmt.Errorf("rate %s per year is over 100%%; write %s%% for %s percent", clip(s), clip(s), clip(s))
+	}
+	return x, nil
+}
+
+func (s *Source) rate(key string) (float64, error) {
+	x, err := ParseRate(s.text(key))
+	if err != nil {
+		return 0, Errorf("%s: %v", where(key), err)
+	}
+	return x, nil
+}
+
+func clip(s string) string {
+	if len(s) > 40 {
+		return s[:37] + "..."
+	}
+	return s
+}
+
+// NotFor refuses flags given on the command line that do not apply to the
+// file given: "--method does not apply to a system file (...)".
+func (s *Source) NotFor(what, why string, keys ...string) error {
+	var bad []string
+	for _, k := range keys {
+		if s.Changed(k) {
+			bad = append(bad, "--"+k)
+		}
+	}
+	if len(bad) == 0 {
+		return nil
+	}
+	verb := "does"
+	if len(bad) > 1 {
+		verb = "do"
+	}
+	return Errorf("%s %s not apply to %s%s", strings.Join(bad, ", "), verb, what, why)
+}
+
+var errBoth = errors.New("both")
