@@ -14,16 +14,7 @@ import (
 // Advice is the certified policy of one class of equipment with what is
 // needed to present it.
 type Advice struct {
-	Model    string
-	Currency string
-	// PeriodYears is the length of one model period.
-	PeriodYears float64
-	// Rate is the annual discount rate; HasRate is false when the config
-	// gave a discount factor instead.
-	Rate    float64
-	HasRate bool
-	// Unsafe[s] marks the states where the passive action is not allowed.
-	Unsafe []bool
+	Header
 	// Passive is the index of the passive action, or -1.
 	Passive int
 	Problem *optimize.Problem
@@ -37,8 +28,6 @@ var methodTitles = map[optimize.Method]string{
 	optimize.PolicyIteration: "policy iteration",
 	optimize.LinearProgram:   "linear programming (simplex)",
 }
-
-func (a *Advice) stateLabel(s int) string { return stateLabel(a.Problem.States, a.Unsafe, s) }
 
 // Thresholds returns the advice as one threshold sentence when the advised
 // action index does not decrease along the scale ("Leave while good or
@@ -91,15 +80,6 @@ func capitalize(s string) string {
 		return s
 	}
 	return strings.ToUpper(s[:1]) + s[1:]
-}
-
-// discountLine describes the discounting in words.
-func (a *Advice) discountLine() string {
-	s := fmt.Sprintf("Discount factor %s per period of %s", Fixed(a.Problem.Discount, 6), Years(a.PeriodYears))
-	if a.HasRate {
-		s += fmt.Sprintf(" (rate %s per year)", Percent(a.Rate, 2))
-	}
-	return s + "; costs are charged at the start of each period."
 }
 
 func (a *Advice) solverLine() string {
@@ -230,14 +210,13 @@ type adviceJSON struct {
 func (a *Advice) json() adviceJSON {
 	r, p := a.Result, a.Problem
 	out := adviceJSON{
-		Model: a.Model, Currency: a.Currency, PeriodYears: a.PeriodYears,
+		Model: a.Model, Currency: a.Currency, PeriodYears: a.periodYears(),
 		DiscountFactor: p.Discount, Method: r.Method.String(), Iterations: r.Iterations,
 		Certificate: adviceCertificate{MaxGap: r.Gap, BellmanResidual: r.Residual, Status: r.Status.String(),
 			Tolerance: r.Tol, TieTolerance: r.TieTol},
 		Thresholds: a.Thresholds(), Life: a.lifeJSON(), Caution: Caution,
 	}
-	if a.HasRate {
-		rate := a.Rate
+	if rate, ok := a.rate(); ok {
 		out.DiscountRate = &rate
 	}
 	tied := make(map[int][]string)

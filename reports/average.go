@@ -12,10 +12,7 @@ import (
 // AverageAdvice is the answer of the long-run average-cost criterion for
 // one class, ready to present.
 type AverageAdvice struct {
-	Model       string
-	Currency    string
-	PeriodYears float64
-	Unsafe      []bool
+	Header
 	Problem     *optimize.Problem
 	Result      *optimize.AverageResult
 }
@@ -24,8 +21,6 @@ type AverageAdvice struct {
 func (a *AverageAdvice) Thresholds() string {
 	return thresholds(a.Problem.States, a.Problem.Actions, a.Result.Policy)
 }
-
-func (a *AverageAdvice) perYear(x float64) float64 { return x / a.PeriodYears }
 
 // WriteTable writes the advice per condition with the bias (relative
 // value), the gain and its proven bounds, and the caution.
@@ -38,7 +33,7 @@ func (a *AverageAdvice) WriteTable(w io.Writer) error {
 		if r.RunnerUp[s] >= 0 {
 			runner, margin = p.Actions[r.RunnerUp[s]], Money(r.Margin[s], 2)
 		}
-		rows[s] = []string{stateLabel(p.States, a.Unsafe, s), p.Actions[r.Policy[s]], Money(r.Bias[s], 2), runner, margin}
+		rows[s] = []string{a.stateLabel(s), p.Actions[r.Policy[s]], Money(r.Bias[s], 2), runner, margin}
 	}
 	if err := table(w, []string{"condition", "advice", "relative value (" + a.Currency + ")", "runner-up", "margin"},
 		[]bool{false, false, true, false, true}, rows); err != nil {
@@ -47,7 +42,7 @@ func (a *AverageAdvice) WriteTable(w io.Writer) error {
 	lines := []string{
 		"Thresholds: " + a.Thresholds(),
 		fmt.Sprintf("Long-run average cost: %s %s per year (%s per period of %s), proven within [%s, %s] per year: %s.",
-			Money(a.perYear(r.Gain), 2), a.Currency, Money(r.Gain, 2), Years(a.PeriodYears),
+			Money(a.perYear(r.Gain), 2), a.Currency, Money(r.Gain, 2), a.Period.String(),
 			Money(a.perYear(r.GainLower), 2), Money(a.perYear(r.GainUpper), 2), r.Status),
 		fmt.Sprintf("Relative value: the extra total cost of starting in that condition rather than in %s (0 there).", p.States[r.Ref]),
 		fmt.Sprintf("Solver: %s, %d iterations; gain bounds min/max (Th - h) (Odoni 1969).", methodTitles[r.Method], r.Iterations),
@@ -90,7 +85,7 @@ type averageJSON struct {
 // bounds are per period (gain_lower, gain_upper) and per year.
 func (a *AverageAdvice) WriteJSON(w io.Writer) error {
 	r, p := a.Result, a.Problem
-	out := averageJSON{Criterion: "average", Model: a.Model, Currency: a.Currency, PeriodYears: a.PeriodYears,
+	out := averageJSON{Criterion: "average", Model: a.Model, Currency: a.Currency, PeriodYears: a.periodYears(),
 		Method: r.Method.String(), Iterations: r.Iterations,
 		GainPerPeriod: r.Gain, GainPerYear: a.perYear(r.Gain), GainLower: r.GainLower, GainUpper: r.GainUpper,
 		GainLowerPerYear: a.perYear(r.GainLower), GainUpperPerYear: a.perYear(r.GainUpper),

@@ -71,12 +71,12 @@ func (b *Brief) pageAdvice(d *doc) {
 	p.Ln(2)
 	d.heading("Key assumptions", 30)
 	rate := "given as a discount factor"
-	if a.HasRate {
-		rate = Percent(a.Rate, 2) + " per year (real)"
+	if r, ok := a.rate(); ok {
+		rate = Percent(r, 2) + " per year (real)"
 	}
 	for _, line := range []string{
 		"Discount rate: " + rate + "; discount factor " + Fixed(a.Problem.Discount, 6) + " per period.",
-		"Period: " + Years(a.PeriodYears) + "; costs in " + cur + " at constant prices, charged at the start of each period.",
+		"Period: " + Years(a.periodYears()) + "; costs in " + cur + " at constant prices, charged at the start of each period.",
 		"Condition scale, best first: " + strings.Join(a.Problem.States, ", ") + ".",
 		"Objective: least expected discounted cost over an unlimited horizon; safety-critical states are never left as they are.",
 	} {
@@ -112,10 +112,10 @@ func (b *Brief) recommendation() string {
 		case math.IsInf(adv, 1):
 			fmt.Fprintf(&s, " A unit starting %s is not expected to reach %s under the advice", a.Problem.States[0], target)
 		case !math.IsNaN(adv):
-			fmt.Fprintf(&s, " A unit starting %s is expected to first reach %s after %s under the advice", a.Problem.States[0], target, yearsText(adv*a.PeriodYears))
+			fmt.Fprintf(&s, " A unit starting %s is expected to first reach %s after %s under the advice", a.Problem.States[0], target, yearsText(adv*a.periodYears()))
 		}
 		if l.Passive != nil && !math.IsNaN(l.Passive.Periods[0]) && !math.IsInf(l.Passive.Periods[0], 0) {
-			fmt.Fprintf(&s, ", against %s if left alone", yearsText(l.Passive.Periods[0]*a.PeriodYears))
+			fmt.Fprintf(&s, ", against %s if left alone", yearsText(l.Passive.Periods[0]*a.periodYears()))
 		}
 		if !math.IsNaN(adv) {
 			s.WriteString(".")
@@ -183,7 +183,7 @@ func (b *Brief) pageCharts(d *doc) {
 	if l := a.Life; l != nil {
 		xs := make([]float64, l.Horizon+1)
 		for k := range xs {
-			xs[k] = float64(k) * a.PeriodYears
+			xs[k] = float64(k) * a.periodYears()
 		}
 		curves := []series{{name: "under the advice", color: ink, values: l.PolicySurvival[0]}}
 		if l.Passive != nil && !math.IsNaN(l.Passive.Periods[0]) {

@@ -14,11 +14,8 @@ import (
 // present. Rates in Compare are real; with HasInflation the user gave
 // nominal rates, converted by the Fisher relation.
 type Comparison struct {
-	Model       string
-	Currency    string
-	PeriodYears float64
-	States      []string
-	Actions     []string
+	Header
+	Actions []string
 	// Inflation is the annual inflation rate when HasInflation.
 	Inflation    float64
 	HasInflation bool
@@ -54,9 +51,8 @@ func (c *Comparison) averageLine() string {
 		return "Long-run average (undiscounted): " + strings.TrimPrefix(cmp.AverageErr.Error(), "optimize: ") + "."
 	}
 	a := cmp.Average
-	per := 1 / c.PeriodYears
 	return fmt.Sprintf("Long-run average cost (undiscounted, rate 0): %s %s per year, proven within [%s, %s] (%s).",
-		Money(a.Gain*per, 2), c.Currency, Money(a.GainLower*per, 2), Money(a.GainUpper*per, 2), a.Status)
+		Money(c.perYear(a.Gain), 2), c.Currency, Money(c.perYear(a.GainLower), 2), Money(c.perYear(a.GainUpper), 2), a.Status)
 }
 
 // WriteTable writes the advice per rate, the present values per rate, the
@@ -182,7 +178,7 @@ type compareJSON struct {
 
 func (c *Comparison) json() compareJSON {
 	cmp := c.Compare
-	out := compareJSON{Model: c.Model, Currency: c.Currency, PeriodYears: c.PeriodYears, RatesAre: "real",
+	out := compareJSON{Model: c.Model, Currency: c.Currency, PeriodYears: c.periodYears(), RatesAre: "real",
 		Rates: []compareRate{}, Switches: []compareSwitch{}, Caution: Caution}
 	nominal := func(real float64) *float64 {
 		if !c.HasInflation {
@@ -215,8 +211,7 @@ func (c *Comparison) json() compareJSON {
 			State: c.States[sw.State], From: c.Actions[sw.Above], To: c.Actions[sw.Below], Text: c.SwitchSentences()[i]})
 	}
 	if a := cmp.Average; a != nil {
-		per := 1 / c.PeriodYears
-		out.Average = &compareAverage{GainPerYear: a.Gain * per, Lower: a.GainLower * per, Upper: a.GainUpper * per,
+		out.Average = &compareAverage{GainPerYear: c.perYear(a.Gain), Lower: c.perYear(a.GainLower), Upper: c.perYear(a.GainUpper),
 			GainPerPeriod: a.Gain, Status: a.Status.String()}
 	} else {
 		out.AverageNote = cmp.AverageErr.Error()

@@ -11,18 +11,16 @@ import (
 // Forecast is the expected evolution of a population of one class under
 // the advice, ready to present.
 type Forecast struct {
-	Model       string
-	Currency    string
-	PeriodYears float64
-	States      []string
-	Actions     []string
-	// Discount is the discount factor per period used for PresentValue.
-	Discount float64
+	Header
+	Actions []string
+	// Factor is the discount factor per period of PresentValue (1 under
+	// the average criterion: the total is then undiscounted).
+	Factor   float64
 	Forecast *optimize.Forecast
 }
 
 // year returns the year at the start of period k.
-func (f *Forecast) year(k int) float64 { return float64(k) * f.PeriodYears }
+func (f *Forecast) year(k int) float64 { return f.Period.Start(k) }
 
 // WriteTable writes two tables with one row per period: the expected units
 // per condition, and the spend per action with the running cost and the
@@ -69,7 +67,7 @@ func (f *Forecast) WriteTable(w io.Writer) error {
 	}
 	return writeLines(w, []string{
 		fmt.Sprintf("Present value of the spend over %d periods: %s %s (discount factor %s per period, costs at the start of each period).",
-			len(f.Forecast.Periods), Money(f.Forecast.PresentValue, 2), f.Currency, Fixed(f.Discount, 6)),
+			len(f.Forecast.Periods), Money(f.Forecast.PresentValue, 2), f.Currency, Fixed(f.Factor, 6)),
 		"Counts are expected values (fractions of units), not a work list.",
 		"CAUTION: " + Caution,
 	})
@@ -104,7 +102,7 @@ type forecastJSON struct {
 
 // WriteJSON writes the forecast as one JSON object (keys in the README).
 func (f *Forecast) WriteJSON(w io.Writer) error {
-	out := forecastJSON{Model: f.Model, Currency: f.Currency, PeriodYears: f.PeriodYears, DiscountFactor: f.Discount,
+	out := forecastJSON{Model: f.Model, Currency: f.Currency, PeriodYears: f.periodYears(), DiscountFactor: f.Factor,
 		FinalCounts: f.byState(f.Forecast.Final), PresentValue: f.Forecast.PresentValue, Caution: Caution}
 	for _, p := range f.Forecast.Periods {
 		spend := make(map[string]float64, len(f.Actions))

@@ -44,7 +44,7 @@ func (a *Advice) writeLife(w io.Writer) error {
 	l := a.Life
 	target := a.targetName()
 	unit := "periods"
-	if a.PeriodYears == 1 {
+	if a.periodYears() == 1 {
 		unit = "years"
 	}
 	fmt.Fprintf(w, "\nLife of a unit (first reaching %s; expected %s):\n", target, unit)
@@ -53,13 +53,13 @@ func (a *Advice) writeLife(w io.Writer) error {
 	for s := range rows {
 		left := "n/a"
 		if l.Passive != nil {
-			left = periodsText(l.Passive.Periods[s], a.PeriodYears)
+			left = periodsText(l.Passive.Periods[s], a.periodYears())
 		}
 		share := "n/a"
 		if l.Stationary != nil {
 			share = Percent(l.Stationary[s], 1)
 		}
-		rows[s] = []string{a.stateLabel(s), left, periodsText(l.Policy.Periods[s], a.PeriodYears), share}
+		rows[s] = []string{a.stateLabel(s), left, periodsText(l.Policy.Periods[s], a.periodYears()), share}
 	}
 	if err := table(w, header, []bool{false, true, true, true}, rows); err != nil {
 		return err
@@ -83,7 +83,7 @@ func (a *Advice) writeSurvival(w io.Writer) error {
 	header := []string{"after", "left alone", "under the advice"}
 	var rows [][]string
 	for _, y := range survivalYears {
-		k := int(math.Round(y / a.PeriodYears))
+		k := int(math.Round(y / a.periodYears()))
 		if k > l.Horizon || k < 1 {
 			continue
 		}
@@ -91,7 +91,7 @@ func (a *Advice) writeSurvival(w io.Writer) error {
 		if passive {
 			left = Percent(l.PassiveSurvival[0][k], 1)
 		}
-		rows = append(rows, []string{Years(float64(k) * a.PeriodYears), left, Percent(l.PolicySurvival[0][k], 1)})
+		rows = append(rows, []string{Years(float64(k) * a.periodYears()), left, Percent(l.PolicySurvival[0][k], 1)})
 	}
 	return table(w, header, []bool{true, true, true}, rows)
 }
@@ -104,7 +104,7 @@ func (a *Advice) lifeLines() []string {
 		return append(lines, "Long run: "+l.StationaryErr.Error()+"; long-run figures are left out.")
 	}
 	line := fmt.Sprintf("Long run under the advice: %s %s per year on average (undiscounted", Money(l.CostPerYear, 2), cur)
-	if a.PeriodYears != 1 {
+	if a.periodYears() != 1 {
 		line += fmt.Sprintf("; %s per period", Money(l.CostPerPeriod, 2))
 	}
 	line += ")"
@@ -116,7 +116,7 @@ func (a *Advice) lifeLines() []string {
 	var uses []string
 	for act, share := range l.ActionShare {
 		if share > 0 && !a.isPassive(act) {
-			uses = append(uses, fmt.Sprintf("%s every %s", a.Problem.Actions[act], periodsWord(l.PeriodsBetween[act], a.PeriodYears)))
+			uses = append(uses, fmt.Sprintf("%s every %s", a.Problem.Actions[act], periodsWord(l.PeriodsBetween[act], a.periodYears())))
 		}
 	}
 	if len(uses) > 0 {
@@ -169,11 +169,11 @@ func (a *Advice) lifeJSON() *lifeJSON {
 	for s, name := range p.States {
 		if l.Passive != nil && !math.IsNaN(l.Passive.Periods[s]) {
 			out.PeriodsToWorstPassive[name] = num(l.Passive.Periods[s])
-			out.YearsToWorstPassive[name] = num(l.Passive.Periods[s] * a.PeriodYears)
+			out.YearsToWorstPassive[name] = num(l.Passive.Periods[s] * a.periodYears())
 		}
 		if !math.IsNaN(l.Policy.Periods[s]) {
 			out.PeriodsToWorstPolicy[name] = num(l.Policy.Periods[s])
-			out.YearsToWorstPolicy[name] = num(l.Policy.Periods[s] * a.PeriodYears)
+			out.YearsToWorstPolicy[name] = num(l.Policy.Periods[s] * a.periodYears())
 		}
 		if l.Stationary != nil {
 			out.Stationary[name] = l.Stationary[s]

@@ -21,9 +21,7 @@ type CostFigure struct {
 
 // Sensitivity is the cost sensitivity of one class's advice.
 type Sensitivity struct {
-	Model    string
-	Currency string
-	Unsafe   []bool
+	Header
 	Problem  *optimize.Problem
 	Result   *optimize.Result
 	Figures  []CostFigure

@@ -13,11 +13,7 @@ import (
 // SystemAdvice is the certified joint policy of a machine of components,
 // with the separate policies it is compared with.
 type SystemAdvice struct {
-	Model       string
-	Currency    string
-	PeriodYears float64
-	Rate        float64
-	HasRate     bool
+	Header
 	System      *system.Machine
 	Result      *system.Result
 	// Separate is the joint-system value of the components' separate
@@ -86,11 +82,7 @@ func (s *SystemAdvice) saving() (pv, perYear float64) {
 		return math.NaN(), math.NaN()
 	}
 	pv = s.Separate.Value[0] - s.Result.Value[0]
-	perYear = math.NaN()
-	if s.HasRate && s.Rate > 0 {
-		perYear = pv * s.Rate / (1 + s.Rate)
-	}
-	return pv, perYear
+	return pv, s.Discount.EquivalentAnnual(pv)
 }
 
 // WriteTable writes the compact joint advice: the rule for each component
@@ -126,10 +118,7 @@ func (s *SystemAdvice) WriteTable(w io.Writer) error {
 		}
 		lines = append(lines, line+".")
 	}
-	disc := fmt.Sprintf("Discount factor %s per period of %s", Fixed(sys.Discount.Factor(), 6), Years(s.PeriodYears))
-	if s.HasRate {
-		disc += fmt.Sprintf(" (rate %s per year)", Percent(s.Rate, 2))
-	}
+	disc := fmt.Sprintf("Discount factor %s per period of %s (rate %s per year)", Fixed(s.Discount.Factor(), 6), s.Period, Percent(s.Discount.RatePerYear(), 2))
 	lines = append(lines, disc+"; shutdown cost "+Money(sys.Shutdown, 2)+" "+s.Currency+" per period with work; down cost "+
 		Money(sys.Down, 2)+" "+s.Currency+" per period with a component unsafe.")
 	lines = append(lines, fmt.Sprintf("Solver: structured value iteration (Kronecker mode products), %d sweeps; proven gap %s %s (tolerance %s), Bellman residual at the estimate %s: %s.",
@@ -178,12 +167,10 @@ func (s *SystemAdvice) WriteJSON(w io.Writer) error {
 		Thresholds    string   `json:"thresholds"`
 		Caution       string   `json:"caution"`
 	}
-	o := out{Model: s.Model, Kind: "system", Currency: s.Currency, PeriodYears: s.PeriodYears, DiscountFactor: sys.Discount.Factor(),
+	o := out{Model: s.Model, Kind: "system", Currency: s.Currency, PeriodYears: s.periodYears(), DiscountFactor: sys.Discount.Factor(),
 		Method: "value", Iterations: r.Sweeps, Thresholds: s.rulesText(), Caution: Caution, States: make([]systemState, 0, len(r.Policy))}
-	if s.HasRate {
-		rate := s.Rate
-		o.DiscountRate = &rate
-	}
+	rate := s.Discount.RatePerYear()
+	o.DiscountRate = &rate
 	for _, c := range sys.Components {
 		o.Components = append(o.Components, c.Name)
 	}

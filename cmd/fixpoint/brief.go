@@ -106,8 +106,7 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	}
 	b := &reports.Brief{
 		Advice: adv,
-		Forecast: &reports.Forecast{Model: r.Name, Currency: r.Currency, PeriodYears: r.Period.Years(),
-			States: r.Problem.States, Actions: r.Problem.Actions, Discount: r.Discount.Factor(), Forecast: fc},
+		Forecast: &reports.Forecast{Header: header(r.Class), Actions: r.Problem.Actions, Factor: r.Discount.Factor(), Forecast: fc},
 		Model: r.Model, Costs: r.Costs, Date: st.Date,
 	}
 	if len(st.Rates.List) > 0 || len(r.Compare) > 0 {

@@ -53,6 +53,18 @@ func prepare(c *modelfile.Class, o settings.Override, criterion string) (*classR
 	return r, nil
 }
 
+// header is the reports header of a class.
+func header(c *modelfile.Class) reports.Header {
+	h := reports.Header{Model: c.Name, Currency: c.Currency, Period: c.Period, Discount: c.Discount,
+		States: c.Model.StateNames(), Unsafe: c.Unsafe(), Source: c.Path, SHA256: c.SHA256, Version: version()}
+	for _, act := range c.Model.Actions {
+		if act.OutOfService {
+			h.OutOfService = append(h.OutOfService, act.Name)
+		}
+	}
+	return h
+}
+
 // override turns --rate or --factor into a discount for periods p.
 func override(p costs.Period, o settings.Override) (costs.Discount, error) {
 	if o.HasRate {
@@ -126,11 +138,7 @@ func (a *app) advise(cmd *cobra.Command, r *classRun, s optimize.Settings, targe
 	if err != nil {
 		return nil, err
 	}
-	adv := &reports.Advice{
-		Model: r.Name, Currency: r.Currency, PeriodYears: r.Period.Years(),
-		Rate: r.Discount.RatePerYear(), HasRate: r.Discount.ByRate(), Unsafe: r.Unsafe(), Passive: r.Model.Passive(),
-		Problem: r.Problem, Result: res, Life: l,
-	}
+	adv := &reports.Advice{Header: header(r.Class), Passive: r.Model.Passive(), Problem: r.Problem, Result: res, Life: l}
 	a.safetyWarnings(r, res.Policy)
 	return adv, nil
 }

@@ -85,8 +85,7 @@ func comparison(cmd *cobra.Command, s optimize.Settings, c *modelfile.Class, p *
 	if err != nil {
 		return nil, err
 	}
-	return &reports.Comparison{Model: c.Name, Currency: c.Currency, PeriodYears: c.Period.Years(),
-		States: p.States, Actions: p.Actions, Inflation: r.Inflation, HasInflation: r.HasInflation, Compare: cmp}, nil
+	return &reports.Comparison{Header: header(c), Actions: p.Actions, Inflation: r.Inflation, HasInflation: r.HasInflation, Compare: cmp}, nil
 }
 
 func (a *app) compare(cmd *cobra.Command, path string) error {

@@ -151,8 +151,7 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	view := &reports.Forecast{Model: r.Name, Currency: r.Currency, PeriodYears: r.Period.Years(),
-		States: r.Problem.States, Actions: r.Problem.Actions, Discount: gamma, Forecast: fc}
+	view := &reports.Forecast{Header: header(r.Class), Actions: r.Problem.Actions, Factor: gamma, Forecast: fc}
 	if err := a.emit(cmd, st.Output, view); err != nil {
 		return err
 	}

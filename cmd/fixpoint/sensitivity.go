@@ -105,7 +105,7 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 	for i := range figs {
 		figs[i].Range = ranges[i]
 	}
-	view := &reports.Sensitivity{Model: r.Name, Currency: r.Currency, Unsafe: r.Unsafe(), Problem: r.Problem, Result: res, Figures: figs}
+	view := &reports.Sensitivity{Header: header(r.Class), Problem: r.Problem, Result: res, Figures: figs}
 	if err := a.emit(cmd, st.Output, view); err != nil {
 		return err
 	}

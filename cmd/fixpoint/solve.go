@@ -115,8 +115,7 @@ func (a *app) solveAverage(cmd *cobra.Command, r *classRun, st settings.Solve) e
 		return err
 	}
 	a.safetyWarnings(r, res.Policy)
-	adv := &reports.AverageAdvice{Model: r.Name, Currency: r.Currency, PeriodYears: r.Period.Years(),
-		Unsafe: r.Unsafe(), Problem: r.Problem, Result: res}
+	adv := &reports.AverageAdvice{Header: header(r.Class), Problem: r.Problem, Result: res}
 	if err := a.emit(cmd, st.Output, adv); err != nil {
 		return err
 	}
@@ -199,8 +198,8 @@ func (a *app) solveSystem(cmd *cobra.Command, sf *modelfile.System, st settings.
 		return err
 	}
 	alone, groups := m.Rules(r.Policy)
-	view := &reports.SystemAdvice{Model: sf.Name, Currency: sf.Currency, PeriodYears: sf.Period.Years(), Rate: m.Discount.RatePerYear(),
-		HasRate: true, System: m, Result: r, Separate: ev, Alone: alone, Groups: groups}
+	h := reports.Header{Model: sf.Name, Currency: sf.Currency, Period: sf.Period, Discount: m.Discount, Source: sf.Path, SHA256: sf.SHA256, Version: version()}
+	view := &reports.SystemAdvice{Header: h, System: m, Result: r, Separate: ev, Alone: alone, Groups: groups}
 	if err := a.emit(cmd, st.Output, view); err != nil {
 		return err
 	}

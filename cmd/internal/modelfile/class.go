@@ -49,6 +49,8 @@ type Header struct {
 	Criterion Criterion
 	// Compare lists the annual rates of discount.compare.
 	Compare []float64
+	// SHA256 is the hex digest of the file's bytes.
+	SHA256 string
 
 	periodNode *yaml.Node
 }

@@ -189,6 +189,9 @@ func (l *loader) file(path string, data []byte) (*File, error) {
 	if err := d.err(); err != nil {
 		return nil, err
 	}
+	if h := f.Header(); h != nil {
+		h.SHA256 = f.SHA256
+	}
 	f.Inputs, f.Notes = l.inputs, l.notes
 	return f, nil
 }

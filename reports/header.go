@@ -1,0 +1,66 @@
+package reports
+
+import (
+	"fmt"
+
+	"fixpoint/costs"
+)
+
+// Header is what every view says about the model it presents: its name,
+// currency, period, discount, condition scale and unsafe set, and where
+// the model came from. Every view embeds one, so that no view re-derives
+// the discount or the period from loose fields.
+type Header struct {
+	Model    string
+	Currency string
+	Period   costs.Period
+	// Discount is zero under the long-run average criterion.
+	Discount costs.Discount
+	// States and Unsafe are the condition scale (nil for views of several
+	// classes).
+	States []string
+	Unsafe []bool
+	// OutOfService names the actions that take a unit out of service
+	// (decommissioning, locking out); outputs say so wherever one is
+	// advised.
+	OutOfService []string
+	// Source is the config file, SHA256 its digest and Version the
+	// fixpoint version that read it (printed by briefs and workbooks).
+	Source, SHA256, Version string
+}
+
+// stateLabel is the name of state s, marked when the state is unsafe.
+func (h *Header) stateLabel(s int) string { return stateLabel(h.States, h.Unsafe, s) }
+
+// unsafe reports whether state s is unsafe.
+func (h *Header) unsafe(s int) bool { return s < len(h.Unsafe) && h.Unsafe[s] }
+
+// perYear converts an amount per period into the same amount per year.
+func (h *Header) perYear(x float64) float64 { return h.Period.PerYear(x) }
+
+// periodYears is the period length in years.
+func (h *Header) periodYears() float64 { return h.Period.Years() }
+
+// rate returns the annual discount rate and whether the file gave it as a
+// rate (rather than a factor).
+func (h *Header) rate() (float64, bool) { return h.Discount.RatePerYear(), h.Discount.ByRate() }
+
+// discountLine describes the discounting in words.
+func (h *Header) discountLine() string {
+	s := fmt.Sprintf("Discount factor %s per period of %s", Fixed(h.Discount.Factor(), 6), h.Period)
+	if r, ok := h.rate(); ok {
+		s += fmt.Sprintf(" (rate %s per year)", Percent(r, 2))
+	}
+	return s + "; costs are charged at the start of each period."
+}
+
+// outOfService reports whether the named action takes a unit out of
+// service.
+func (h *Header) outOfService(action string) bool {
+	for _, a := range h.OutOfService {
+		if a == action {
+			return true
+		}
+	}
+	return false
+}
