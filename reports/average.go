@@ -13,8 +13,8 @@ import (
 // one class, ready to present.
 type AverageAdvice struct {
 	Header
-	Problem     *optimize.Problem
-	Result      *optimize.AverageResult
+	Problem *optimize.Problem
+	Result  *optimize.AverageResult
 }
 
 // Thresholds is the threshold sentence of the advice (see Advice.Thresholds).

@@ -22,9 +22,9 @@ type CostFigure struct {
 // Sensitivity is the cost sensitivity of one class's advice.
 type Sensitivity struct {
 	Header
-	Problem  *optimize.Problem
-	Result   *optimize.Result
-	Figures  []CostFigure
+	Problem *optimize.Problem
+	Result  *optimize.Result
+	Figures []CostFigure
 }
 
 func (s *Sensitivity) change(state, action int) string {

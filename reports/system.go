@@ -14,8 +14,8 @@ import (
 // with the separate policies it is compared with.
 type SystemAdvice struct {
 	Header
-	System      *system.Machine
-	Result      *system.Result
+	System *system.Machine
+	Result *system.Result
 	// Separate is the joint-system value of the components' separate
 	// policies (each planned alone with the shutdown charged to it).
 	Separate *system.ProductEvaluation
