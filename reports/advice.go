@@ -21,6 +21,8 @@ type Advice struct {
 	Result  *optimize.Result
 	// Life, if not nil, adds the life-cycle figures of the advice.
 	Life *optimize.Life
+	// Warnings are safety warnings about the advice, printed with it.
+	Warnings []string
 }
 
 var methodTitles = map[optimize.Method]string{
@@ -160,6 +162,9 @@ func (a *Advice) WriteTable(w io.Writer) error {
 	lines := []string{"Thresholds: " + a.Thresholds(), a.discountLine(), a.solverLine()}
 	lines = append(lines, a.tieLines()...)
 	lines = append(lines, "Margin: how much the runner-up's cost in that condition must fall before it becomes the advice.")
+	for _, n := range a.notes(r.Policy, a.Problem.Actions, a.Warnings) {
+		lines = append(lines, "Note: "+n)
+	}
 	if err := writeLines(w, lines); err != nil {
 		return err
 	}
@@ -204,6 +209,7 @@ type adviceJSON struct {
 	Certificate    adviceCertificate `json:"certificate"`
 	Thresholds     string            `json:"thresholds"`
 	Life           *lifeJSON         `json:"life,omitempty"`
+	Notes          []string          `json:"notes,omitempty"`
 	Caution        string            `json:"caution"`
 }
 
@@ -215,6 +221,7 @@ func (a *Advice) json() adviceJSON {
 		Certificate: adviceCertificate{MaxGap: r.Gap, BellmanResidual: r.Residual, Status: r.Status.String(),
 			Tolerance: r.Tol, TieTolerance: r.TieTol},
 		Thresholds: a.Thresholds(), Life: a.lifeJSON(), Caution: Caution,
+		Notes: a.notes(r.Policy, p.Actions, a.Warnings),
 	}
 	if rate, ok := a.rate(); ok {
 		out.DiscountRate = &rate
@@ -259,6 +266,9 @@ func writeJSON(w io.Writer, v any) error {
 func (a *Advice) WriteCSV(w io.Writer) error {
 	r, p := a.Result, a.Problem
 	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
+		return err
+	}
+	if err := writeCSVNotes(w, a.notes(r.Policy, p.Actions, a.Warnings)); err != nil {
 		return err
 	}
 	cw := csv.NewWriter(w)

@@ -15,6 +15,8 @@ type AverageAdvice struct {
 	Header
 	Problem *optimize.Problem
 	Result  *optimize.AverageResult
+	// Warnings are safety warnings about the advice, printed with it.
+	Warnings []string
 }
 
 // Thresholds is the threshold sentence of the advice (see Advice.Thresholds).
@@ -46,8 +48,11 @@ func (a *AverageAdvice) WriteTable(w io.Writer) error {
 			Money(a.perYear(r.GainLower), 2), Money(a.perYear(r.GainUpper), 2), r.Status),
 		fmt.Sprintf("Relative value: the extra total cost of starting in that condition rather than in %s (0 there).", p.States[r.Ref]),
 		fmt.Sprintf("Solver: %s, %d iterations; gain bounds min/max (Th - h) (Odoni 1969).", methodTitles[r.Method], r.Iterations),
-		"CAUTION: " + Caution,
 	}
+	for _, n := range a.notes(r.Policy, p.Actions, a.Warnings) {
+		lines = append(lines, "Note: "+n)
+	}
+	lines = append(lines, "CAUTION: "+Caution)
 	return writeLines(w, lines)
 }
 
@@ -78,6 +83,7 @@ type averageJSON struct {
 	BiasReference    string         `json:"bias_reference"`
 	States           []averageState `json:"states"`
 	Thresholds       string         `json:"thresholds"`
+	Notes            []string       `json:"notes,omitempty"`
 	Caution          string         `json:"caution"`
 }
 
@@ -86,6 +92,7 @@ type averageJSON struct {
 func (a *AverageAdvice) WriteJSON(w io.Writer) error {
 	r, p := a.Result, a.Problem
 	out := averageJSON{Criterion: "average", Model: a.Model, Currency: a.Currency, PeriodYears: a.periodYears(),
+		Notes:  a.notes(r.Policy, p.Actions, a.Warnings),
 		Method: r.Method.String(), Iterations: r.Iterations,
 		GainPerPeriod: r.Gain, GainPerYear: a.perYear(r.Gain), GainLower: r.GainLower, GainUpper: r.GainUpper,
 		GainLowerPerYear: a.perYear(r.GainLower), GainUpperPerYear: a.perYear(r.GainUpper),
@@ -110,6 +117,9 @@ func (a *AverageAdvice) WriteJSON(w io.Writer) error {
 func (a *AverageAdvice) WriteCSV(w io.Writer) error {
 	r, p := a.Result, a.Problem
 	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
+		return err
+	}
+	if err := writeCSVNotes(w, a.notes(r.Policy, p.Actions, a.Warnings)); err != nil {
 		return err
 	}
 	cw := csv.NewWriter(w)

@@ -127,6 +127,9 @@ func (b *Brief) recommendation() string {
 	r := a.Result
 	fmt.Fprintf(&s, " The advice is %s: no policy can do better by more than %s %s from any condition (%s).",
 		r.Status, sci(r.Gap), cur, methodTitles[r.Method])
+	for _, n := range a.notes(r.Policy, a.Problem.Actions, a.Warnings) {
+		s.WriteString(" " + n)
+	}
 	return s.String()
 }
 

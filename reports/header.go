@@ -2,6 +2,7 @@ package reports
 
 import (
 	"fmt"
+	"io"
 
 	"fixpoint/costs"
 )
@@ -63,4 +64,32 @@ func (h *Header) outOfService(action string) bool {
 		}
 	}
 	return false
+}
+
+// serviceNotes says, for every state where the advice takes the unit out
+// of service, so in words.
+func (h *Header) serviceNotes(policy []int, actions []string) []string {
+	var out []string
+	for s, a := range policy {
+		if h.outOfService(actions[a]) {
+			out = append(out, fmt.Sprintf("In %s the advice is %s, which takes the unit out of service: it stays out of use until a competent person returns it to service.",
+				h.States[s], actions[a]))
+		}
+	}
+	return out
+}
+
+// notes are the out-of-service notes of the advice followed by warnings.
+func (h *Header) notes(policy []int, actions []string, warnings []string) []string {
+	return append(h.serviceNotes(policy, actions), warnings...)
+}
+
+// writeCSVNotes writes each note as a comment line.
+func writeCSVNotes(w io.Writer, notes []string) error {
+	for _, n := range notes {
+		if _, err := fmt.Fprintf(w, "# note: %s\n", n); err != nil {
+			return err
+		}
+	}
+	return nil
 }

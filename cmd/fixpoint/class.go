@@ -138,16 +138,18 @@ func (a *app) advise(cmd *cobra.Command, r *classRun, s optimize.Settings, targe
 	if err != nil {
 		return nil, err
 	}
-	adv := &reports.Advice{Header: header(r.Class), Passive: r.Model.Passive(), Problem: r.Problem, Result: res, Life: l}
-	a.safetyWarnings(r, res.Policy)
-	return adv, nil
+	return &reports.Advice{Header: header(r.Class), Passive: r.Model.Passive(), Problem: r.Problem, Result: res, Life: l,
+		Warnings: a.safetyWarnings(r, res.Policy)}, nil
 }
 
-// safetyWarnings warns when, under the advice, a unit that enters an
-// unsafe state is expected to stay in unsafe states for more than one
-// period, and says which advice takes units out of service.
-func (a *app) safetyWarnings(r *classRun, policy []int) {
+// safetyWarnings warns, on stderr and in the returned lines for the
+// outputs, when under the advice a unit that enters an unsafe state is
+// expected to stay in unsafe states for more than one period; and, on
+// stderr, where the advice takes units out of service (the outputs say
+// that themselves).
+func (a *app) safetyWarnings(r *classRun, policy []int) []string {
 	m := r.Model
+	var out []string
 	for s, t := range optimize.UnsafeStay(m, policy) {
 		act := m.Actions[policy[s]]
 		switch {
@@ -155,10 +157,13 @@ func (a *app) safetyWarnings(r *classRun, policy []int) {
 		case act.OutOfService:
 			a.warn(fmt.Sprintf("in unsafe state %s the advice is %s, which takes the unit out of service", m.States[s].Name, act.Name))
 		case t > 1+1e-9:
-			a.warn(fmt.Sprintf("under the advice a unit that becomes %s is expected to stay in unsafe states for %.2f periods (%.2f years), not one: check that the advised %s really makes it safe",
-				m.States[s].Name, t, t*m.PeriodYears, act.Name))
+			w := fmt.Sprintf("Under the advice a unit that becomes %s is expected to stay in unsafe states for %.2f periods (%.2f years), not one: check that %s really makes it safe.",
+				m.States[s].Name, t, t*m.PeriodYears, act.Name)
+			a.warn(w)
+			out = append(out, w)
 		}
 	}
+	return out
 }
 
 // uncertified returns the exit-3 error for a result whose gap is above

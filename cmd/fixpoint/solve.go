@@ -114,8 +114,7 @@ func (a *app) solveAverage(cmd *cobra.Command, r *classRun, st settings.Solve) e
 	if err != nil {
 		return err
 	}
-	a.safetyWarnings(r, res.Policy)
-	adv := &reports.AverageAdvice{Header: header(r.Class), Problem: r.Problem, Result: res}
+	adv := &reports.AverageAdvice{Header: header(r.Class), Problem: r.Problem, Result: res, Warnings: a.safetyWarnings(r, res.Policy)}
 	if err := a.emit(cmd, st.Output, adv); err != nil {
 		return err
 	}
