@@ -144,43 +144,62 @@ func (b *Brief) pageCharts(d *doc) {
 	d.font("B", 12, ink)
 	p.MultiCell(contentW, 6, "What the advice means over the years", "", "L", false)
 	p.Ln(2)
+	// By calendar year when a year holds whole periods; per period when a
+	// period is longer than a year.
 	f := b.Forecast.Forecast
-	cats := make([]string, len(f.Periods))
-	for k := range f.Periods {
-		cats[k] = trimYear(b.Forecast.year(k))
+	type column struct {
+		label         string
+		counts, spend []float64
+		running       float64
+	}
+	var cols []column
+	unit, mixWhen := "year", "units at the start of each year"
+	if a.periodYears() <= 1 {
+		for _, fy := range f.Years(a.Period) {
+			cols = append(cols, column{fmt.Sprint(fy.Year), fy.Counts, fy.ActionSpend, fy.Running})
+		}
+	} else {
+		unit, mixWhen = "period of "+a.Period.String(), "units at the start of each period"
+		for k, per := range f.Periods {
+			cols = append(cols, column{trimYear(b.Forecast.year(k)), per.Counts, per.ActionSpend, per.Running})
+		}
+	}
+	cats := make([]string, len(cols))
+	for k, c := range cols {
+		cats[k] = c.label
 	}
 	colours := ramp(stateRamp, len(a.Problem.States))
 	var mix []series
 	for s, name := range a.Problem.States {
-		v := make([]float64, len(f.Periods))
-		for k, per := range f.Periods {
-			v[k] = per.Counts[s]
+		v := make([]float64, len(cols))
+		for k, c := range cols {
+			v[k] = c.counts[s]
 		}
 		mix = append(mix, series{name: name, color: colours[s], values: v})
 	}
 	y := p.GetY()
-	d.stackedBars(marginX, y, contentW, 62, "Expected condition mix of the population (units at the start of each year)",
+	d.stackedBars(marginX, y, contentW, 62, "Expected condition mix of the population ("+mixWhen+")",
 		"year", "units", cats, mix, func(v float64) string { return Money(v, decimalsFor(niceStep(v+1, 1))) })
 	y = p.GetY() + 3
 	var spend []series
-	run := make([]float64, len(f.Periods))
-	for k, per := range f.Periods {
-		run[k] = per.Running
+	run := make([]float64, len(cols))
+	for k, c := range cols {
+		run[k] = c.running
 	}
 	spend = append(spend, series{name: "running costs", values: run, hatch: true})
 	acol := ramp(actionRamp, len(a.Problem.Actions))
 	for act, name := range a.Problem.Actions {
-		v := make([]float64, len(f.Periods))
+		v := make([]float64, len(cols))
 		used := false
-		for k, per := range f.Periods {
-			v[k] = per.ActionSpend[act]
+		for k, c := range cols {
+			v[k] = c.spend[act]
 			used = used || v[k] != 0
 		}
 		if used {
 			spend = append(spend, series{name: name, color: acol[act], values: v})
 		}
 	}
-	d.stackedBars(marginX, y, contentW, 62, "Expected spend per year by action ("+a.Currency+")", "year", a.Currency, cats, spend,
+	d.stackedBars(marginX, y, contentW, 62, "Expected spend per "+unit+" by action ("+a.Currency+")", "year", a.Currency, cats, spend,
 		func(v float64) string { return Money(v, 0) })
 	y = p.GetY() + 3
 	if l := a.Life; l != nil {

@@ -4,6 +4,7 @@ import (
 	"encoding/csv"
 	"fmt"
 	"io"
+	"math"
 
 	"fixpoint/optimize"
 )
@@ -41,7 +42,7 @@ func (f *Forecast) WriteTable(w io.Writer) error {
 	sn = append(sn, true, true)
 	var crows, srows [][]string
 	for _, p := range f.Forecast.Periods {
-		lead := []string{fmt.Sprint(p.Period), trimYear(f.year(p.Period))}
+		lead := []string{fmt.Sprint(p.Period), f.yearText(p.Period)}
 		crow := append([]string(nil), lead...)
 		for _, x := range p.Counts {
 			crow = append(crow, Fixed(x, 2))
@@ -78,6 +79,16 @@ func trimYear(y float64) string {
 		return fmt.Sprint(int(y))
 	}
 	return Fixed(y, 2)
+}
+
+// yearText formats the start of period k in years with the decimals the
+// period needs, the same for every row ("0.00", "0.25", ..., "1.00").
+func (f *Forecast) yearText(k int) string {
+	dec := 0
+	for p := f.periodYears(); dec < 3 && math.Abs(p-math.Round(p)) > 1e-9; p *= 10 {
+		dec++
+	}
+	return Fixed(f.year(k), dec)
 }
 
 type forecastPeriodJSON struct {
