@@ -1,0 +1,242 @@
+package main
+
+import (
+	"encoding/json"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// A safety rule must not hang on a flag the user can forget: a class whose
+// leave action is not marked passive, with a row that keeps failed units
+// failed, is refused by check, solve and brief, naming the action and the
+// state; so is a cheap non-passive action that does the same.
+func TestSafetyDoesNotHangOnThePassiveFlag(t *testing.T) {
+	cheapLeave := strings.NewReplacer(
+		"    passive: true\n    cost: 0\n", "    cost: 0\n",
+		"      worn: {worn: 0.7, failed: 0.3}\n", "      worn: {worn: 0.7, failed: 0.3}\n      failed: {failed: 1}\n",
+		"running_cost: 500, unsafe: true", "running_cost: 5, unsafe: true",
+	).Replace(base)
+	patch := strings.Replace(base, "  - name: replace\n", "  - name: patch\n    cost: 1\n    transitions:\n      failed: {failed: 1}\n  - name: replace\n", 1)
+	for _, tc := range []struct{ name, text, want string }{
+		{"no passive action", cheapLeave, "no action is passive"},
+		{"no passive action", cheapLeave, `actions[0].transitions.failed (action leave, row failed): action "leave" keeps a unit in unsafe state "failed" within unsafe states with probability 1`},
+		{"cheap action keeps unsafe", patch, `(action patch, row failed): action "patch" keeps a unit in unsafe state "failed" within unsafe states with probability 1`},
+	} {
+		path := writeFile(t, "unsafe.yaml", tc.text)
+		for _, args := range [][]string{{"check", path}, {"solve", path}, {"brief", path, "-o", filepath.Join(t.TempDir(), "b.pdf")}} {
+			code, stdout, stderr := runCLI(t, args...)
+			if code != exitInput || stdout != "" || !strings.Contains(stderr, tc.want) {
+				t.Errorf("%s: %v: exit %d, stderr:\n%s\nwant exit 1 and %q", tc.name, args[0], code, stderr, tc.want)
+			}
+		}
+	}
+}
+
+// An action declared out of service may keep an unsafe unit where it is;
+// every output then says so in words.
+func TestOutOfServiceIsSaidEverywhere(t *testing.T) {
+	text := strings.NewReplacer(
+		"running_cost: 500, unsafe: true", "running_cost: 50, unsafe: true",
+		"  - name: replace\n", "  - name: retire\n    out_of_service: true\n    cost: 0\n    transitions:\n      failed: {failed: 1}\n  - name: replace\n",
+	).Replace(base)
+	path := writeFile(t, "retire.yaml", text)
+	const said = "In failed the advice is retire, which takes the unit out of service"
+	for _, format := range []string{"table", "json", "csv"} {
+		code, stdout, stderr := runCLI(t, "solve", path, "--format", format)
+		if code != 0 || !strings.Contains(stdout, said) || !strings.Contains(stderr, "takes the unit out of service") {
+			t.Errorf("%s: exit %d, stdout lacks %q:\n%s\nstderr %s", format, code, said, stdout, stderr)
+		}
+	}
+	pdf := filepath.Join(t.TempDir(), "b.pdf")
+	if code, _, stderr := runCLI(t, "brief", path, "-o", pdf, "--date", "2026-12-01"); code != 0 {
+		t.Fatalf("brief: exit %d: %s", code, stderr)
+	}
+	if text := strings.Join(strings.Fields(pdfText(t, pdf)), " "); !strings.Contains(text, said) {
+		t.Errorf("brief lacks %q", said)
+	}
+}
+
+// A unit that enters an unsafe state and is expected to stay unsafe for
+// more than a period under the advice gets a warning in every output.
+func TestWarningWhenUnsafeUnitsStayUnsafe(t *testing.T) {
+	text := strings.Replace(base, "      - [1, 0, 0]\n      - [1, 0, 0]\n      - [1, 0, 0]\n",
+		"      - [1, 0, 0]\n      - [1, 0, 0]\n      - [0.4, 0, 0.6]\n", 1)
+	path := writeFile(t, "slow.yaml", text)
+	// Replacement from failed works with probability 0.4 a period: 2.5
+	// periods in failed on average (closed form 1/0.4).
+	const want = "expected to stay in unsafe states for 2.50 periods"
+	for _, format := range []string{"table", "json", "csv"} {
+		code, stdout, stderr := runCLI(t, "solve", path, "--format", format)
+		if code != 0 || !strings.Contains(strings.Join(strings.Fields(stdout), " "), want) || !strings.Contains(stderr, "warning: Under the advice a unit that becomes failed") {
+			t.Errorf("%s: exit %d, want %q in stdout and a warning on stderr:\n%s\n%s", format, code, want, stdout, stderr)
+		}
+	}
+}
+
+// Rates typed as percent numbers are refused with a suggestion; "3.5%"
+// is accepted in config files as on flags.
+func TestRatesTypedAsPercentNumbers(t *testing.T) {
+	code, _, stderr := runCLI(t, "compare", demo, "--rates", "2,3.5,5")
+	if code != exitUsage || !strings.Contains(stderr, "write 2% for 2 percent") {
+		t.Errorf("--rates 2,3.5,5: exit %d, %s", code, stderr)
+	}
+	code, _, stderr = runCLI(t, "check", writeFile(t, "pct.yaml", strings.Replace(base, "rate: 0.05", "rate: 3.5", 1)))
+	if code != exitInput || !strings.Contains(stderr, "discount.rate: rate 3.5 per year is over 100%; write 3.5% for 3.5 percent") {
+		t.Errorf("rate: 3.5: exit %d, %s", code, stderr)
+	}
+	code, stdout, stderr := runCLI(t, "check", writeFile(t, "pct.yaml", strings.Replace(base, "rate: 0.05", "rate: 3.5%", 1)))
+	if code != 0 || !strings.Contains(stdout, "discount factor 0.966184") { // 1/1.035, closed form
+		t.Errorf("rate: 3.5%%: exit %d, %s%s", code, stdout, stderr)
+	}
+	code, _, stderr = runCLI(t, "solve", demo, "--rate", "4")
+	if code != exitUsage || !strings.Contains(stderr, "write 4% for 4 percent") {
+		t.Errorf("--rate 4: exit %d, %s", code, stderr)
+	}
+}
+
+// Every command honours the config's criterion or says in one line that
+// it does not support it; without a discount block the discounted
+// commands say what is missing.
+func TestCriterionHonouredEverywhere(t *testing.T) {
+	avg := strings.Replace(base, "discount:\n  rate: 0.05\n", "criterion: average\n", 1)
+	path := writeFile(t, "avg.yaml", avg)
+	var doc map[string]any
+	runJSON(t, &doc, "solve", path, "--format", "json")
+	if doc["criterion"] != "average" {
+		t.Errorf("solve: criterion %v", doc["criterion"])
+	}
+	runJSON(t, &doc, "forecast", path, "--from", "good", "--format", "json")
+	if code, stdout, stderr := runCLI(t, "check", path); code != 0 || !strings.Contains(stdout, "average criterion") {
+		t.Errorf("check: exit %d, %s%s", code, stdout, stderr)
+	}
+	for _, args := range [][]string{{"sensitivity", path}, {"brief", path, "-o", filepath.Join(t.TempDir(), "b.pdf")}} {
+		code, _, stderr := runCLI(t, args...)
+		if code != exitInput || strings.Count(stderr, "\n") != 1 || !strings.Contains(stderr, "criterion") {
+			t.Errorf("%v: exit %d, want one line about the criterion: %s", args[0], code, stderr)
+		}
+	}
+	code, _, stderr := runCLI(t, "solve", path, "--criterion", "discounted")
+	if code != exitInput || !strings.Contains(stderr, "discount: the discounted criterion needs a discount rate or factor") {
+		t.Errorf("discounted without a discount: exit %d, %s", code, stderr)
+	}
+	if code, _, stderr := runCLI(t, "sensitivity", path, "--rate", "4%"); code != 0 {
+		t.Errorf("sensitivity --rate: exit %d, %s", code, stderr)
+	}
+}
+
+// A flag that does not apply to the file given is a usage error naming it.
+func TestFlagsThatDoNotApply(t *testing.T) {
+	for _, tc := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"solve", demoSystem, "--criterion", "average"}, "--criterion does not apply to a system file"},
+		{[]string{"solve", demoSystem, "--method", "lp"}, "--method does not apply to a system file"},
+		{[]string{"solve", demoSystem, "--target", "failed"}, "--target does not apply to a system file"},
+		{[]string{"solve", demo, "--workers", "2"}, "--workers does not apply to a class config"},
+		{[]string{"forecast", demoFleet, "--simulate", "10", "--from", "sound"}, "--from does not apply to a fleet file"},
+		{[]string{"forecast", demo, "--from", "sound", "--budget", "5"}, "--budget does not apply to a class config"},
+		{[]string{"solve", demo, "--criterion", "average", "--rate", "3%"}, "--rate does not apply to the average criterion"},
+	} {
+		code, _, stderr := runCLI(t, tc.args...)
+		if code != exitUsage || !strings.Contains(stderr, tc.want) {
+			t.Errorf("%v: exit %d, want 2 and %q: %s", tc.args, code, tc.want, stderr)
+		}
+	}
+}
+
+// Settings keys mean one thing: FIXPOINT_METHOD (a solver) does not reach
+// fit (whose estimator is --estimator); notes of decoding print once; the
+// horizon follows the precedence rules; a settings-file typo is a usage
+// error.
+func TestSettingsMeanOneThing(t *testing.T) {
+	t.Setenv("FIXPOINT_METHOD", "policy")
+	if code, _, stderr := runCLI(t, "fit", demoRecords, "--config", demo, "--bootstrap", "0"); code != 0 {
+		t.Errorf("FIXPOINT_METHOD=policy fit: exit %d, %s", code, stderr)
+	}
+	rounded := strings.Replace(base, "good: {good: 0.8, worn: 0.2}", "good: {good: 0.333, worn: 0.333, failed: 0.333}", 1)
+	path := writeFile(t, "rounded.yaml", rounded)
+	for _, args := range [][]string{
+		{"brief", path, "--renormalize", "-o", filepath.Join(t.TempDir(), "b.pdf")},
+		{"forecast", path, "--renormalize", "--from", "good"},
+	} {
+		code, _, stderr := runCLI(t, args...)
+		if code != 0 || strings.Count(stderr, "row summed to 0.999") != 1 {
+			t.Errorf("%v: exit %d, want the note once: %s", args[0], code, stderr)
+		}
+	}
+	t.Setenv("FIXPOINT_YEARS", "3")
+	var f struct {
+		Periods []any `json:"periods"`
+	}
+	runJSON(t, &f, "forecast", demo, "--from", "sound", "--format", "json")
+	if len(f.Periods) != 3 {
+		t.Errorf("FIXPOINT_YEARS=3: %d periods, want 3", len(f.Periods))
+	}
+	var plan struct {
+		Years []any `json:"years"`
+	}
+	runJSON(t, &plan, "plan", demoFleet, "--format", "json", "--budget", "60000")
+	if len(plan.Years) != 3 {
+		t.Errorf("FIXPOINT_YEARS=3 plan: %d years, want 3", len(plan.Years))
+	}
+	typo := writeFile(t, "typo.yaml", "methd: lp\n")
+	if code, _, stderr := runCLI(t, "solve", demo, "--settings", typo); code != exitUsage || !strings.Contains(stderr, `did you mean "method"?`) {
+		t.Errorf("settings typo: exit %d, %s", code, stderr)
+	}
+	for _, bad := range []string{filepath.Join(t.TempDir(), "nonexistent"), writeFile(t, "blob.yaml", "\x00\x01\x02")} {
+		t.Setenv("FIXPOINT_SETTINGS", bad)
+		code, _, stderr := runCLI(t, "solve", demo)
+		if code != exitUsage || strings.Contains(stderr, "Unsupported Config Type") || !strings.Contains(stderr, "settings file") {
+			t.Errorf("FIXPOINT_SETTINGS=%s: exit %d, %s", bad, code, stderr)
+		}
+	}
+}
+
+// The survival horizon is the longer of the advice's and the passive
+// chain's horizons, as documented (on the demo the advice's is 100 years).
+func TestSurvivalHorizon(t *testing.T) {
+	var doc struct {
+		Life struct {
+			Passive map[string][]float64 `json:"survival_passive"`
+			Policy  map[string][]float64 `json:"survival_policy"`
+		} `json:"life"`
+	}
+	code, out, stderr := runCLI(t, "solve", demo, "--format", "json")
+	if code != 0 {
+		t.Fatal(stderr)
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	for _, curves := range []map[string][]float64{doc.Life.Passive, doc.Life.Policy} {
+		if len(curves) == 0 {
+			t.Fatalf("no survival curves in %.200s", out)
+		}
+		for name, curve := range curves {
+			if len(curve) != 101 {
+				t.Errorf("survival from %s: %d points, want 101 (periods 0..100)", name, len(curve))
+			}
+		}
+	}
+}
+
+// A YAML syntax error inside an action is reported at the line where
+// parsing failed, with the line where the enclosing block starts.
+func TestYAMLSyntaxErrorLine(t *testing.T) {
+	text := strings.Replace(base, "    cost: 1000\n    matrix:", "    cost: 1000\n   matrix:", 1)
+	path := writeFile(t, "syntax.yaml", text)
+	code, _, stderr := runCLI(t, "check", path)
+	lines := strings.Split(base, "\n")
+	bad := 0
+	for i, l := range lines {
+		if l == "    matrix:" {
+			bad = i + 1
+		}
+	}
+	if code != exitInput || !strings.Contains(stderr, filepath.Base(path)+":"+strconv.Itoa(bad)+": YAML syntax error") {
+		t.Errorf("exit %d, want the error at line %d: %s", code, bad, stderr)
+	}
+}
