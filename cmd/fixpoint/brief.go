@@ -88,7 +88,7 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	start := make([]float64, len(r.Model.States))
 	start[0] = st.Start.Units
 	if st.HasStart {
-		if start, err = startMix(r.Model, st.Start); err != nil {
+		if start, err = st.Start.Counts(r.Model); err != nil {
 			return err
 		}
 	}

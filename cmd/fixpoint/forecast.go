@@ -1,14 +1,11 @@
 package main
 
 import (
-	"math"
-	"strings"
-
 	"github.com/spf13/cobra"
 
 	"fixpoint/cmd/internal/modelfile"
+	"fixpoint/cmd/internal/progress"
 	"fixpoint/cmd/internal/settings"
-	"fixpoint/condition"
 	"fixpoint/optimize"
 	"fixpoint/optimize/fleet"
 	"fixpoint/reports"
@@ -40,50 +37,6 @@ the unconstrained advice) N times on whole units and reports percentile bands.`,
 	settings.AddFleet(f)
 	settings.AddOutput(f, "table", "json", "csv")
 	return cmd
-}
-
-// startMix turns --mix or --from/--units into counts per state.
-func startMix(m *condition.Model, st settings.Start) ([]float64, error) {
-	n := len(m.States)
-	counts := make([]float64, n)
-	switch {
-	case st.From != "":
-		s := m.StateIndex(st.From)
-		if s < 0 {
-			return nil, usagef("setting from: unknown state %q%s", st.From, modelfile.DidYouMean(st.From, m.StateNames()))
-		}
-		counts[s] = st.Units
-		return counts, nil
-	case st.Mix == "":
-		return nil, usagef("give the starting population with --mix state=count,... or --from STATE")
-	}
-	seen := make(map[string]bool)
-	total := 0.0
-	for _, part := range strings.Split(st.Mix, ",") {
-		name, val, ok := strings.Cut(strings.TrimSpace(part), "=")
-		name = strings.TrimSpace(name)
-		if !ok || name == "" {
-			return nil, usagef("setting mix: %q is not state=number", strings.TrimSpace(part))
-		}
-		s := m.StateIndex(name)
-		if s < 0 {
-			return nil, usagef("setting mix: unknown state %q%s", name, modelfile.DidYouMean(name, m.StateNames()))
-		}
-		if seen[name] {
-			return nil, usagef("setting mix: state %q given twice", name)
-		}
-		seen[name] = true
-		x, err := modelfile.ParseNumber(val)
-		if err != nil || x < 0 || x > 1e12 {
-			return nil, usagef("setting mix: %s=%s is not a count or share in [0, 1e12]", name, strings.TrimSpace(val))
-		}
-		counts[s] = x
-		total += x
-	}
-	if !(total > 0) || math.IsInf(total, 0) {
-		return nil, usagef("setting mix: the population is empty")
-	}
-	return counts, nil
 }
 
 // classPolicy solves a class under its criterion and returns the advice
@@ -135,7 +88,7 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	start, err := startMix(r.Model, st.Start)
+	start, err := st.Start.Counts(r.Model)
 	if err != nil {
 		return err
 	}
@@ -168,9 +121,9 @@ func (a *app) simulateFleet(cmd *cobra.Command, ff *modelfile.Fleet, st settings
 	if err != nil {
 		return err
 	}
-	bar := a.progress(st.Simulate, "simulating", st.Progress)
-	sim, err := fleet.Simulate(cmd.Context(), f, p, st.Follow == "advice", st.Simulate, st.Seed, 0, bar.add)
-	bar.finish()
+	bar := progress.New(a.stderr, st.Simulate, "simulating", st.Progress)
+	sim, err := fleet.Simulate(cmd.Context(), f, p, st.Follow == "advice", st.Simulate, st.Seed, 0, bar.Add)
+	bar.Finish()
 	if err != nil {
 		return err
 	}

@@ -2,11 +2,15 @@ package settings
 
 import (
 	"fmt"
+	"math"
 	"slices"
+	"strings"
 	"time"
 
 	"github.com/spf13/pflag"
 
+	"fixpoint/cmd/internal/modelfile"
+	"fixpoint/condition"
 	"fixpoint/optimize"
 )
 
@@ -214,6 +218,50 @@ func (s *Source) Start() (Start, error) {
 		return st, Errorf("%s: %g is not a number of units in (0, 1e12]", where("units"), st.Units)
 	}
 	return st, nil
+}
+
+// Counts turns --mix or --from/--units into counts per state of m.
+func (st Start) Counts(m *condition.Model) ([]float64, error) {
+	n := len(m.States)
+	counts := make([]float64, n)
+	switch {
+	case st.From != "":
+		s := m.StateIndex(st.From)
+		if s < 0 {
+			return nil, Errorf("setting from: unknown state %q%s", st.From, modelfile.DidYouMean(st.From, m.StateNames()))
+		}
+		counts[s] = st.Units
+		return counts, nil
+	case st.Mix == "":
+		return nil, Errorf("give the starting population with --mix state=count,... or --from STATE")
+	}
+	seen := make(map[string]bool)
+	total := 0.0
+	for _, part := range strings.Split(st.Mix, ",") {
+		name, val, ok := strings.Cut(strings.TrimSpace(part), "=")
+		name = strings.TrimSpace(name)
+		if !ok || name == "" {
+			return nil, Errorf("setting mix: %q is not state=number", strings.TrimSpace(part))
+		}
+		s := m.StateIndex(name)
+		if s < 0 {
+			return nil, Errorf("setting mix: unknown state %q%s", name, modelfile.DidYouMean(name, m.StateNames()))
+		}
+		if seen[name] {
+			return nil, Errorf("setting mix: state %q given twice", name)
+		}
+		seen[name] = true
+		x, err := modelfile.ParseNumber(val)
+		if err != nil || x < 0 || x > 1e12 {
+			return nil, Errorf("setting mix: %s=%s is not a count or share in [0, 1e12]", name, strings.TrimSpace(val))
+		}
+		counts[s] = x
+		total += x
+	}
+	if !(total > 0) || math.IsInf(total, 0) {
+		return nil, Errorf("setting mix: the population is empty")
+	}
+	return counts, nil
 }
 
 // AddYears declares --years with its default ("" = the command's).

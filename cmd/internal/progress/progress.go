@@ -1,6 +1,9 @@
-package main
+// Package progress draws a progress bar on a terminal for long runs,
+// redrawing at most ten times a second.
+package progress
 
 import (
+	"io"
 	"os"
 	"time"
 
@@ -12,11 +15,11 @@ import (
 // most 10 redraws a second.
 const redraw = 100 * time.Millisecond
 
-// progressBar shows progress on stderr when it is a terminal, the run
-// takes longer than a second and the mode is not never (always shows it
-// whatever the terminal).
-type progressBar struct {
-	a     *app
+// Bar shows progress on w when it is a terminal, the run takes longer
+// than a second and the mode is not never (always shows it whatever w
+// is).
+type Bar struct {
+	w     io.Writer
 	total int
 	label string
 	mode  string
@@ -25,24 +28,25 @@ type progressBar struct {
 	bar   *progressbar.ProgressBar
 }
 
-func (a *app) progress(total int, label, mode string) *progressBar {
-	return &progressBar{a: a, total: total, label: label, mode: mode, start: time.Now()}
+// New returns a bar for total items with mode auto, always or never.
+func New(w io.Writer, total int, label, mode string) *Bar {
+	return &Bar{w: w, total: total, label: label, mode: mode, start: time.Now()}
 }
 
-func (b *progressBar) enabled() bool {
+func (b *Bar) enabled() bool {
 	switch b.mode {
 	case "never":
 		return false
 	case "always":
 		return true
 	}
-	f, ok := b.a.stderr.(*os.File)
+	f, ok := b.w.(*os.File)
 	return ok && term.IsTerminal(int(f.Fd())) && time.Since(b.start) > time.Second
 }
 
-// add is called with the number of items done (from any goroutine, one at
+// Add is called with the number of items done (from any goroutine, one at
 // a time); it redraws at most every redraw.
-func (b *progressBar) add(done int) {
+func (b *Bar) Add(done int) {
 	now := time.Now()
 	if now.Sub(b.last) < redraw && done < b.total {
 		return
@@ -52,7 +56,7 @@ func (b *progressBar) add(done int) {
 		if !b.enabled() {
 			return
 		}
-		b.bar = progressbar.NewOptions(b.total, progressbar.OptionSetWriter(b.a.stderr),
+		b.bar = progressbar.NewOptions(b.total, progressbar.OptionSetWriter(b.w),
 			progressbar.OptionSetDescription(b.label), progressbar.OptionShowCount(),
 			progressbar.OptionSetPredictTime(true), progressbar.OptionClearOnFinish(),
 			progressbar.OptionThrottle(redraw))
@@ -60,7 +64,8 @@ func (b *progressBar) add(done int) {
 	b.bar.Set(done)
 }
 
-func (b *progressBar) finish() {
+// Finish clears the bar.
+func (b *Bar) Finish() {
 	if b.bar != nil {
 		b.bar.Finish()
 	}
