@@ -1,7 +1,9 @@
 package main
 
 import (
+	"bytes"
 	"encoding/json"
+	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -238,5 +240,45 @@ func TestYAMLSyntaxErrorLine(t *testing.T) {
 	}
 	if code != exitInput || !strings.Contains(stderr, filepath.Base(path)+":"+strconv.Itoa(bad)+": YAML syntax error") {
 		t.Errorf("exit %d, want the error at line %d: %s", code, bad, stderr)
+	}
+}
+
+// Every file read in a run is protected, --force or not: a fleet's class
+// files and inventory, the settings file, a fit's records and config.
+func TestEveryInputProtected(t *testing.T) {
+	dir := t.TempDir()
+	for _, name := range []string{"east-zone.yaml", "pumps.yaml", "valves.yaml", "east-zone-inventory.csv", "pump-inspections.csv"} {
+		data, err := os.ReadFile(filepath.Join("..", "..", "configs", name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		os.WriteFile(filepath.Join(dir, name), data, 0o644)
+	}
+	settings := filepath.Join(dir, "s.yaml")
+	os.WriteFile(settings, []byte("tol: 0.01\n"), 0o644)
+	fleet, pumps, inv := filepath.Join(dir, "east-zone.yaml"), filepath.Join(dir, "pumps.yaml"), filepath.Join(dir, "east-zone-inventory.csv")
+	records := filepath.Join(dir, "pump-inspections.csv")
+	for _, args := range [][]string{
+		{"plan", fleet, "-o", pumps, "--force"},
+		{"plan", fleet, "-o", inv, "--force", "--format", "csv"},
+		{"forecast", fleet, "--simulate", "5", "-o", inv, "--force", "--format", "csv"},
+		{"brief", fleet, "-o", pumps, "--force"},
+		{"solve", pumps, "--settings", settings, "-o", settings, "--force"},
+		{"fit", records, "--config", pumps, "-o", records, "--force"},
+		{"fit", records, "--config", pumps, "--merge", "-o", pumps, "--force"},
+	} {
+		before := map[string][]byte{}
+		for _, f := range []string{fleet, pumps, inv, settings, records} {
+			before[f], _ = os.ReadFile(f)
+		}
+		code, _, stderr := runCLI(t, args...)
+		if code != exitUsage || !strings.Contains(stderr, "never overwrites a file it reads") {
+			t.Errorf("%v: exit %d, want a refusal: %s", args, code, stderr)
+		}
+		for f, data := range before {
+			if now, _ := os.ReadFile(f); !bytes.Equal(now, data) {
+				t.Fatalf("%v changed %s", args, f)
+			}
+		}
 	}
 }
