@@ -1,7 +1,6 @@
 package reports
 
 import (
-	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -271,7 +270,7 @@ func (a *Advice) WriteCSV(w io.Writer) error {
 	if err := writeCSVNotes(w, a.notes(r.Policy, p.Actions, a.Warnings)); err != nil {
 		return err
 	}
-	cw := csv.NewWriter(w)
+	cw := newCSV(w)
 	header := []string{"state", "unsafe", "action", "value", "lower", "upper", "runner_up", "margin"}
 	for _, name := range p.Actions {
 		header = append(header, "q_"+name)

@@ -41,3 +41,14 @@ func TestMoney(t *testing.T) {
 		}
 	}
 }
+
+// Cells a spreadsheet would run as formulas are neutralised; numbers,
+// negative ones included, are not (OWASP, "CSV Injection").
+func TestCSVCell(t *testing.T) {
+	for in, want := range map[string]string{"=HYPERLINK(1)": "'=HYPERLINK(1)", "+1+2": "'+1+2", "@SUM(A1)": "'@SUM(A1)",
+		"-1.5": "-1.5", "-x": "'-x", "worn": "worn", "": "", "\tcmd": "'\tcmd"} {
+		if got := csvCell(in); got != want {
+			t.Errorf("csvCell(%q) = %q, want %q", in, got, want)
+		}
+	}
+}

@@ -1,7 +1,6 @@
 package reports
 
 import (
-	"encoding/csv"
 	"fmt"
 	"io"
 	"strconv"
@@ -122,7 +121,7 @@ func (a *AverageAdvice) WriteCSV(w io.Writer) error {
 	if err := writeCSVNotes(w, a.notes(r.Policy, p.Actions, a.Warnings)); err != nil {
 		return err
 	}
-	cw := csv.NewWriter(w)
+	cw := newCSV(w)
 	header := []string{"state", "unsafe", "action", "bias", "runner_up", "margin"}
 	for _, name := range p.Actions {
 		header = append(header, "q_"+name)

@@ -1,7 +1,6 @@
 package reports
 
 import (
-	"encoding/csv"
 	"fmt"
 	"io"
 	"strings"
@@ -229,7 +228,7 @@ func (c *Comparison) WriteCSV(w io.Writer) error {
 	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
 		return err
 	}
-	cw := csv.NewWriter(w)
+	cw := newCSV(w)
 	cw.Write([]string{"rate", "nominal_rate", "discount_factor", "state", "action", "value", "equivalent_annual_cost", "changed"})
 	for _, r := range c.Compare.Rows {
 		nom := ""

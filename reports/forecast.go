@@ -1,7 +1,6 @@
 package reports
 
 import (
-	"encoding/csv"
 	"fmt"
 	"io"
 	"math"
@@ -140,7 +139,7 @@ func (f *Forecast) WriteCSV(w io.Writer) error {
 	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
 		return err
 	}
-	cw := csv.NewWriter(w)
+	cw := newCSV(w)
 	header := []string{"period", "year"}
 	for _, s := range f.States {
 		header = append(header, "count_"+s)

@@ -1,6 +1,7 @@
 package reports
 
 import (
+	"encoding/csv"
 	"io"
 	"math"
 	"strconv"
@@ -147,4 +148,30 @@ func wrap(b *strings.Builder, line string, width int) {
 		col += utf8.RuneCountInString(word)
 	}
 	b.WriteByte('\n')
+}
+
+// csvWriter is a CSV writer that neutralises cells a spreadsheet would run
+// as a formula: text (not a number) that starts with "=", "+", "-", "@",
+// a tab or a carriage return gets a leading "'" (OWASP, "CSV Injection").
+type csvWriter struct{ *csv.Writer }
+
+func newCSV(w io.Writer) csvWriter { return csvWriter{csv.NewWriter(w)} }
+
+// Write writes one row, neutralised.
+func (w csvWriter) Write(row []string) error {
+	out := make([]string, len(row))
+	for i, cell := range row {
+		out[i] = csvCell(cell)
+	}
+	return w.Writer.Write(out)
+}
+
+func csvCell(s string) string {
+	if s == "" || !strings.ContainsRune("=+-@\t\r", rune(s[0])) {
+		return s
+	}
+	if _, err := strconv.ParseFloat(s, 64); err == nil {
+		return s
+	}
+	return "'" + s
 }

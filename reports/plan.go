@@ -1,7 +1,6 @@
 package reports
 
 import (
-	"encoding/csv"
 	"fixpoint/optimize/fleet"
 	"fmt"
 	"io"
@@ -192,7 +191,7 @@ func (r *PlanReport) WriteCSV(w io.Writer) error {
 	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
 		return err
 	}
-	cw := csv.NewWriter(w)
+	cw := newCSV(w)
 	cw.Write([]string{"year", "class", "condition", "action", "units", "expected_units", "budget", "spend"})
 	for t, b := range f.Budget {
 		for c, fc := range f.Classes {

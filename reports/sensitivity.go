@@ -1,7 +1,6 @@
 package reports
 
 import (
-	"encoding/csv"
 	"fmt"
 	"io"
 	"math"
@@ -146,7 +145,7 @@ func (s *Sensitivity) WriteCSV(w io.Writer) error {
 	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
 		return err
 	}
-	cw := csv.NewWriter(w)
+	cw := newCSV(w)
 	cw.Write([]string{"kind", "state_or_figure", "advice_or_path", "action_or_value", "margin_or_lower", "upper"})
 	for _, m := range s.margins() {
 		cw.Write([]string{"margin", m.State, m.Advice, m.Action, Fixed(m.Margin, 6), ""})

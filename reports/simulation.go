@@ -1,7 +1,6 @@
 package reports
 
 import (
-	"encoding/csv"
 	"fixpoint/optimize/fleet"
 	"fmt"
 	"io"
@@ -107,7 +106,7 @@ func (r *SimulationReport) WriteCSV(w io.Writer) error {
 	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
 		return err
 	}
-	cw := csv.NewWriter(w)
+	cw := newCSV(w)
 	cw.Write([]string{"year", "quantity", "mean", "se", "p10", "p50", "p90"})
 	row := func(t int, name string, q fleet.Quantiles) {
 		cw.Write([]string{strconv.Itoa(t + 1), name, Fixed(q.Mean, 4), Fixed(q.SE, 4), Fixed(q.P10, 4), Fixed(q.P50, 4), Fixed(q.P90, 4)})

@@ -1,7 +1,6 @@
 package reports
 
 import (
-	"encoding/csv"
 	"fixpoint/optimize/system"
 	"fmt"
 	"io"
@@ -209,7 +208,7 @@ func (s *SystemAdvice) WriteCSV(w io.Writer) error {
 	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
 		return err
 	}
-	cw := csv.NewWriter(w)
+	cw := newCSV(w)
 	header := []string{"state"}
 	for _, c := range sys.Components {
 		header = append(header, c.Name)

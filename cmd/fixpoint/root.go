@@ -196,7 +196,7 @@ func (a *app) load(cmd *cobra.Command, path string, want ...modelfile.Kind) (*mo
 	}
 	a.inputs = append(a.inputs, f.Inputs...)
 	if !slices.Contains(want, f.Kind) {
-		what := "this is " + article(f.Kind.String()) + " " + f.Kind.String()
+		what := "this is " + f.Kind.Article()
 		switch f.Kind {
 		case modelfile.EmptyFile:
 			what = "the file is empty"
@@ -206,14 +206,6 @@ func (a *app) load(cmd *cobra.Command, path string, want ...modelfile.Kind) (*mo
 		return nil, &modelfile.Fault{File: path, Msg: fmt.Sprintf("%s, which %s does not take; %s", what, cmd.Name(), takers[f.Kind])}
 	}
 	return f, nil
-}
-
-// article is "a" or "an" before word.
-func article(word string) string {
-	if word != "" && strings.ContainsRune("aeiou", rune(word[0])) {
-		return "an"
-	}
-	return "a"
 }
 
 // target returns where a command writes o, protecting every input.

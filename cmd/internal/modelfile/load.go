@@ -104,14 +104,14 @@ func Load(ctx context.Context, path string, opts Options) (*File, error) {
 	if err != nil {
 		return nil, err
 	}
-	return l.file(path, data)
+	return l.file(path, data, 0)
 }
 
 // Decode decodes the model file data named file, as Load does (fleets
 // read their class files and inventory from the disk).
 func Decode(ctx context.Context, file string, data []byte, opts Options) (*File, error) {
 	l := &loader{ctx: ctx, opts: opts, inputs: []string{file}}
-	return l.file(file, data)
+	return l.file(file, data, 0)
 }
 
 // loader reads the files of one load.
@@ -150,8 +150,10 @@ func (l *loader) read(path string, limit int64) ([]byte, error) {
 	return data, nil
 }
 
-// file recognises data and decodes it when it is a model file.
-func (l *loader) file(path string, data []byte) (*File, error) {
+// file recognises data and decodes it when it is a model file of kind
+// want (0: any kind); a model file of another kind is refused before its
+// content is decoded (so fleet files naming each other cannot recurse).
+func (l *loader) file(path string, data []byte, want Kind) (*File, error) {
 	f := &File{Path: path, Kind: sniffBytes(data)}
 	if f.Kind != OtherFile {
 		f.Inputs = l.inputs
@@ -168,6 +170,9 @@ func (l *loader) file(path string, data []byte) (*File, error) {
 	sum := sha256.Sum256(data)
 	f.SHA256 = hex.EncodeToString(sum[:])
 	f.Kind = sniffNode(root)
+	if want != 0 && f.Kind != want {
+		return nil, &Fault{File: path, Msg: fmt.Sprintf("is %s, not a %s", f.Kind.Article(), want)}
+	}
 	switch f.Kind {
 	case FleetFile:
 		f.Fleet = &Fleet{Path: path, Name: path}
@@ -207,14 +212,26 @@ func (l *loader) class(path string) (*Class, error) {
 		}
 		return nil, err
 	}
-	f, err := l.file(path, data)
+	if k := sniffBytes(data); k != OtherFile {
+		return nil, &Fault{File: path, Msg: fmt.Sprintf("is %s, not a class config", k.Article())}
+	}
+	f, err := l.file(path, data, ClassFile)
 	if err != nil {
 		return nil, err
 	}
-	if f.Kind != ClassFile {
-		return nil, &Fault{File: path, Msg: fmt.Sprintf("is a %s, not a class config", f.Kind)}
+	if f.Class == nil {
+		return nil, &Fault{File: path, Msg: "is not a class config"}
 	}
 	return f.Class, nil
+}
+
+// Article returns the kind's name after "a" or "an": "an inventory CSV".
+func (k Kind) Article() string {
+	word := k.String()
+	if word != "" && strings.ContainsRune("aeiou", rune(word[0])) {
+		return "an " + word
+	}
+	return "a " + word
 }
 
 // modelKeys are top-level keys only model files have.
