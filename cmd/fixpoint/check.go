@@ -1,9 +1,12 @@
 package main
 
 import (
-	_ "embed"
+	"embed"
 	"fmt"
 	"os"
+	"path/filepath"
+	"slices"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -29,8 +32,8 @@ func (a *app) newCheck() *cobra.Command {
 			switch {
 			case f.Fleet != nil:
 				ff := f.Fleet
-				fmt.Fprintf(a.stdout, "%s: ok: fleet %q, %d classes, %d units, %d years of budget, periods of %s\n",
-					path, ff.Name, len(ff.Classes), ff.Units, ff.Years, ff.Classes[0].Period)
+				fmt.Fprintf(a.stdout, "%s: ok: fleet %q, %s, %s, %s of budget, periods of %s\n",
+					path, ff.Name, count(len(ff.Classes), "class", "classes"), count(ff.Units, "unit", "units"), count(ff.Years, "year", "years"), ff.Classes[0].Period)
 			case f.System != nil:
 				m, err := f.System.Machine()
 				if err != nil {
@@ -56,15 +59,33 @@ func (a *app) newCheck() *cobra.Command {
 	}
 }
 
-//go:embed starter.yaml
-var starter []byte
+// count says n things: "1 class", "3 classes".
+func count(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return fmt.Sprintf("%d %s", n, many)
+}
+
+//go:embed starters
+var starters embed.FS
+
+// starterKinds are the files init writes, by --kind.
+var starterKinds = []string{"class", "system", "fleet", "records"}
 
 func (a *app) newInit() *cobra.Command {
-	return &cobra.Command{
+	cmd := &cobra.Command{
 		Use:   "init [PATH]",
-		Short: "Write a commented starter class config (default fixpoint.yaml; - for standard output)",
+		Short: "Write a commented starter file: a class config, a system, a fleet with its class and inventory, or records",
+		Long: `init writes a commented starter file of the kind given by --kind (default
+class) at PATH (default fixpoint.yaml, or fixpoint.csv for records; - for
+standard output). A fleet starter comes with a class config and an inventory
+beside it (PATH-class.yaml and PATH-inventory.csv). Every number in a starter
+is an invented placeholder. init never overwrites a file.`,
 		Example: `  fixpoint init pumps.yaml
-  fixpoint init - | less`,
+  fixpoint init --kind system crane.yaml
+  fixpoint init --kind fleet depot.yaml && fixpoint plan depot.yaml
+  fixpoint init --kind records inspections.csv`,
 		Args: func(_ *cobra.Command, args []string) error {
 			if len(args) > 1 {
 				return usagef("want at most one path, got %d", len(args))
@@ -72,22 +93,71 @@ func (a *app) newInit() *cobra.Command {
 			return nil
 		},
 		RunE: func(cmd *cobra.Command, args []string) error {
+			kind, _ := cmd.Flags().GetString("kind")
+			if !slices.Contains(starterKinds, kind) {
+				return usagef("unknown kind %q; want class, system, fleet or records", kind)
+			}
 			path := "fixpoint.yaml"
+			if kind == "records" {
+				path = "fixpoint.csv"
+			}
 			if len(args) == 1 {
 				path = args[0]
 			}
+			files, err := starterFiles(kind, path)
+			if err != nil {
+				return err
+			}
 			if path == "-" {
-				_, err := a.stdout.Write(starter)
+				_, err := a.stdout.Write(files[0].data)
 				return err
 			}
-			if _, err := os.Lstat(path); err == nil {
-				return usagef("%s exists; init never overwrites a file", path)
+			for _, f := range files {
+				if _, err := os.Lstat(f.path); err == nil {
+					return usagef("%s exists; init never overwrites a file", f.path)
+				}
 			}
-			if err := (outfile.Target{Path: path}).WriteBytes(cmd.Context(), starter); err != nil {
-				return err
+			for _, f := range files {
+				if err := (outfile.Target{Path: f.path}).WriteBytes(cmd.Context(), f.data); err != nil {
+					return err
+				}
+				fmt.Fprintf(a.stdout, "wrote %s\n", f.path)
 			}
-			fmt.Fprintf(a.stdout, "wrote %s: edit it, then run 'fixpoint check %s'\n", path, path)
+			next := "check " + path
+			if kind == "records" {
+				next = "fit " + path + " --config CLASS.yaml"
+			}
+			fmt.Fprintf(a.stdout, "edit it, then run 'fixpoint %s'\n", next)
 			return nil
 		},
 	}
+	cmd.Flags().String("kind", "class", "what to write: class, system, fleet (with its class and inventory) or records")
+	return cmd
+}
+
+type starterFile struct {
+	path string
+	data []byte
+}
+
+// starterFiles returns the files of a starter of kind at path, the main
+// one first.
+func starterFiles(kind, path string) ([]starterFile, error) {
+	name := map[string]string{"class": "class.yaml", "system": "system.yaml", "fleet": "fleet.yaml", "records": "records.csv"}[kind]
+	data, err := starters.ReadFile("starters/" + name)
+	if err != nil {
+		return nil, err
+	}
+	if kind != "fleet" {
+		return []starterFile{{path, data}}, nil
+	}
+	base := strings.TrimSuffix(path, filepath.Ext(path))
+	if path == "-" {
+		base = "fleet"
+	}
+	class, inv := base+"-class.yaml", base+"-inventory.csv"
+	classData, _ := starters.ReadFile("starters/class.yaml")
+	invData, _ := starters.ReadFile("starters/inventory.csv")
+	text := strings.NewReplacer("CLASS", filepath.Base(class), "INVENTORY", filepath.Base(inv)).Replace(string(data))
+	return []starterFile{{path, []byte(text)}, {class, classData}, {inv, invData}}, nil
 }

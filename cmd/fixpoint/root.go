@@ -117,6 +117,7 @@ proven optimality, and reports what to do in every condition.
 
 Output is advisory: statutory and safety inspections follow local regulation,
 and a competent or licensed inspector's finding overrides the advice.`,
+		Version:       version(),
 		SilenceErrors: true,
 		SilenceUsage:  true,
 		PersistentPreRunE: func(cmd *cobra.Command, _ []string) error {
@@ -133,6 +134,7 @@ and a competent or licensed inspector's finding overrides the advice.`,
 	}
 	root.PersistentFlags().String("settings", "", "run-time settings `file` (YAML, TOML or JSON; env FIXPOINT_SETTINGS)")
 	root.PersistentFlags().Bool("renormalize", false, "divide rows that miss 1 only by 3-decimal rounding by their sum (each change is noted)")
+	root.SetVersionTemplate("fixpoint {{.Version}}\n")
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usagef("%v", err) })
 	root.AddCommand(a.newSolve(), a.newCompare(), a.newSensitivity(), a.newForecast(), a.newPlan(), a.newBrief(),
 		a.newFit(), a.newCheck(), a.newInit())
