@@ -264,7 +264,7 @@ func writeJSON(w io.Writer, v any) error {
 // have six decimals.
 func (a *Advice) WriteCSV(w io.Writer) error {
 	r, p := a.Result, a.Problem
-	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
+	if err := a.writeCSVPreamble(w, "expected discounted cost (present value)"); err != nil {
 		return err
 	}
 	if err := writeCSVNotes(w, a.notes(r.Policy, p.Actions, a.Warnings)); err != nil {

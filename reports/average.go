@@ -115,7 +115,7 @@ func (a *AverageAdvice) WriteJSON(w io.Writer) error {
 // state, unsafe, action, bias, runner_up, margin, q_<action>...
 func (a *AverageAdvice) WriteCSV(w io.Writer) error {
 	r, p := a.Result, a.Problem
-	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
+	if err := a.writeCSVPreamble(w, "average"); err != nil {
 		return err
 	}
 	if err := writeCSVNotes(w, a.notes(r.Policy, p.Actions, a.Warnings)); err != nil {

@@ -19,6 +19,14 @@ type Forecast struct {
 	Forecast *optimize.Forecast
 }
 
+// criterion says what the present value of the forecast is.
+func (f *Forecast) criterion() string {
+	if f.Factor == 1 {
+		return "average"
+	}
+	return "expected discounted cost (present value)"
+}
+
 // year returns the year at the start of period k.
 func (f *Forecast) year(k int) float64 { return f.Period.Start(k) }
 
@@ -136,7 +144,7 @@ func (f *Forecast) byState(x []float64) map[string]float64 {
 // WriteCSV writes a caution comment line, then one row per period: period,
 // year, count_<state>..., spend_<action>..., running_cost, total_spend.
 func (f *Forecast) WriteCSV(w io.Writer) error {
-	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
+	if err := f.writeCSVPreamble(w, f.criterion()); err != nil {
 		return err
 	}
 	cw := newCSV(w)

@@ -93,3 +93,28 @@ func writeCSVNotes(w io.Writer, notes []string) error {
 	}
 	return nil
 }
+
+// writeCSVPreamble writes the comment lines every CSV starts with: the
+// caution, then what its numbers are (model, currency, period, discount
+// or criterion), so that a bare file still says what it holds.
+func (h *Header) writeCSVPreamble(w io.Writer, criterion string) error {
+	lines := []string{Caution, "model: " + h.Model, "currency: " + h.Currency}
+	if h.Period.Valid() {
+		lines = append(lines, "period: "+h.Period.String())
+	}
+	switch {
+	case criterion == "average":
+		lines = append(lines, "criterion: long-run average cost per period (undiscounted)")
+	case criterion != "":
+		lines = append(lines, "criterion: "+criterion)
+	}
+	if !h.Discount.IsZero() && criterion != "average" {
+		lines = append(lines, "discount: "+h.Discount.String()+"; costs at the start of each period")
+	}
+	for _, l := range lines {
+		if _, err := fmt.Fprintf(w, "# %s\n", l); err != nil {
+			return err
+		}
+	}
+	return nil
+}

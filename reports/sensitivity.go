@@ -142,7 +142,7 @@ func (s *Sensitivity) WriteJSON(w io.Writer) error {
 // "margin": state, advice, action, margin) and the cost figures (kind
 // "figure": figure, path, value, lower, upper; empty when unlimited).
 func (s *Sensitivity) WriteCSV(w io.Writer) error {
-	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
+	if err := s.writeCSVPreamble(w, "expected discounted cost (present value)"); err != nil {
 		return err
 	}
 	cw := newCSV(w)

@@ -205,7 +205,7 @@ func (s *SystemAdvice) rulesText() string {
 // component action, value, lower, upper, runner_up, margin.
 func (s *SystemAdvice) WriteCSV(w io.Writer) error {
 	sys, r := s.System, s.Result
-	if _, err := fmt.Fprintf(w, "# %s\n", Caution); err != nil {
+	if err := s.writeCSVPreamble(w, "expected discounted cost (present value)"); err != nil {
 		return err
 	}
 	cw := newCSV(w)
