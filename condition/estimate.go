@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 )
 
@@ -57,7 +58,8 @@ type FitOptions struct {
 	Structure Structure
 	// Bootstrap is the number of bootstrap replicates over units (0 for
 	// none); Seed seeds them; Level is the interval's coverage (default
-	// 0.9); Workers is the number of goroutines (default 1).
+	// 0.9); Workers is the number of goroutines (default 1). With fewer
+	// than MinBootstrapUnits units the fit carries a warning.
 	Bootstrap int
 	Seed      uint64
 	Level     float64
@@ -79,14 +81,26 @@ type RowEstimate struct {
 	ESS float64
 }
 
+// MinBootstrapUnits is the number of units below which the bootstrap over
+// units is too coarse for its intervals to mean much (common practice, no
+// source): it resamples whole units, so it shows the variation between
+// units and, through them, within them; with one unit every replicate is
+// the same data and every interval has zero width.
+const MinBootstrapUnits = 30
+
 // GoodnessOfFit is a likelihood-ratio (G) test of the fitted model
 // against the observed transitions grouped by action, from-state,
 // interval length (quarters of a period) and half of the observation
-// window: G = 2 Σ O ln(O/E), with DF degrees of freedom.
+// window: G = 2 Σ O ln(O/E), on DF = Σ_groups (cells − 1) − parameters
+// degrees of freedom, where a group's cells are the end states the model
+// gives a positive probability. When DF would be 0 or less the test
+// cannot be made: Skipped says why, DF is 0 and Statistic and PValue are
+// NaN.
 type GoodnessOfFit struct {
 	Statistic float64
 	DF        int
 	PValue    float64
+	Skipped   string
 }
 
 // Fit is the estimate of the transition rows of every action with
@@ -100,11 +114,27 @@ type Fit struct {
 	// Counts[a][i][j] are the observed transitions used.
 	Counts [][][]int
 	// Generator is the fitted passive generator per year (nil for
-	// Counting).
+	// Counting). Generator[i] is nil when no interval without recorded work
+	// starts in state i: the likelihood then bears on its rates only
+	// through paths that pass through i, so they are not reported (the
+	// fitted rows P use them as fitted).
 	Generator [][]float64
 	Fit       GoodnessOfFit
-	Warnings  []Warning
+	// Units is the number of units whose transitions were used.
+	Units    int
+	Warnings []Warning
 }
+
+// InsufficientDataError is returned by Estimate when the panel cannot
+// support the fit: no usable transition, or (generator method) no interval
+// without recorded work. Warnings are the data problems Estimate found
+// before it stopped (intervals it left out).
+type InsufficientDataError struct {
+	Msg      string
+	Warnings []Warning
+}
+
+func (e *InsufficientDataError) Error() string { return "condition: estimate: " + e.Msg }
 
 // IntervalsRegular reports whether every interval is within
 // RegularTolerance of one period.
@@ -130,7 +160,8 @@ func regular(days int, periodYears float64) bool {
 // (Van Loan 1978, block-triangular form) and BFGS on log-rates; a
 // recorded action's rows are A·exp(Q·period), with A the immediate effect
 // of the work, fitted by EM as a mixture given Q. Confidence intervals
-// come from a bootstrap over units.
+// come from a bootstrap over units. A panel that supports no fit gives an
+// *InsufficientDataError.
 func Estimate(ctx context.Context, p *Panel, o FitOptions) (*Fit, error) {
 	if o.States < 1 || !(o.PeriodYears > 0) || o.Passive < 0 || o.Passive >= len(o.Actions) {
 		return nil, errors.New("condition: estimate: bad options")
@@ -143,24 +174,31 @@ func Estimate(ctx context.Context, p *Panel, o FitOptions) (*Fit, error) {
 	used := p
 	if o.Method == Counting {
 		used = &Panel{Units: p.Units}
+		var log problemLog
+		far := &problemKind{many: fmt.Sprintf("%%d intervals are more than %.0f%%%% away from one period (%.0f days) and are left out of the counting estimate",
+			100*RegularTolerance, o.PeriodYears*DaysPerYear)}
 		for _, t := range p.Transitions {
 			if !regular(t.Days, o.PeriodYears) {
-				f.Warnings = append(f.Warnings, Warning{t.Line, fmt.Sprintf("interval of %d days is more than %.0f%% away from one period (%.0f days); left out of the counting estimate",
-					t.Days, 100*RegularTolerance, o.PeriodYears*DaysPerYear)})
+				log.add(far, t.Line, fmt.Sprintf("interval of %d days is more than %.0f%% away from one period (%.0f days); left out of the counting estimate",
+					t.Days, 100*RegularTolerance, o.PeriodYears*DaysPerYear), fmt.Sprintf("(%d days)", t.Days))
 				continue
 			}
 			used.Transitions = append(used.Transitions, t)
 		}
+		f.Warnings = log.warnings()
 	}
 	if len(used.Transitions) == 0 {
-		return nil, errors.New("condition: estimate: no usable transitions")
+		return nil, &InsufficientDataError{Msg: "no usable transitions", Warnings: f.Warnings}
 	}
 	est := newEstimator(o, used)
 	base, err := est.fit(used.Transitions, nil)
+	var short *InsufficientDataError
+	if errors.As(err, &short) {
+		short.Warnings = f.Warnings
+	}
 	if err != nil {
 		return nil, err
 	}
-	f.Generator = base.q
 	f.Counts = est.counts(used.Transitions)
 	f.Rows = make([][]*RowEstimate, len(o.Actions))
 	for a := range o.Actions {
@@ -176,10 +214,30 @@ func Estimate(ctx context.Context, p *Panel, o FitOptions) (*Fit, error) {
 			f.Rows[a][s] = &RowEstimate{N: n, P: base.p[a][s], ESS: float64(n)}
 		}
 	}
+	if base.q != nil {
+		f.Generator = make([][]float64, o.States)
+		for s, row := range base.q {
+			if f.Rows[o.Passive][s] != nil {
+				f.Generator[s] = slices.Clone(row)
+			}
+		}
+	}
+	units := make(map[int]bool)
 	for _, t := range used.Transitions {
+		units[t.Unit] = true
 		if r := f.Rows[t.Action][t.From]; r != nil {
 			r.ExposureYears += float64(t.Days) / DaysPerYear
 		}
+	}
+	f.Units = len(units)
+	if o.Bootstrap > 0 && f.Units < MinBootstrapUnits {
+		units := fmt.Sprintf("%d units", f.Units)
+		if f.Units == 1 {
+			units = "1 unit"
+		}
+		f.Warnings = append(f.Warnings, Warning{0, fmt.Sprintf("the intervals resample units, and the transitions used come from %s, fewer than %d: "+
+			"too few for the intervals to show the uncertainty (they understate it; with one unit every replicate is the same data and every interval has zero width)",
+			units, MinBootstrapUnits)})
 	}
 	if o.Bootstrap > 0 {
 		if err := est.bootstrap(ctx, f, base); err != nil {

@@ -59,7 +59,7 @@ const (
 // fitGenerator maximises the panel likelihood over the log-rates.
 func (e *estimator) fitGenerator(passive []Transition, counts [][][]int, warm *model) ([]float64, error) {
 	if len(passive) == 0 {
-		return nil, errors.New("condition: estimate: no intervals without recorded work, so no passive generator can be fitted")
+		return nil, &InsufficientDataError{Msg: "no intervals without recorded work, so no passive generator can be fitted"}
 	}
 	data := e.group(passive)
 	x0 := make([]float64, len(e.pairs))
@@ -97,7 +97,10 @@ func (e *estimator) fitGenerator(passive []Transition, counts [][][]int, warm *m
 	if res == nil {
 		return nil, fmt.Errorf("condition: estimate: generator fit failed: %v", err)
 	}
-	if err != nil && !errors.Is(err, optimize.ErrLinesearcherFailure) && res.Status != optimize.IterationLimit {
+	// A line search that fails or cannot move the point any more stops
+	// at the best point found: on these likelihoods that happens at the
+	// optimum to rounding (tiny panels, rates at the ridge floor).
+	if err != nil && !errors.Is(err, optimize.ErrLinesearcherFailure) && !errors.Is(err, optimize.ErrNoProgress) && res.Status != optimize.IterationLimit {
 		return nil, fmt.Errorf("condition: estimate: generator fit: %w", err)
 	}
 	return res.X, nil

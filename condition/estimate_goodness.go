@@ -1,6 +1,7 @@
 package condition
 
 import (
+	"fmt"
 	"math"
 	"slices"
 
@@ -12,7 +13,7 @@ import (
 func (e *estimator) goodness(ts []Transition, m *model) GoodnessOfFit {
 	n := e.o.States
 	if len(ts) == 0 {
-		return GoodnessOfFit{PValue: math.NaN()}
+		return GoodnessOfFit{Statistic: math.NaN(), PValue: math.NaN(), Skipped: "not tested: no transitions"}
 	}
 	ends := make([]int, len(ts))
 	for i, t := range ts {
@@ -64,11 +65,14 @@ func (e *estimator) goodness(ts []Transition, m *model) GoodnessOfFit {
 		}
 		df += max(cats-1, 0)
 	}
-	df -= e.params(m)
-	out := GoodnessOfFit{Statistic: max(g, 0), DF: df, PValue: math.NaN()}
-	if df > 0 {
-		out.PValue = distuv.ChiSquared{K: float64(df)}.Survival(out.Statistic)
+	params := e.params(m)
+	if df <= params {
+		return GoodnessOfFit{Statistic: math.NaN(), PValue: math.NaN(),
+			Skipped: fmt.Sprintf("not tested: the grouped counts have %d degrees of freedom and the model %d free parameters, which leaves none for a test; more records are needed", df, params)}
 	}
+	df -= params
+	out := GoodnessOfFit{Statistic: max(g, 0), DF: df}
+	out.PValue = distuv.ChiSquared{K: float64(df)}.Survival(out.Statistic)
 	return out
 }
 
