@@ -167,11 +167,14 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		return err
 	}
 	if err != nil {
-		return &inputError{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: estimate: ")}
+		return estimateError(path, err, warn)
 	}
 	est.Warnings = append(warn, est.Warnings...)
 	rep := &reports.FitReport{Source: path, States: states, Unsafe: unsafe, Passive: passive, Fit: est,
 		Bootstrap: opts.Bootstrap, Seed: opts.Seed, Level: opts.Level, Rough: roughRow}
+	if c != nil {
+		rep.Model = c.Model
+	}
 	for ai, rows := range est.Rows {
 		for s, r := range rows {
 			if r != nil && r.N < roughRow {
@@ -208,6 +211,25 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		return (output{}).write(cmd.Context(), a.stdout, render)
 	}
 	return out.write(cmd.Context(), a.stdout, render)
+}
+
+// estimateError reports a failed estimate; when the records could not
+// support it, the data problems found follow, one per line.
+func estimateError(path string, err error, warn []condition.Warning) error {
+	msg := strings.TrimPrefix(err.Error(), "condition: estimate: ")
+	var short *condition.InsufficientDataError
+	if !errors.As(err, &short) {
+		return &inputError{File: path, Msg: msg}
+	}
+	warn = append(warn, short.Warnings...)
+	if len(warn) == 0 {
+		return &inputError{File: path, Msg: msg + "; the file has no inspection records"}
+	}
+	errs := []error{&inputError{File: path, Msg: fmt.Sprintf("%s; the data problems found (%d):", msg, len(warn))}}
+	for _, w := range warn {
+		errs = append(errs, &inputError{File: path, Line: w.Line, Msg: w.Message})
+	}
+	return errors.Join(errs...)
 }
 
 func (a *app) fitOptions(states []string, period float64, passive int) (condition.FitOptions, error) {
