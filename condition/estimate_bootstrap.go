@@ -2,10 +2,11 @@ package condition
 
 import (
 	"context"
-	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"sync"
 
 	"gonum.org/v1/gonum/stat"
@@ -51,8 +52,20 @@ func (e *estimator) bootstrap(ctx context.Context, f *Fit, base *model) error {
 	if err := ctx.Err(); err != nil {
 		return err
 	}
-	if err := errors.Join(errs...); err != nil {
-		return err
+	// One error for all failed replicates: they fail alike, typically when
+	// a resample of few units draws no interval without recorded work.
+	failed, first := 0, -1
+	for b, err := range errs {
+		if err != nil {
+			failed++
+			if first < 0 {
+				first = b
+			}
+		}
+	}
+	if failed > 0 {
+		return fmt.Errorf("condition: estimate: bootstrap: %d of %d replicates could not be fitted (replicate %d: %s); the bootstrap over these %d units cannot run; fit without one",
+			failed, o.Bootstrap, first, strings.TrimPrefix(errs[first].Error(), "condition: estimate: "), f.Units)
 	}
 	lo, hi := (1-o.Level)/2, 1-(1-o.Level)/2
 	for a, rows := range f.Rows {

@@ -158,3 +158,26 @@ func TestEstimateInsufficientData(t *testing.T) {
 		t.Errorf("generator with no passive interval: err = %v, want an *InsufficientDataError", err)
 	}
 }
+
+// A bootstrap replicate that cannot be fitted (two units, one only ever
+// replaced: a resample may draw no interval without recorded work) gives
+// one plain error for all such replicates, not a data error about the
+// records, which do support the fit itself.
+func TestEstimateBootstrapFailure(t *testing.T) {
+	p := &Panel{Units: []string{"left", "replaced"}}
+	for i := range 10 {
+		p.Transitions = append(p.Transitions,
+			Transition{Unit: 0, From: 0, To: i % 2, Days: 300, End: 300 * (i + 1), Line: 2 + i},
+			Transition{Unit: 1, From: 1, To: 0, Days: 300, End: 300 * (i + 1), Action: 1, Line: 20 + i})
+	}
+	o := FitOptions{States: 2, PeriodYears: 1, Actions: []string{"leave", "replace"}, Method: Generator}
+	if _, err := Estimate(context.Background(), p, o); err != nil {
+		t.Fatalf("without bootstrap: %v", err)
+	}
+	o.Bootstrap, o.Seed = 40, 1
+	_, err := Estimate(context.Background(), p, o)
+	var short *InsufficientDataError
+	if err == nil || errors.As(err, &short) || !strings.Contains(err.Error(), "replicates could not be fitted") || strings.Count(err.Error(), "condition:") != 1 {
+		t.Errorf("bootstrap of 2 units: err = %v, want one plain error for the failed replicates", err)
+	}
+}
