@@ -12,6 +12,17 @@
 // when it has a row for it; the passive action is never admissible in an
 // unsafe state. Rows must sum to 1 within RowTolerance.
 //
+// Estimation. ReadRecords reads inspection records from CSV, BuildPanel
+// turns them into transitions between consecutive inspections of a unit,
+// and Estimate fits the rows of every action with data: by counting
+// (intervals of one period) or by a continuous-time generator fitted by
+// maximum likelihood, with bootstrap intervals over units and a G test.
+// Rows and generator rows without data are nil, never guessed. Data
+// problems are Warnings, not errors, one per kind: a kind that recurs is
+// summarised with its count and first few lines, so that the warnings of
+// a file stay bounded whatever its size. A panel that supports no fit
+// gives an *InsufficientDataError carrying the warnings Estimate found.
+//
 // Errors. Validate reports every fault at once (errors.Join of *Fault
 // values with state, action and target indices) so that callers can point
 // at the place in their own input; messages are prefixed "condition:".

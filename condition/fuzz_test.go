@@ -13,20 +13,41 @@ func FuzzReadRecords(f *testing.F) {
 	f.Add("unit,date,condition\np,2020-01-01\n")
 	f.Add("\ufeffunit;date;condition\n")
 	f.Fuzz(func(t *testing.T, in string) {
-		recs, _, err := ReadRecords(strings.NewReader(in), scale3)
+		recs, warn, err := ReadRecords(strings.NewReader(in), scale3)
 		if err != nil {
 			return
 		}
+		checkWarnings(t, "ReadRecords", warn, 3)
 		for _, r := range recs {
 			if r.Condition < 0 || r.Condition >= len(scale3) || r.Unit == "" {
 				t.Fatalf("bad record %+v", r)
 			}
 		}
-		p, _, _ := BuildPanel(recs, PanelOptions{Actions: []string{"leave"}, NewActions: true})
+		p, _, warn := BuildPanel(recs, PanelOptions{Actions: []string{"leave"}, NewActions: true})
+		checkWarnings(t, "BuildPanel", warn, 5)
 		for _, tr := range p.Transitions {
 			if tr.Days <= 0 {
 				t.Fatalf("transition of %d days", tr.Days)
 			}
 		}
 	})
+}
+
+// checkWarnings checks that warnings come one per kind (at most kinds of
+// them) and that each is bounded in size and free of control characters.
+func checkWarnings(t *testing.T, what string, warn []Warning, kinds int) {
+	t.Helper()
+	if len(warn) > kinds {
+		t.Fatalf("%s: %d warnings, want at most %d (one per kind): %v", what, len(warn), kinds, warn)
+	}
+	for _, w := range warn {
+		// 10 names or 5 values of at most maxQuoted bytes each, escaped
+		// (at most 4 bytes per byte), and the fixed text.
+		if len(w.Message) > 2048 {
+			t.Fatalf("%s: warning of %d bytes: %.200q", what, len(w.Message), w.Message)
+		}
+		if strings.ContainsFunc(w.Message, func(r rune) bool { return r < ' ' || r == 0x7f }) {
+			t.Fatalf("%s: warning with a control character: %q", what, w.Message)
+		}
+	}
 }

@@ -38,8 +38,13 @@ const MaxRecords = 2_000_000
 // with "#" are comments. Dates are ISO
 // 8601 (YYYY-MM-DD); conditions are names of states. A record with a bad
 // date, an unknown condition or no unit is reported as a Warning and left
-// out. A missing header or column, or more than MaxRecords records, is an
-// error.
+// out: one warning per kind of problem, at its line when it occurs once,
+// otherwise a summary at line 0 with the count and the first few lines
+// (values clipped, the states wanted listed up to ten), so that the
+// warnings stay bounded whatever the size of the file. An unknown
+// condition that matches a state but for case, spaces, "_" or "-" gets a
+// "did you mean" hint. A missing header or column, or more than MaxRecords
+// records, is an error.
 func ReadRecords(r io.Reader, states []string) ([]Record, []Warning, error) {
 	return readRecords(r, states, MaxRecords)
 }
@@ -77,8 +82,13 @@ func readRecords(r io.Reader, states []string, limit int) ([]Record, []Warning, 
 	}
 	var (
 		out  []Record
-		warn []Warning
+		log  problemLog
+		want = nameList(states)
+		near = newSuggester(states)
 	)
+	noUnit := &problemKind{many: "%d records have no unit and are left out"}
+	badDate := &problemKind{many: "%d records have a date that is not YYYY-MM-DD and are left out"}
+	unknown := &problemKind{many: "%d records have an unknown condition and are left out", tail: "; want one of " + want}
 	field := func(rec []string, name string) string {
 		if i := col[name]; i >= 0 && i < len(rec) {
 			return strings.TrimSpace(rec[i])
@@ -106,21 +116,35 @@ func readRecords(r io.Reader, states []string, limit int) ([]Record, []Warning, 
 		}
 		unit, date, cond := field(rec, "unit"), field(rec, "date"), field(rec, "condition")
 		if unit == "" {
-			warn = append(warn, Warning{line, "no unit; record left out"})
+			log.add(noUnit, line, "no unit; record left out", "")
 			continue
 		}
 		day, err := parseDay(date)
 		if err != nil {
-			warn = append(warn, Warning{line, fmt.Sprintf("date %q is not YYYY-MM-DD; record left out", date)})
+			log.add(badDate, line, fmt.Sprintf("date %s is not YYYY-MM-DD; record left out", quoted(date)), quoted(date))
 			continue
 		}
 		s, ok := index[cond]
 		if !ok {
-			warn = append(warn, Warning{line, fmt.Sprintf("unknown condition %q (want one of %s); record left out", cond, strings.Join(states, ", "))})
+			// The message of a lone occurrence and the short detail
+			// are built for the first few occurrences only.
+			var one, short string
+			if log.keeps(unknown) {
+				hint := ""
+				short = quoted(cond)
+				if n := near.suggest(cond); n != "" {
+					hint = fmt.Sprintf("; did you mean %q?", n)
+					short += fmt.Sprintf(" (did you mean %q?)", n)
+				}
+				one = fmt.Sprintf("unknown condition %s (want one of %s%s); record left out", quoted(cond), want, hint)
+			}
+			log.add(unknown, line, one, short)
 			continue
 		}
 		out = append(out, Record{Line: line, Unit: unit, Day: day, Condition: s, Action: field(rec, "action")})
 	}
+	warn := log.warnings()
+	slices.SortStableFunc(warn, func(a, b Warning) int { return a.Line - b.Line })
 	return out, warn, nil
 }
 
@@ -176,8 +200,9 @@ type PanelOptions struct {
 // inspections of each unit, and reports data problems: records out of date
 // order within a unit (sorted, with a warning), repeated dates (the later
 // record left out), units with a single inspection, unknown work names,
-// and improvements with no recorded work (counted, with the units). It
-// returns the panel and the action names (extended when NewActions).
+// and improvements with no recorded work (counted, with the units), each
+// kind summarised as in ReadRecords. It returns the panel and the action
+// names (extended when NewActions).
 func BuildPanel(records []Record, opts PanelOptions) (*Panel, []string, []Warning) {
 	actions := slices.Clone(opts.Actions)
 	byUnit := make(map[string][]Record)
@@ -189,14 +214,20 @@ func BuildPanel(records []Record, opts PanelOptions) (*Panel, []string, []Warnin
 		byUnit[r.Unit] = append(byUnit[r.Unit], r)
 	}
 	p := &Panel{}
-	var warn []Warning
+	var log problemLog
+	outOfOrder := &problemKind{many: "%d units have dates out of order; sorted by date"}
+	sameDate := &problemKind{many: "%d records repeat an inspection date of their unit and are left out"}
+	single := &problemKind{many: "%d units have a single inspection and give no transition"}
+	unknownWork := &problemKind{many: "%d intervals have unknown work and are left out"}
 	var improved []string
 	improvements, firstLines := 0, []int{}
 	for _, unit := range order {
 		recs := byUnit[unit]
 		for i := 1; i < len(recs); i++ {
 			if recs[i].Day < recs[i-1].Day {
-				warn = append(warn, Warning{recs[i].Line, fmt.Sprintf("unit %s: dates out of order (line %d is dated after this one); sorted by date", unit, recs[i-1].Line)})
+				log.add(outOfOrder, recs[i].Line,
+					fmt.Sprintf("unit %s: dates out of order (line %d is dated after this one); sorted by date", clip(unit), recs[i-1].Line),
+					fmt.Sprintf("(unit %s, dated before line %d)", clip(unit), recs[i-1].Line))
 				break
 			}
 		}
@@ -204,13 +235,16 @@ func BuildPanel(records []Record, opts PanelOptions) (*Panel, []string, []Warnin
 		kept := recs[:0:0]
 		for i, r := range recs {
 			if i > 0 && r.Day == recs[i-1].Day {
-				warn = append(warn, Warning{r.Line, fmt.Sprintf("unit %s: a second inspection on the same date as line %d; left out", unit, recs[i-1].Line)})
+				log.add(sameDate, r.Line,
+					fmt.Sprintf("unit %s: a second inspection on the same date as line %d; left out", clip(unit), recs[i-1].Line),
+					fmt.Sprintf("(unit %s, as line %d)", clip(unit), recs[i-1].Line))
 				continue
 			}
 			kept = append(kept, r)
 		}
 		if len(kept) < 2 {
-			warn = append(warn, Warning{kept[0].Line, fmt.Sprintf("unit %s has a single inspection; it gives no transition", unit)})
+			log.add(single, kept[0].Line, fmt.Sprintf("unit %s has a single inspection; it gives no transition", clip(unit)),
+				fmt.Sprintf("(unit %s)", clip(unit)))
 			continue
 		}
 		u := len(p.Units)
@@ -227,7 +261,11 @@ func BuildPanel(records []Record, opts PanelOptions) (*Panel, []string, []Warnin
 					a = len(actions) - 1
 				}
 				if a < 0 {
-					warn = append(warn, Warning{r.Line, fmt.Sprintf("unknown work %q (want one of %s); interval left out", r.Action, strings.Join(actions, ", "))})
+					var one string
+					if log.keeps(unknownWork) {
+						one = fmt.Sprintf("unknown work %s (want one of %s); interval left out", quoted(r.Action), nameList(actions))
+					}
+					log.add(unknownWork, r.Line, one, quoted(r.Action))
 					prev = r.Condition
 					continue
 				}
@@ -250,6 +288,10 @@ func BuildPanel(records []Record, opts PanelOptions) (*Panel, []string, []Warnin
 			improved = append(improved, unit)
 		}
 	}
+	if log.byKind[unknownWork] != nil {
+		unknownWork.tail = "; want one of " + nameList(actions)
+	}
+	warn := log.warnings()
 	if improvements > 0 {
 		what := "kept as observed (use the inspection-error option to treat them as misreadings)"
 		if opts.ImprovementIsError {
@@ -259,13 +301,8 @@ func BuildPanel(records []Record, opts PanelOptions) (*Panel, []string, []Warnin
 		for i, l := range firstLines {
 			lines[i] = fmt.Sprint(l)
 		}
-		units := improved
-		more := ""
-		if len(units) > 10 {
-			units, more = units[:10], fmt.Sprintf(" and %d more", len(improved)-10)
-		}
-		warn = append(warn, Warning{0, fmt.Sprintf("%d improvements with no recorded work in %d units (%s%s; lines %s%s); %s",
-			improvements, len(improved), strings.Join(units, ", "), more, strings.Join(lines, ", "), ellipsis(improvements > 10), what)})
+		warn = append(warn, Warning{0, fmt.Sprintf("%d improvements with no recorded work in %d units (%s; lines %s%s); %s",
+			improvements, len(improved), nameList(improved), strings.Join(lines, ", "), ellipsis(improvements > 10), what)})
 	}
 	slices.SortStableFunc(warn, func(a, b Warning) int { return a.Line - b.Line })
 	return p, actions, warn

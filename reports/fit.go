@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -24,6 +25,9 @@ type FitReport struct {
 	// Rough is the number of transitions below which a row is flagged as
 	// resting on too little data.
 	Rough int
+	// Model is the class config's model, nil without one: rows it does not
+	// admit are not listed among the rows without data.
+	Model *condition.Model
 }
 
 // Rounded returns the row rounded to six decimals with the largest entry
@@ -50,6 +54,103 @@ func (f *FitReport) Writable(a, s int) bool {
 
 func (f *FitReport) level() string { return strconv.FormatFloat(100*f.Level, 'f', -1, 64) + "%" }
 
+// noData lists the states whose row of action a has no data although it
+// could be estimated: admissible in the config (when there is one) and
+// not a passive row of an unsafe state.
+func (f *FitReport) noData(a int) []string {
+	var out []string
+	ai := a
+	if f.Model != nil {
+		ai = f.Model.ActionIndex(f.Fit.Actions[a])
+	}
+	for s, r := range f.Fit.Rows[a] {
+		if r != nil || !f.Writable(a, s) || (f.Model != nil && (ai < 0 || !f.Model.Actions[ai].Admissible(s))) {
+			continue
+		}
+		out = append(out, f.States[s])
+	}
+	return out
+}
+
+// generatorNoData lists the states whose generator row has no data.
+func (f *FitReport) generatorNoData() []string {
+	out := []string{}
+	for s, row := range f.Fit.Generator {
+		if row == nil {
+			out = append(out, f.States[s])
+		}
+	}
+	return out
+}
+
+// zeroWidth is the width below which an interval reads as zero in the
+// tables, which show three decimals.
+const zeroWidth = 0.0005
+
+// warnings returns the fit's warnings and notes on intervals of zero
+// width: a bootstrap interval that does not show any uncertainty is never
+// shown without saying so.
+func (f *FitReport) warnings() []condition.Warning {
+	out := slices.Clone(f.Fit.Warnings)
+	if f.Bootstrap == 0 {
+		return out
+	}
+	var edge, inner []string
+	for a, rows := range f.Fit.Rows {
+		for s, r := range rows {
+			if r == nil {
+				continue
+			}
+			for j, p := range r.P {
+				if math.IsNaN(r.Lower[j]) || r.Upper[j]-r.Lower[j] >= zeroWidth {
+					continue
+				}
+				entry := f.Fit.Actions[a] + " " + f.States[s] + "→" + f.States[j]
+				if p < zeroWidth || p > 1-zeroWidth {
+					edge = append(edge, entry)
+				} else {
+					inner = append(inner, entry)
+				}
+			}
+		}
+	}
+	if len(edge) > 0 {
+		out = append(out, condition.Warning{Message: fmt.Sprintf("%s at 0 or 1 %s %s intervals of zero width (%s): "+
+			"every replicate left them at 0 or 1, as it does an entry seen in none or all of its row's transitions, so these intervals show no uncertainty; "+
+			"for an entry seen in none of n transitions the exact binomial upper bound at this level is 1 − (%s)^(1/n), about %s/n (Clopper & Pearson, Biometrika 26, 1934, from memory)",
+			entries(len(edge)), have(len(edge)), f.level(), firstOf(edge), strconv.FormatFloat((1-f.Level)/2, 'g', 3, 64), Fixed(-math.Log((1-f.Level)/2), 1))})
+	}
+	if len(inner) > 0 {
+		out = append(out, condition.Warning{Message: fmt.Sprintf("%s between 0 and 1 %s %s intervals of zero width (%s): "+
+			"every replicate gave the same value, as happens when a row's transitions come from one unit or a few alike, so these intervals show no uncertainty",
+			entries(len(inner)), have(len(inner)), f.level(), firstOf(inner))})
+	}
+	return out
+}
+
+func entries(n int) string {
+	if n == 1 {
+		return "1 entry"
+	}
+	return strconv.Itoa(n) + " entries"
+}
+
+func have(n int) string {
+	if n == 1 {
+		return "has"
+	}
+	return "have"
+}
+
+// firstOf lists the first five names, with "and M more".
+func firstOf(names []string) string {
+	const shown = 5
+	if len(names) <= shown {
+		return strings.Join(names, ", ")
+	}
+	return strings.Join(names[:shown], ", ") + fmt.Sprintf(" and %d more", len(names)-shown)
+}
+
 func (f *FitReport) header() []string {
 	fit := f.Fit
 	lines := []string{fmt.Sprintf("Estimated from %s by the %s method; one period = %s.", f.Source, fit.Method, Years(fit.PeriodYears))}
@@ -57,6 +158,9 @@ func (f *FitReport) header() []string {
 		lines = append(lines, fmt.Sprintf("%s intervals: percentile bootstrap over units, %d replicates, seed %d.", f.level(), f.Bootstrap, f.Seed))
 	}
 	g := fit.Fit
+	if g.Skipped != "" {
+		return append(lines, "Goodness of fit: "+g.Skipped+".")
+	}
 	pv := "n/a"
 	if !math.IsNaN(g.PValue) {
 		pv = strconv.FormatFloat(g.PValue, 'g', 3, 64)
@@ -105,7 +209,11 @@ func (f *FitReport) WriteTable(w io.Writer) error {
 			}
 			body = append(body, append(row, f.roughNote(r)))
 		}
+		missing := f.noData(a)
 		if len(body) == 0 {
+			if len(missing) > 0 {
+				fmt.Fprintf(w, "\nAction %s: no data (no transitions recorded with it); no row estimated.\n", fit.Actions[a])
+			}
 			continue
 		}
 		fmt.Fprintf(w, "\nAction %s: one-period transition probabilities", fit.Actions[a])
@@ -115,6 +223,11 @@ func (f *FitReport) WriteTable(w io.Writer) error {
 		fmt.Fprintln(w)
 		if err := table(w, header, numeric, body); err != nil {
 			return err
+		}
+		if len(missing) > 0 {
+			if err := writeLines(w, []string{"No data from " + strings.Join(missing, ", ") + ": no row estimated."}); err != nil {
+				return err
+			}
 		}
 	}
 	if fit.Generator != nil {
@@ -126,6 +239,9 @@ func (f *FitReport) WriteTable(w io.Writer) error {
 		}
 		var body [][]string
 		for i, row := range fit.Generator {
+			if row == nil {
+				continue
+			}
 			cells := []string{f.States[i]}
 			for _, x := range row {
 				cells = append(cells, Fixed(x, 4))
@@ -135,11 +251,16 @@ func (f *FitReport) WriteTable(w io.Writer) error {
 		if err := table(w, header, numeric, body); err != nil {
 			return err
 		}
+		if missing := f.generatorNoData(); len(missing) > 0 {
+			if err := writeLines(w, []string{"No data from " + strings.Join(missing, ", ") + ": no interval without recorded work starts there, so no rate out of it is estimated."}); err != nil {
+				return err
+			}
+		}
 	}
 	lines := []string{}
-	if len(fit.Warnings) > 0 {
-		lines = append(lines, "", fmt.Sprintf("Data problems (%d):", len(fit.Warnings)))
-		for _, wn := range fit.Warnings {
+	if warn := f.warnings(); len(warn) > 0 {
+		lines = append(lines, "", fmt.Sprintf("Data problems (%d):", len(warn)))
+		for _, wn := range warn {
 			lines = append(lines, warningText(wn))
 		}
 	}
@@ -164,15 +285,22 @@ type fitRowJSON struct {
 	Rough         bool               `json:"rough"`
 }
 
+type fitActionJSON struct {
+	Rows   map[string]*fitRowJSON `json:"rows"`
+	NoData []string               `json:"no_data"`
+}
+
 type fitJSON struct {
-	Method      string                                       `json:"method"`
-	PeriodYears float64                                      `json:"period_years"`
-	Actions     map[string]map[string]map[string]*fitRowJSON `json:"actions"`
-	Generator   map[string]map[string]float64                `json:"generator"`
-	Fit         struct {
-		Statistic float64  `json:"statistic"`
+	Method          string                        `json:"method"`
+	PeriodYears     float64                       `json:"period_years"`
+	Actions         map[string]*fitActionJSON     `json:"actions"`
+	Generator       map[string]map[string]float64 `json:"generator"`
+	GeneratorNoData *[]string                     `json:"generator_no_data,omitempty"`
+	Fit             struct {
+		Statistic *float64 `json:"statistic"`
 		DF        int      `json:"df"`
 		PValue    *float64 `json:"p_value"`
+		Skipped   string   `json:"skipped,omitempty"`
 	} `json:"fit"`
 	Counts    map[string]map[string]map[string]int `json:"counts"`
 	Bootstrap int                                  `json:"bootstrap"`
@@ -187,21 +315,30 @@ type fitWarning struct {
 	Message string `json:"message"`
 }
 
-// WriteJSON writes the estimate (keys in the README); rows with no
-// records are left out; without bootstrap the interval maps are empty.
+// WriteJSON writes the estimate (keys in the README): per action the
+// rows with data and, in no_data, the states whose row has none (scale
+// order); generator rows without data are left out of generator and
+// listed in generator_no_data; without bootstrap the interval maps are
+// empty; a skipped goodness-of-fit test has a null statistic and its
+// reason in skipped.
 func (f *FitReport) WriteJSON(w io.Writer) error {
 	fit := f.Fit
 	out := fitJSON{Method: fit.Method.String(), PeriodYears: fit.PeriodYears,
-		Actions: map[string]map[string]map[string]*fitRowJSON{}, Counts: map[string]map[string]map[string]int{},
+		Actions: map[string]*fitActionJSON{}, Counts: map[string]map[string]map[string]int{},
 		Bootstrap: f.Bootstrap, Seed: f.Seed, Level: f.Level, Warnings: []fitWarning{}, Caution: Caution}
 	for a, rows := range fit.Rows {
 		name := fit.Actions[a]
+		if missing := f.noData(a); len(missing) > 0 {
+			out.Actions[name] = &fitActionJSON{Rows: map[string]*fitRowJSON{}, NoData: missing}
+		}
 		for s, r := range rows {
 			if r == nil {
 				continue
 			}
 			if out.Actions[name] == nil {
-				out.Actions[name] = map[string]map[string]*fitRowJSON{"rows": {}}
+				out.Actions[name] = &fitActionJSON{Rows: map[string]*fitRowJSON{}, NoData: []string{}}
+			}
+			if out.Counts[name] == nil {
 				out.Counts[name] = map[string]map[string]int{}
 			}
 			jr := &fitRowJSON{N: r.N, ESS: r.ESS, ExposureYears: r.ExposureYears, P: map[string]float64{},
@@ -216,21 +353,26 @@ func (f *FitReport) WriteJSON(w io.Writer) error {
 					counts[f.States[j]] = c
 				}
 			}
-			out.Actions[name]["rows"][f.States[s]] = jr
+			out.Actions[name].Rows[f.States[s]] = jr
 			out.Counts[name][f.States[s]] = counts
 		}
 	}
 	if fit.Generator != nil {
 		out.Generator = map[string]map[string]float64{}
+		missing := f.generatorNoData()
+		out.GeneratorNoData = &missing
 		for i, row := range fit.Generator {
+			if row == nil {
+				continue
+			}
 			out.Generator[f.States[i]] = map[string]float64{}
 			for j, x := range row {
 				out.Generator[f.States[i]][f.States[j]] = x
 			}
 		}
 	}
-	out.Fit.Statistic, out.Fit.DF, out.Fit.PValue = fit.Fit.Statistic, fit.Fit.DF, num(fit.Fit.PValue)
-	for _, wn := range fit.Warnings {
+	out.Fit.Statistic, out.Fit.DF, out.Fit.PValue, out.Fit.Skipped = num(fit.Fit.Statistic), fit.Fit.DF, num(fit.Fit.PValue), fit.Fit.Skipped
+	for _, wn := range f.warnings() {
 		out.Warnings = append(out.Warnings, fitWarning{wn.Line, wn.Message})
 	}
 	return writeJSON(w, out)
@@ -290,6 +432,7 @@ func (f *FitReport) WriteYAML(w io.Writer) error {
 	b.WriteString("# CAUTION: " + Caution + "\n")
 	for a, rows := range f.Fit.Rows {
 		any := false
+		missing := f.noData(a)
 		for s, r := range rows {
 			if r == nil {
 				continue
@@ -306,10 +449,17 @@ func (f *FitReport) WriteYAML(w io.Writer) error {
 			}
 			fmt.Fprintf(&b, "  %s: %s  # %s\n", YAMLKey(f.States[s]), f.FlowRow(r.P), f.RowComment(a, s))
 		}
+		switch {
+		case len(missing) == 0:
+		case any:
+			fmt.Fprintf(&b, "  # no data from %s: no row estimated\n", strings.Join(missing, ", "))
+		default:
+			fmt.Fprintf(&b, "\n# action %s: no data (no transitions recorded with it); no row estimated\n", f.Fit.Actions[a])
+		}
 	}
-	if len(f.Fit.Warnings) > 0 {
-		fmt.Fprintf(&b, "\n# Data problems (%d):\n", len(f.Fit.Warnings))
-		for _, wn := range f.Fit.Warnings {
+	if warn := f.warnings(); len(warn) > 0 {
+		fmt.Fprintf(&b, "\n# Data problems (%d):\n", len(warn))
+		for _, wn := range warn {
 			b.WriteString("#   " + warningText(wn) + "\n")
 		}
 	}

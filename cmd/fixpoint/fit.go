@@ -119,11 +119,14 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		return err
 	}
 	if err != nil {
-		return &modelfile.Fault{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: estimate: ")}
+		return estimateError(path, err, warn)
 	}
 	est.Warnings = append(warn, est.Warnings...)
 	rep := &reports.FitReport{Source: path, States: states, Unsafe: unsafe, Passive: passive, Fit: est,
 		Bootstrap: opts.Bootstrap, Seed: opts.Seed, Level: opts.Level, Rough: roughRow}
+	if c != nil {
+		rep.Model = c.Model
+	}
 	for ai, rows := range est.Rows {
 		for s, r := range rows {
 			if r != nil && r.N < roughRow {
@@ -155,6 +158,25 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		fmt.Fprintf(a.stderr, "fixpoint: wrote the merged config %s\n", st.Output.Path)
 	}
 	return a.target(out).Write(cmd.Context(), a.stdout, render)
+}
+
+// estimateError reports a failed estimate; when the records could not
+// support it, the data problems found follow, one per line.
+func estimateError(path string, err error, warn []condition.Warning) error {
+	msg := strings.TrimPrefix(err.Error(), "condition: estimate: ")
+	var short *condition.InsufficientDataError
+	if !errors.As(err, &short) {
+		return &modelfile.Fault{File: path, Msg: msg}
+	}
+	warn = append(warn, short.Warnings...)
+	if len(warn) == 0 {
+		return &modelfile.Fault{File: path, Msg: msg + "; the file has no inspection records"}
+	}
+	errs := []error{&modelfile.Fault{File: path, Msg: fmt.Sprintf("%s; the data problems found (%d):", msg, len(warn))}}
+	for _, w := range warn {
+		errs = append(errs, &modelfile.Fault{File: path, Line: w.Line, Msg: w.Message})
+	}
+	return errors.Join(errs...)
 }
 
 func fitOptions(st settings.Fit, states []string, period float64, passive int) condition.FitOptions {

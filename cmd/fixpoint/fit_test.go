@@ -188,3 +188,100 @@ func TestFitYAML(t *testing.T) {
 		}
 	}
 }
+
+// Adversarial inputs kept as regression data (condition/testdata).
+const (
+	dates2Records  = "../../condition/testdata/dates2.csv"
+	oneUnitRecords = "../../condition/testdata/one_unit.csv"
+)
+
+// dates2.csv once gave a G test on -8 degrees of freedom and rates of
+// about 1,227 a year for generator rows with no data: the test is skipped
+// with its reason, rows without data are marked so, and --merge never
+// writes them.
+func TestFitRowsWithoutData(t *testing.T) {
+	var doc struct {
+		Actions map[string]struct {
+			Rows   map[string]any
+			NoData []string `json:"no_data"`
+		}
+		Generator       map[string]map[string]float64
+		GeneratorNoData []string `json:"generator_no_data"`
+		Fit             struct {
+			Statistic *float64
+			DF        int
+			Skipped   string
+		}
+	}
+	runJSON(t, &doc, "fit", dates2Records, "--config", demo, "--format", "json", "--bootstrap", "20")
+	if doc.Fit.DF < 0 || doc.Fit.Statistic != nil || !strings.Contains(doc.Fit.Skipped, "not tested") {
+		t.Errorf("fit %+v, want the test skipped with a reason", doc.Fit)
+	}
+	if len(doc.Generator) != 1 || doc.Generator["sound"] == nil || strings.Join(doc.GeneratorNoData, ",") != "light_wear,heavy_wear,critical,failed" {
+		t.Errorf("generator rows %v, no data %v; want sound only and the others marked", doc.Generator, doc.GeneratorNoData)
+	}
+	if got := strings.Join(doc.Actions["leave"].NoData, ","); got != "light_wear,heavy_wear,critical" || len(doc.Actions["leave"].Rows) != 1 {
+		t.Errorf("leave: rows %v, no data %q; want sound, and light_wear,heavy_wear,critical without data", doc.Actions["leave"].Rows, got)
+	}
+	code, out, stderr := runCLI(t, "fit", dates2Records, "--config", demo, "--bootstrap", "20")
+	if code != 0 || !strings.Contains(out, "Goodness of fit: not tested") || !strings.Contains(out, "No data from light_wear, heavy_wear, critical, failed") {
+		t.Errorf("table: exit %d, %s\n%s", code, stderr, out)
+	}
+	if strings.Contains(out, "1227") || strings.Contains(out, "-8 degrees") {
+		t.Errorf("table shows the old artefacts:\n%s", out)
+	}
+	merged := filepath.Join(t.TempDir(), "merged.yaml")
+	if code, _, stderr := runCLI(t, "fit", dates2Records, "--config", demo, "--bootstrap", "0", "--merge", "--merge-min", "1", "-o", merged); code != 0 {
+		t.Fatalf("merge: exit %d: %s", code, stderr)
+	}
+	data, _ := os.ReadFile(merged)
+	orig, _ := os.ReadFile(demo)
+	if n := strings.Count(string(data), "# fitted:"); n != 1 {
+		t.Errorf("merge wrote %d rows, want 1 (leave from sound, the only row with data):\n%s", n, data)
+	}
+	for _, line := range []string{"light_wear: {light_wear: 0.80, heavy_wear: 0.16, critical: 0.03, failed: 0.01}", "critical:   {critical: 0.55, failed: 0.45}"} {
+		if !strings.Contains(string(orig), line) {
+			t.Fatalf("demo config lacks %q", line)
+		}
+		fields := strings.Join(strings.Fields(line), " ")
+		if !strings.Contains(strings.Join(strings.Fields(string(data)), " "), fields) {
+			t.Errorf("merge changed a row without data: %q is gone:\n%s", line, data)
+		}
+	}
+}
+
+// one_unit.csv (8,000 records of one unit) once gave intervals of zero
+// width with no warning.
+func TestFitOneUnit(t *testing.T) {
+	code, out, stderr := runCLI(t, "fit", oneUnitRecords, "--config", demo, "--bootstrap", "20")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	flat := strings.Join(strings.Fields(out), " ")
+	for _, w := range []string{"the intervals resample units, and the transitions used come from 1 unit, fewer than 30",
+		"entries between 0 and 1 have 90% intervals of zero width (leave sound→sound"} {
+		if !strings.Contains(flat, w) {
+			t.Errorf("output lacks %q:\n%s", w, out)
+		}
+	}
+}
+
+// When every record is bad, fit lists the problems it found.
+func TestFitAllRecordsBad(t *testing.T) {
+	path := writeRecords(t, "unit,date,condition\n"+
+		"a,01/02/2020,sound\n"+ // 2
+		"a,2021-01-02,Sound\n"+ // 3
+		",2021-01-02,sound\n"+ // 4
+		"b,2022-01-01,sound\n") // 5: single inspection
+	code, _, stderr := runCLI(t, "fit", path, "--config", demo)
+	if code != exitInput {
+		t.Errorf("exit %d, want %d", code, exitInput)
+	}
+	for _, w := range []string{path + ": no usable transitions; the data problems found (4):",
+		path + `:2: date "01/02/2020" is not YYYY-MM-DD`, path + `:3: unknown condition "Sound"`, `did you mean "sound"?`,
+		path + ":4: no unit", path + ":5: unit b has a single inspection"} {
+		if !strings.Contains(stderr, w) {
+			t.Errorf("stderr lacks %q:\n%s", w, stderr)
+		}
+	}
+}
