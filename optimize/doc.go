@@ -35,6 +35,11 @@
 // numbers and cancellation are errors; reaching an iteration cap is a
 // Status. Messages are prefixed "optimize:".
 //
+// Subpackages. optimize/fleet plans a fleet of classes under yearly
+// budgets (column generation with Lagrangian bounds); optimize/system
+// solves machines of components sharing a shutdown on the product state
+// space. Each follows the same Problem/Settings/Result pattern.
+//
 // References. R. A. Howard, Dynamic Programming and Markov Processes, MIT
 // Press, 1960. J. MacQueen, A modified dynamic programming method for
 // Markovian decision problems, J. Math. Anal. Appl. 14, 1966. E. L.

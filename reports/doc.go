@@ -1,14 +1,22 @@
 // Package reports presents fixpoint's results: terminal tables (via
 // tablewriter), CSV and JSON for other programs, and PDF briefs (via
-// gofpdf). It formats; it does no mathematics beyond formatting.
+// gofpdf). It formats; the arithmetic (equivalent annual costs, yearly
+// sums, bounds) is done in costs and optimize.
 //
-// Key types: Advice (a certified policy with its certificate), with
-// WriteTable, WriteJSON and WriteCSV.
+// Key types: Header (model, currency, period, discount, condition scale,
+// unsafe set, source), embedded in every view; the views Advice,
+// AverageAdvice, Comparison, Sensitivity, Forecast, SystemAdvice,
+// PlanReport, SimulationReport and FitReport, each with WriteTable,
+// WriteJSON and WriteCSV; Brief and FleetBrief with WritePDF.
 //
 // Conventions. Every output carries the Caution: tables print it below
-// the table, JSON under "caution", CSV as a leading comment line. Numbers
-// in tables use fixed decimals with "," between thousands and are
-// right-aligned; JSON keeps full float64 precision; CSV has six decimals.
-// Output is deterministic: rows follow the scale order and map keys are
-// sorted.
+// the table, JSON under "caution", CSV as a leading comment line followed
+// by comment lines saying the model, currency, period, criterion and
+// discount. Advice that takes a unit out of service, and safety warnings,
+// are said in words in every output. Tables and briefs say "condition",
+// JSON and CSV "state". Numbers in tables use fixed decimals with ","
+// between thousands and are right-aligned; JSON keeps full float64
+// precision; CSV has six decimals, and text cells that a spreadsheet would
+// run as a formula are neutralised. Output is deterministic: rows follow
+// the scale order and map keys are sorted.
 package reports

@@ -1,34 +1,57 @@
 // Command fixpoint is a maintenance scheduling advisor: it turns the
-// condition-state degradation (Markov transition) matrices and costs of a
-// class of equipment into a discounted-cost Markov decision process,
-// solves it to proven optimality and reports what to do in every
-// condition. Its output is advisory; statutory and safety inspections
-// follow local regulation, and a competent or licensed inspector decides.
+// condition-state degradation (Markov transition) matrices and costs of
+// equipment into a Markov decision process, solves it to proven
+// optimality and reports what to do in every condition. Its output is
+// advisory; statutory and safety inspections follow local regulation, and
+// a competent or licensed inspector decides.
 //
-// Commands:
+// Commands, and the kinds of file each takes:
 //
-//	fixpoint solve FILE   the certified advice per condition (table, json, csv)
-//	fixpoint check FILE   validate a class config, listing every problem
-//	fixpoint init [PATH]  write a commented starter class config
+//	fixpoint solve FILE        class, system  the certified advice per condition (table, json, csv)
+//	fixpoint check FILE        class, system, fleet  validate, listing every problem
+//	fixpoint compare FILE      class          the advice across discount rates, every switch point
+//	fixpoint sensitivity FILE  class          how far each cost can move before the advice changes
+//	fixpoint forecast FILE     class, fleet   expected mix and spend; a fleet's Monte-Carlo (--simulate)
+//	fixpoint plan FILE         fleet          the budget-constrained plan with proven bounds
+//	fixpoint brief FILE -o PDF class, fleet   the printable brief
+//	fixpoint fit FILE          records CSV    transition rows estimated from inspection records
+//	fixpoint init [PATH]       -              a commented starter of every kind (--kind)
+//	fixpoint completion SHELL  -              a shell completion script (cobra's)
 //
-// Settings. Run-time settings (method, tol, format, rate, factor,
-// max-iterations, output, force) come from, in decreasing precedence:
+// A file of a kind a command does not take is refused in one line that
+// names the commands that take it.
+//
+// Layers. main is wiring only: cmd/internal/modelfile reads model files
+// (class, system, fleet) once, strictly, with located faults;
+// cmd/internal/settings reads one typed settings struct per command;
+// cmd/internal/outfile writes outputs safely; cmd/internal/progress draws
+// the progress bar.
+//
+// Settings. Run-time settings come from, in decreasing precedence:
 // command-line flags, FIXPOINT_* environment variables (FIXPOINT_TOL,
 // FIXPOINT_MAX_ITERATIONS, ...), an optional settings file given by
-// --settings or FIXPOINT_SETTINGS (YAML, TOML or JSON, keys named like the
-// flags), and the defaults. Model files are not settings: they are read by
-// a strict YAML decoder that keeps names case-sensitive and rejects
-// unknown keys.
+// --settings or FIXPOINT_SETTINGS (YAML, TOML or JSON; keys named like the
+// flags; a key means the same in every command that has it; an unknown key
+// is a usage error), and the defaults. A flag given on the command line
+// that does not apply to the file given is a usage error. Model files are
+// not settings: they are read by a strict YAML decoder that keeps names
+// case-sensitive and rejects unknown keys.
+//
+// Names. Tables and briefs, written for people, say "condition"; JSON and
+// CSV, written for programs, say "state"; JSON keys do not change between
+// releases without a note in the README.
 //
 // Exit codes:
 //
 //	0    success
 //	1    bad input: a config or data file is missing or wrong
-//	2    usage: unknown command or flag, bad flag or setting value
+//	2    usage: unknown command or flag, bad flag or setting value, an output path refused
 //	3    the answer was written but is not certified to the tolerance
 //	130  interrupted (SIGINT or SIGTERM); no output file is left behind
 //
-// Output files (-o) are written to a temporary file and renamed into place;
-// fixpoint refuses to write over an input and replaces an existing output
-// only with --force.
+// Output files (-o) are written through a temporary file in the same
+// directory and renamed into place; fixpoint never writes a file it read
+// in the run, replaces an existing output only with --force (keeping its
+// permissions), writes devices and pipes directly, and infers the format
+// from the file's extension unless --format says otherwise.
 package main
