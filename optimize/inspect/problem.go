@@ -133,6 +133,7 @@ func Build(ctx context.Context, m *condition.Model, c *costs.Schedule, gamma flo
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
+		p.Choices[s] = make([]Choice, 0, len(m.Actions)*len(p.Intervals))
 		for a := range m.Actions {
 			if !m.Actions[a].Admissible(s) {
 				continue
@@ -194,6 +195,16 @@ func (c *cycle) choice(a, k int, start, gamma float64, x []float64, kinds []kind
 	g := math.Pow(gamma, float64(k))
 	ch := Choice{Action: a, Interval: k, Cost: start + c.cost, CycleCost: start + c.ucost,
 		HiddenPeriods: c.hidden, MeanPeriods: c.mean, Unscheduled: c.early}
+	nNext, nExit := 0, 0
+	for j := range x {
+		if c.next[j]+g*x[j] != 0 {
+			nNext++
+		}
+		if c.exit[j]+x[j] != 0 {
+			nExit++
+		}
+	}
+	ch.Next, ch.Exit = make([]condition.Entry, 0, nNext), make([]condition.Entry, 0, nExit)
 	for j := range x {
 		if kinds[j] != safe {
 			ch.ScheduledUnsafe += x[j]
