@@ -17,8 +17,8 @@ var errNonFinite = errors.New("inspect: iteration produced a non-finite value")
 
 // Evaluate returns the expected discounted cost of policy (a position in
 // Choices[s] per state) from an epoch in every state: the solution of
-// (I - M_π) v = c_π by LU factorisation (gonum mat.LU) and one step of
-// iterative refinement, O(n³). Every row of M_π sums to at most β < 1, so
+// (I - M_π) v = c_π by optimize.SolveRefined (LU and one step of
+// iterative refinement), O(n³). Every row of M_π sums to at most β < 1, so
 // I - M_π is strictly diagonally dominant and the system well posed.
 func (p *Problem) Evaluate(policy []int) ([]float64, error) {
 	n := len(p.States)
@@ -38,20 +38,11 @@ func (p *Problem) Evaluate(policy []int) ([]float64, error) {
 			a.Set(s, e.To, a.At(s, e.To)-e.P)
 		}
 	}
-	var lu mat.LU
-	lu.Factorize(a)
-	var x, r, dx mat.VecDense
-	if err := lu.SolveVecTo(&x, false, b); err != nil {
+	v, err := optimize.SolveRefined(a, b)
+	if err != nil {
 		return nil, fmt.Errorf("inspect: policy evaluation: %w", err)
 	}
-	r.MulVec(a, &x)
-	r.SubVec(b, &r)
-	if err := lu.SolveVecTo(&dx, false, &r); err == nil {
-		x.AddVec(&x, &dx)
-	}
-	v := make([]float64, n)
 	for s := range n {
-		v[s] = x.AtVec(s)
 		if math.IsNaN(v[s]) || math.IsInf(v[s], 0) {
 			return nil, fmt.Errorf("inspect: policy evaluation gave a non-finite value in state %d", s)
 		}

@@ -79,7 +79,7 @@ func Solve(ctx context.Context, p *Problem, settings *optimize.Settings) (*Resul
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
-	s := withDefaults(settings, len(p.States))
+	s := settings.WithDefaults(len(p.States))
 	var (
 		policy       []int
 		lower, upper []float64
@@ -106,30 +106,6 @@ func Solve(ctx context.Context, p *Problem, settings *optimize.Settings) (*Resul
 	}
 	r.Iterations = iters
 	return r, nil
-}
-
-// withDefaults fills in the documented defaults of optimize.Settings.
-func withDefaults(settings *optimize.Settings, n int) optimize.Settings {
-	var s optimize.Settings
-	if settings != nil {
-		s = *settings
-	}
-	if s.Method == optimize.Auto {
-		s.Method = optimize.PolicyIteration
-		if n > optimize.AutoPolicyStates {
-			s.Method = optimize.ValueIteration
-		}
-	}
-	if s.Tol <= 0 {
-		s.Tol = optimize.DefaultTol
-	}
-	if s.MaxIterations <= 0 {
-		s.MaxIterations = optimize.DefaultPolicySteps
-		if s.Method == optimize.ValueIteration {
-			s.MaxIterations = optimize.DefaultValueSweeps
-		}
-	}
-	return s
 }
 
 func progress(s *optimize.Settings, m optimize.Method, it int, gap float64) {
@@ -313,13 +289,9 @@ func tiedWith(qs []float64, chosen int, tie float64) []int {
 	return tied
 }
 
-// roundingError bounds the float64 rounding in one application of the
-// Bellman operator at v: each Q-value is a sum of at most m+1 products, so
-// (m+3)·ε·(max|c| + max|v|) with ε = 2⁻⁵² dominates the accumulated error
-// (N. J. Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed.,
-// SIAM 2002, §3.1); the bounds divide differences of such sums by 1-β.
+// roundingError is optimize.RoundingAllowance at v: each Q-value sums at
+// most m+1 products for kernels of at most m entries.
 func roundingError(p *Problem, v []float64) float64 {
-	const eps = 0x1p-52
 	m, cmax, vmax := 0, 0.0, 0.0
 	for _, cs := range p.Choices {
 		for _, c := range cs {
@@ -330,5 +302,5 @@ func roundingError(p *Problem, v []float64) float64 {
 	for _, x := range v {
 		vmax = max(vmax, math.Abs(x))
 	}
-	return float64(m+3) * eps * (cmax + vmax)
+	return optimize.RoundingAllowance(m, cmax, vmax)
 }
