@@ -112,7 +112,7 @@
 // The calendar propagates expected epoch counts e_t(s), starting from a
 // mix at t = 0: e_{t+u}(j) += e_t(s)·P(τ = u, s_τ = j | s), and adds the
 // expected running and risk costs of the unseen periods; period t belongs
-// to year ⌊t·PeriodYears⌋ + 1.
+// to year ⌊t·PeriodYears⌋, counted from 0.
 //
 // # Units and errors
 //

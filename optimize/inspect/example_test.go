@@ -81,7 +81,7 @@ func Example() {
 	}
 	for _, y := range cal.Years {
 		fmt.Printf("year %d: %.1f inspections (%.1f call-outs), inspection cost %.0f\n",
-			y.Year, y.Epochs, y.Unscheduled, math.Round(y.InspectionCost))
+			y.Year+1, y.Epochs, y.Unscheduled, math.Round(y.InspectionCost))
 	}
 	// Output:
 	// excluded intervals (periods): [12]

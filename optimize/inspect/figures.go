@@ -107,10 +107,10 @@ type LongRun struct {
 // when the embedded chain has several closed classes, so that ν is not
 // unique. Cost: one O(n³) linear solve.
 func (p *Problem) LongRun(policy []int) (*LongRun, error) {
-	n := len(p.States)
-	if len(policy) != n {
-		return nil, fmt.Errorf("inspect: policy has %d entries for %d states", len(policy), n)
+	if err := p.checkPolicy(policy); err != nil {
+		return nil, err
 	}
+	n := len(p.States)
 	rows := make([][]condition.Entry, n)
 	for s, i := range policy {
 		rows[s] = p.Choices[s][i].Exit
@@ -128,10 +128,10 @@ func (p *Problem) LongRun(policy []int) (*LongRun, error) {
 		cost += nu[s] * c.CycleCost
 		scheduled += nu[s] * (1 - c.Unscheduled)
 		unsafe += nu[s] * c.ScheduledUnsafe
-		if p.Unsafe[s] {
+		if p.Unsafe != nil && p.Unsafe[s] {
 			l.UnsafeAtEpoch += nu[s]
 		}
-		if p.Hidden[s] {
+		if p.Hidden != nil && p.Hidden[s] {
 			found += nu[s]
 		}
 	}
@@ -153,8 +153,11 @@ func (p *Problem) LongRun(policy []int) (*LongRun, error) {
 type Calendar struct {
 	// Years[y] covers [y, y+1) years from the first epoch (time 0).
 	Years []CalendarYear
-	// Periods is the number of periods the horizon covers.
-	Periods int
+	// Found[t][s] is the expected number of epochs in period t (t = 0 ..
+	// the periods that start within the horizon) that find a unit in s;
+	// Spend[t] is the expected spend of period t, undiscounted.
+	Found [][]float64
+	Spend []float64
 	// PresentValue is Σ_t γ^t·(expected spend of period t) over the
 	// horizon, costs charged at the start of each period; as the horizon
 	// grows it tends to Σ_s start(s)·v(s).
@@ -164,6 +167,7 @@ type Calendar struct {
 // CalendarYear is one year of a Calendar. Counts are expected numbers of
 // units; costs are in the currency of the schedule, undiscounted.
 type CalendarYear struct {
+	// Year counts from 0, the year in which the calendar starts.
 	Year int
 	// Epochs counts the decision epochs of the year: scheduled inspections
 	// plus call-outs after self-announcing failures (Unscheduled). Each is
@@ -196,31 +200,36 @@ type profile struct {
 // the epochs of period t+τ are the epochs of period t times the
 // distribution of (τ, s_τ) of the advised choices, and the period-by-period
 // running and risk costs follow the unseen chain. Period t belongs to year
-// ⌊t·PeriodYears⌋ + 1. It needs a Problem made by Build. Cost:
+// ⌊t·PeriodYears⌋, counted from 0; the horizon covers the T periods that
+// start within it. It needs a Problem made by Build. Cost:
 // O(T·n·(K + entries)) for T periods; it checks ctx every period.
 func (p *Problem) Calendar(ctx context.Context, policy []int, start []float64, horizonYears int) (*Calendar, error) {
 	n := len(p.States)
 	switch {
 	case p.walk == nil:
 		return nil, fmt.Errorf("inspect: the calendar needs a problem made by Build")
-	case len(policy) != n || len(start) != n:
-		return nil, fmt.Errorf("inspect: calendar policy or start of the wrong length for %d states", n)
+	case len(start) != n:
+		return nil, fmt.Errorf("inspect: calendar start has %d entries for %d states", len(start), n)
 	case horizonYears < 1:
 		return nil, fmt.Errorf("inspect: calendar horizon of %d years, want at least 1", horizonYears)
+	}
+	if err := p.checkPolicy(policy); err != nil {
+		return nil, err
 	}
 	for s, x := range start {
 		if !(x >= 0) || math.IsInf(x, 0) {
 			return nil, fmt.Errorf("inspect: starting count %v in state %d is not a finite number >= 0", x, s)
 		}
 	}
+	w := p.walk.fresh()
 	prof := make([]profile, n)
 	for s, i := range policy {
-		prof[s] = p.profile(s, i)
+		prof[s] = p.profile(w, s, i)
 	}
 	T := int(math.Ceil(float64(horizonYears)/p.PeriodYears - 1e-9))
-	cal := &Calendar{Periods: T, Years: make([]CalendarYear, horizonYears)}
+	cal := &Calendar{Years: make([]CalendarYear, horizonYears)}
 	for y := range cal.Years {
-		cal.Years[y] = CalendarYear{Year: y + 1, Actions: make([]float64, len(p.Actions))}
+		cal.Years[y] = CalendarYear{Year: y, Actions: make([]float64, len(p.Actions))}
 	}
 	year := func(t int) *CalendarYear {
 		return &cal.Years[min(int(math.Floor(float64(t)*p.PeriodYears+1e-9)), horizonYears-1)]
@@ -249,8 +258,8 @@ func (p *Problem) Calendar(ctx context.Context, policy []int, start []float64, h
 				y.UnsafeFound += w
 			}
 			y.InspectionCost += w * p.EpochCost
-			y.ActionCost += w * p.costs.Action[a][s]
-			spend[t] += w * (p.EpochCost + p.costs.Action[a][s])
+			y.ActionCost += w * p.actionCost[a][s]
+			spend[t] += w * (p.EpochCost + p.actionCost[a][s])
 			pr := &prof[s]
 			for o := range pr.k {
 				if t+o >= T {
@@ -277,6 +286,7 @@ func (p *Problem) Calendar(ctx context.Context, policy []int, start []float64, h
 		cal.PresentValue += g * spend[t]
 		g *= p.Discount
 	}
+	cal.Found, cal.Spend = epochs, spend
 	for y := range cal.Years {
 		cy := &cal.Years[y]
 		cy.Total = cy.InspectionCost + cy.ActionCost + cy.RunningCost + cy.RiskCost
@@ -284,21 +294,20 @@ func (p *Problem) Calendar(ctx context.Context, policy []int, start []float64, h
 	return cal, nil
 }
 
-// profile follows choice i of state s period by period.
-func (p *Problem) profile(s, i int) profile {
+// profile follows choice i of state s period by period with walker w.
+func (p *Problem) profile(w *walker, s, i int) profile {
 	c := &p.Choices[s][i]
 	pr := profile{k: c.Interval, arrive: make([][]condition.Entry, c.Interval),
 		running: make([]float64, c.Interval), risk: make([]float64, c.Interval), hidden: make([]float64, c.Interval)}
-	pr.running[0] = p.costs.Running[s]
-	w := p.walk
-	p.walk.run(p.model.Actions[c.Action].Rows[s], c.Interval, func(t int, x []float64, sup []int) {
+	pr.running[0] = p.running[s]
+	w.run(p.rows[c.Action][s], c.Interval, func(t int, x []float64, sup []int) {
 		for _, j := range sup {
 			switch {
 			case x[j] == 0:
 			case t == c.Interval || w.kinds[j] == announced:
 				pr.arrive[t-1] = append(pr.arrive[t-1], condition.Entry{To: j, P: x[j]})
 			default:
-				pr.running[t] += x[j] * p.costs.Running[j]
+				pr.running[t] += x[j] * p.running[j]
 				pr.risk[t] += x[j] * p.risk[j]
 				if w.kinds[j] == hidden {
 					pr.hidden[t] += x[j]

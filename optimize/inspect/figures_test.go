@@ -2,6 +2,7 @@ package inspect
 
 import (
 	"context"
+	"fmt"
 	"math"
 	"slices"
 	"testing"
@@ -137,11 +138,18 @@ func TestCalendarAgainstExpandedChain(t *testing.T) {
 			mass = next
 			g *= cl.gamma
 		}
-		if cal.Periods != periods {
-			t.Errorf("Calendar(%q): %d periods, want %d", cl.name, cal.Periods, periods)
+		if len(cal.Found) != periods || len(cal.Spend) != periods {
+			t.Errorf("Calendar(%q): %d and %d periods, want %d", cl.name, len(cal.Found), len(cal.Spend), periods)
+		}
+		byYear := make([]float64, years)
+		for t, found := range cal.Found {
+			byYear[int(float64(t)*cl.m.PeriodYears+1e-9)] += sum(found)
 		}
 		for yi, w := range want {
 			got := cal.Years[yi]
+			if !relClose(byYear[yi], got.Epochs, 1e-12) {
+				t.Errorf("Calendar(%q): year %d: Found sums to %g, Epochs %g", cl.name, got.Year, byYear[yi], got.Epochs)
+			}
 			for _, tc := range []struct {
 				what      string
 				got, want float64
@@ -226,6 +234,40 @@ func TestFixedIntervals(t *testing.T) {
 					t.Errorf("FixedIntervals(%q): every %d: state %d inspected after %d", cl.name, f.Interval, s, f.Result.Interval[s])
 				}
 			}
+		}
+	}
+}
+
+// Solves and calendars may share a Problem (run with -race).
+func TestConcurrentUse(t *testing.T) {
+	cl := reliefValves()
+	p := cl.build(t)
+	r, err := Solve(context.Background(), p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	start := []float64{10, 0, 0, 0, 0}
+	want, err := p.Calendar(context.Background(), r.Policy, start, 10)
+	if err != nil {
+		t.Fatal(err)
+	}
+	errs := make(chan error, 8)
+	for range 4 {
+		go func() {
+			_, err := Solve(context.Background(), p, nil)
+			errs <- err
+		}()
+		go func() {
+			c, err := p.Calendar(context.Background(), r.Policy, start, 10)
+			if err == nil && !relClose(c.PresentValue, want.PresentValue, 1e-12) {
+				err = fmt.Errorf("concurrent calendar: present value %v, want %v", c.PresentValue, want.PresentValue)
+			}
+			errs <- err
+		}()
+	}
+	for range 8 {
+		if err := <-errs; err != nil {
+			t.Error(err)
 		}
 	}
 }

@@ -21,16 +21,13 @@ var errNonFinite = errors.New("inspect: iteration produced a non-finite value")
 // iterative refinement), O(n³). Every row of M_π sums to at most β < 1, so
 // I - M_π is strictly diagonally dominant and the system well posed.
 func (p *Problem) Evaluate(policy []int) ([]float64, error) {
-	n := len(p.States)
-	if len(policy) != n {
-		return nil, fmt.Errorf("inspect: policy has %d entries for %d states", len(policy), n)
+	if err := p.checkPolicy(policy); err != nil {
+		return nil, err
 	}
+	n := len(p.States)
 	a := mat.NewDense(n, n, nil)
 	b := mat.NewVecDense(n, nil)
 	for s := range n {
-		if policy[s] < 0 || policy[s] >= len(p.Choices[s]) {
-			return nil, fmt.Errorf("inspect: policy takes decision %d, not one of the %d of state %d", policy[s], len(p.Choices[s]), s)
-		}
 		c := &p.Choices[s][policy[s]]
 		b.SetVec(s, c.Cost)
 		a.Set(s, s, 1)

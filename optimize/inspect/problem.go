@@ -48,12 +48,15 @@ type Choice struct {
 // Problem is the semi-Markov decision process of inspection and action
 // for one class of equipment (see the package comment for the timing).
 // Choices[s] lists the admissible decisions of state s in increasing
-// (action, interval) order; that order is the tie rule's.
+// (action, interval) order; that order is the tie rule's. Solve,
+// FixedIntervals, LongRun and Calendar do not modify a Problem and may
+// run concurrently on one.
 type Problem struct {
 	States  []string
 	Actions []string
 	// Unsafe[s] and Hidden[s] mark the unsafe states and, among them, the
-	// hidden failures; the other unsafe states are self-announcing.
+	// hidden failures; the other unsafe states are self-announcing. nil in
+	// a hand-made problem means none.
 	Unsafe, Hidden []bool
 	// PeriodYears is the length of one period in years.
 	PeriodYears float64
@@ -71,11 +74,13 @@ type Problem struct {
 	EpochCost float64
 	Choices   [][]Choice
 
-	// Built problems keep what the calendar needs; nil in hand-made ones.
-	model *condition.Model
-	costs *costs.Schedule
-	risk  []float64
-	walk  *walker
+	// Built problems keep copies of what the calendar needs: the rows
+	// (rows[a][s], nil where not admissible), the running, action and risk
+	// costs, and the unseen walk; nil in hand-made problems.
+	rows          [][][]condition.Entry
+	running, risk []float64
+	actionCost    [][]float64
+	walk          *walker
 }
 
 // Years returns the length of an interval of k periods in years.
@@ -94,13 +99,9 @@ func (p *Problem) Years(k int) float64 { return float64(k) * p.PeriodYears }
 // entries of the passive rows, and O(n) per interval to store the result.
 // It checks ctx between states.
 func Build(ctx context.Context, m *condition.Model, c *costs.Schedule, gamma float64, pl *Plan) (*Problem, error) {
-	errs := []error{m.Validate(), c.Validate(len(m.States), len(m.Actions))}
-	if errors.Join(errs...) != nil {
-		return nil, errors.Join(errs...)
-	}
 	planErrs, kinds := pl.check(m, gamma)
-	if len(planErrs) > 0 {
-		return nil, errors.Join(planErrs...)
+	if err := errors.Join(append([]error{m.Validate(), c.Validate(len(m.States), len(m.Actions))}, planErrs...)...); err != nil {
+		return nil, err
 	}
 	n := len(m.States)
 	p := &Problem{
@@ -108,9 +109,17 @@ func Build(ctx context.Context, m *condition.Model, c *costs.Schedule, gamma flo
 		Unsafe: make([]bool, n), Hidden: make([]bool, n),
 		PeriodYears: m.PeriodYears, Discount: gamma, MaxIntervalYears: pl.MaxIntervalYears,
 		EpochCost: pl.Cost + pl.Downtime, Choices: make([][]Choice, n),
-		model: m, costs: c, risk: make([]float64, n),
+		rows: make([][][]condition.Entry, len(m.Actions)), running: slices.Clone(c.Running),
+		risk: make([]float64, n), actionCost: make([][]float64, len(m.Actions)),
 	}
 	copy(p.risk, pl.RiskCost)
+	for a := range m.Actions {
+		p.actionCost[a] = slices.Clone(c.Action[a])
+		p.rows[a] = make([][]condition.Entry, n)
+		for s, row := range m.Actions[a].Rows {
+			p.rows[a][s] = slices.Clone(row)
+		}
+	}
 	for s := range n {
 		p.Unsafe[s] = kinds[s] != safe
 		p.Hidden[s] = kinds[s] == hidden
@@ -127,7 +136,7 @@ func Build(ctx context.Context, m *condition.Model, c *costs.Schedule, gamma flo
 			"the shortest allowed interval, %d periods (%g years), exceeds the limit of %g years; no interval is admissible",
 			pl.Intervals[0], p.Years(pl.Intervals[0]), pl.MaxIntervalYears)}
 	}
-	p.walk = newWalker(m, c, p.risk, kinds, gamma)
+	p.walk = newWalker(p, m.Passive(), kinds)
 	var acc cycle
 	for s := range n {
 		if err := ctx.Err(); err != nil {
@@ -138,10 +147,10 @@ func Build(ctx context.Context, m *condition.Model, c *costs.Schedule, gamma flo
 			if !m.Actions[a].Admissible(s) {
 				continue
 			}
-			start := p.EpochCost + c.Action[a][s] + c.Running[s]
+			start := p.EpochCost + p.actionCost[a][s] + p.running[s]
 			acc.reset(n)
 			ki := 0
-			p.walk.run(m.Actions[a].Rows[s], p.Intervals[len(p.Intervals)-1], func(t int, x []float64, sup []int) {
+			p.walk.run(p.rows[a][s], p.Intervals[len(p.Intervals)-1], func(t int, x []float64, sup []int) {
 				if t == p.Intervals[ki] {
 					p.Choices[s] = append(p.Choices[s], acc.choice(a, t, start, gamma, x, kinds))
 					ki++
@@ -221,6 +230,8 @@ func (c *cycle) choice(a, k int, start, gamma float64, x []float64, kinds []kind
 }
 
 // walker follows the distribution of a unit left unseen after an epoch.
+// The rows and charges are shared; the scratch vectors are its own (see
+// fresh).
 type walker struct {
 	kinds []kind
 	// pass[s] is the passive row of a safe state (nil elsewhere).
@@ -232,18 +243,25 @@ type walker struct {
 	in        []bool
 }
 
-func newWalker(m *condition.Model, c *costs.Schedule, risk []float64, kinds []kind, gamma float64) *walker {
-	n := len(m.States)
+func newWalker(p *Problem, passive int, kinds []kind) *walker {
+	n := len(kinds)
 	w := &walker{kinds: kinds, pass: make([][]condition.Entry, n), charge: make([]float64, n),
 		x: make([]float64, n), nx: make([]float64, n), in: make([]bool, n)}
-	pa := m.Passive()
 	for s := range n {
-		w.charge[s] = c.Running[s] + risk[s]
-		if kinds[s] == safe && pa >= 0 {
-			w.pass[s] = m.Actions[pa].Rows[s]
+		w.charge[s] = p.running[s] + p.risk[s]
+		if kinds[s] == safe && passive >= 0 {
+			w.pass[s] = p.rows[passive][s]
 		}
 	}
 	return w
+}
+
+// fresh returns a walker with the same rows and new scratch vectors, so
+// that walks on one Problem may run concurrently.
+func (w *walker) fresh() *walker {
+	n := len(w.kinds)
+	return &walker{kinds: w.kinds, pass: w.pass, charge: w.charge,
+		x: make([]float64, n), nx: make([]float64, n), in: make([]bool, n)}
 }
 
 // run puts a unit in distribution row at t = 1 and follows it unseen up
@@ -304,7 +322,8 @@ func (w *walker) run(row []condition.Entry, last int, visit func(t int, x []floa
 // "states" or "choices". A valid problem has names for its sizes, at
 // least one choice per state in strictly increasing (action, interval)
 // order, finite costs and kernels with finite non-negative entries on the
-// scale and Σ_j M(j) < 1, so that the Bellman operator is a contraction.
+// scale and Σ_j M(j) < 1, so that the Bellman operator is a contraction;
+// Unsafe and Hidden are nil (no unsafe states) or have one entry per state.
 func (p *Problem) Validate() error {
 	var errs []error
 	add := func(field string, index, state int, format string, args ...any) {
@@ -316,6 +335,9 @@ func (p *Problem) Validate() error {
 	}
 	if len(p.Choices) != n {
 		add("choices", -1, -1, "%d choice lists for %d states", len(p.Choices), n)
+	}
+	if p.Unsafe != nil && len(p.Unsafe) != n || p.Hidden != nil && len(p.Hidden) != n {
+		add("states", -1, -1, "%d unsafe and %d hidden marks for %d states, want one per state or none", len(p.Unsafe), len(p.Hidden), n)
 	}
 	for s, cs := range p.Choices {
 		if len(cs) == 0 {
@@ -365,6 +387,20 @@ func kernelSum(next []condition.Entry) float64 {
 		sum += e.P
 	}
 	return sum
+}
+
+// checkPolicy reports a policy of the wrong length or with a position
+// outside the choices of its state.
+func (p *Problem) checkPolicy(policy []int) error {
+	if len(policy) != len(p.States) {
+		return fmt.Errorf("inspect: policy has %d entries for %d states", len(policy), len(p.States))
+	}
+	for s, i := range policy {
+		if i < 0 || i >= len(p.Choices[s]) {
+			return fmt.Errorf("inspect: policy takes decision %d, not one of the %d of state %d", i, len(p.Choices[s]), s)
+		}
+	}
+	return nil
 }
 
 // find returns the position of the decision (a, k) among the choices of

@@ -8,6 +8,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"fixpoint/condition"
 	"fixpoint/optimize"
 	"fixpoint/optimize/internal/mdptest"
 )
@@ -332,5 +333,57 @@ func TestTieRule(t *testing.T) {
 				t.Errorf("Solve(%v): tie %+v, advice %d is not the first", method, tie, r.Policy[tie.State])
 			}
 		}
+	}
+}
+
+// The solver works on hand-written problems: closed forms by hand.
+func TestHandMade(t *testing.T) {
+	e := func(to int, p float64) condition.Entry { return condition.Entry{To: to, P: p} }
+	for _, tc := range []struct {
+		name   string
+		p      *Problem
+		value  []float64
+		policy []int
+	}{
+		{
+			// One state: v = min_d c_d/(1 - β_d) = min(10/0.1, 14/0.15, 30/0.2).
+			name: "one state",
+			p: &Problem{States: []string{"s"}, Actions: []string{"a"}, Choices: [][]Choice{{
+				{Action: 0, Interval: 1, Cost: 10, Next: []condition.Entry{e(0, 0.9)}},
+				{Action: 0, Interval: 2, Cost: 14, Next: []condition.Entry{e(0, 0.85)}},
+				{Action: 0, Interval: 3, Cost: 30, Next: []condition.Entry{e(0, 0.8)}},
+			}}},
+			value: []float64{14 / 0.15}, policy: []int{1},
+		},
+		{
+			// v1 = 5 + 0.9 v0, v0 = 1 + 0.5 v0 + 0.4 v1 give v0 = 3/0.14.
+			name: "two states",
+			p: &Problem{States: []string{"s0", "s1"}, Actions: []string{"a", "b"}, Choices: [][]Choice{
+				{{Action: 0, Interval: 1, Cost: 1, Next: []condition.Entry{e(0, 0.5), e(1, 0.4)}},
+					{Action: 1, Interval: 1, Cost: 50, Next: []condition.Entry{e(0, 0.5)}}},
+				{{Action: 1, Interval: 1, Cost: 5, Next: []condition.Entry{e(0, 0.9)}}},
+			}},
+			value: []float64{3 / 0.14, 5 + 0.9*3/0.14}, policy: []int{0, 0},
+		},
+	} {
+		for _, method := range methods {
+			r, err := Solve(context.Background(), tc.p, &optimize.Settings{Method: method, Tol: 1e-9})
+			if err != nil {
+				t.Fatalf("Solve(%q, %v): %v", tc.name, method, err)
+			}
+			checkClose(t, fmt.Sprintf("Solve(%q, %v): value", tc.name, method), r.Value, tc.value, 1e-9)
+			for s, i := range tc.policy {
+				if r.Policy[s] != i {
+					t.Errorf("Solve(%q, %v): policy[%d] = %d, want %d", tc.name, method, s, r.Policy[s], i)
+				}
+			}
+		}
+	}
+	bad := &Problem{States: []string{"s"}, Actions: []string{"a"}, Choices: [][]Choice{{
+		{Action: 0, Interval: 2, Cost: 1, Next: []condition.Entry{e(0, 1)}},
+		{Action: 0, Interval: 1, Cost: math.NaN(), Next: []condition.Entry{e(0, 0.5)}},
+	}}}
+	if got := faults(bad.Validate()); len(got) != 3 {
+		t.Errorf("Validate: faults %v, want a kernel sum, an order and a cost fault", got)
 	}
 }
