@@ -42,8 +42,9 @@ type Result struct {
 	Q [][]float64
 	// RunnerUp[s] is the position of the best decision other than the
 	// advice, or -1 when s has one decision; Margin[s] = Q of RunnerUp - Q
-	// of the advice (NaN without a runner-up). Margin >= -Gap always:
-	// v* <= T v_π <= v_π - δ where the runner-up is better by δ.
+	// of the advice (NaN without a runner-up). Margin >= -Gap always (up
+	// to Rounding): where the runner-up is better by δ,
+	// Lower <= v* <= T v_π <= v_π - δ.
 	RunnerUp []int
 	Margin   []float64
 	// Ties lists the states where several decisions are within TieTol of
