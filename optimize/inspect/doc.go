@@ -80,8 +80,9 @@
 // Value iteration v_{n+1} = T v_n stops when the span of these bounds is
 // at most Tol/2; one sweep costs O(nnz), the entries of all kernels.
 // Policy iteration evaluates by an O(n³) LU solve of (I - M_π) v = c_π.
-// The linear program is the occupation-measure LP of Problem.LP. Whatever
-// the method, Solve evaluates the returned policy exactly and certifies it
+// The linear program, solved by gonum's simplex, is the occupation-measure
+// LP: minimise Σ c(s,d) x(s,d) subject to
+// Σ_d x(j,d) - Σ_{s,d} M_d(s,j) x(s,d) = 1/n, x >= 0. Whatever the method, Solve evaluates the returned policy exactly and certifies it
 // with the bounds at v = v_π, widened by a rounding allowance
 // (m+3)·2⁻⁵²·(max|c| + max|v|)/(1-β) for kernels of at most m entries.
 // The gap max_s v_π(s) - lower(s) bounds what the advice can lose.
