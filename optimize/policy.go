@@ -26,27 +26,36 @@ func Evaluate(p *Problem, policy []int) ([]float64, error) {
 		}
 		b.SetVec(s, p.Choices[s][k].Cost)
 	}
-	a := policyMatrix(p, policy, p.Discount)
-	var lu mat.LU
-	lu.Factorize(a)
-	var x, r, dx mat.VecDense
-	if err := lu.SolveVecTo(&x, false, b); err != nil {
+	v, err := SolveRefined(policyMatrix(p, policy, p.Discount), b)
+	if err != nil {
 		return nil, fmt.Errorf("optimize: policy evaluation: %w", err)
 	}
-	// One step of iterative refinement: x += A⁻¹(b - A x).
-	r.MulVec(a, &x)
-	r.SubVec(b, &r)
-	if err := lu.SolveVecTo(&dx, false, &r); err == nil {
-		x.AddVec(&x, &dx)
-	}
-	v := make([]float64, n)
 	for s := range n {
-		v[s] = x.AtVec(s)
 		if math.IsNaN(v[s]) || math.IsInf(v[s], 0) {
 			return nil, fmt.Errorf("optimize: policy evaluation gave a non-finite value in state %d", s)
 		}
 	}
 	return v, nil
+}
+
+// SolveRefined returns the solution x of a·x = b by LU factorisation
+// (gonum mat.LU) and one step of iterative refinement,
+// x += a⁻¹(b - a·x), in O(n³) time and O(n²) memory. The error is the LU
+// solve's (a singular or near-singular a); x is not checked for finite
+// entries.
+func SolveRefined(a *mat.Dense, b *mat.VecDense) ([]float64, error) {
+	var lu mat.LU
+	lu.Factorize(a)
+	var x, r, dx mat.VecDense
+	if err := lu.SolveVecTo(&x, false, b); err != nil {
+		return nil, err
+	}
+	r.MulVec(a, &x)
+	r.SubVec(b, &r)
+	if err := lu.SolveVecTo(&dx, false, &r); err == nil {
+		x.AddVec(&x, &dx)
+	}
+	return mat.Col(nil, 0, &x), nil
 }
 
 // greedy sets policy[s] to the first choice of least Q-value with respect

@@ -87,6 +87,13 @@ type Progress struct {
 	Gap float64
 }
 
+// WithDefaults returns a copy of s (nil: the zero Settings) with the
+// documented defaults filled in for a problem of n states: Auto resolved
+// to a method, zero Tol and MaxIterations replaced by their defaults.
+// Solvers of other decision models (optimize/inspect) share the defaults
+// through it.
+func (s *Settings) WithDefaults(n int) Settings { return s.withDefaults(n) }
+
 func (s *Settings) withDefaults(n int) Settings {
 	var out Settings
 	if s != nil {

@@ -237,7 +237,6 @@ func preferFirst(p *Problem, q [][]float64, tie float64, policy []int) bool {
 // to first order). The discounted bounds divide differences of such sums
 // by 1-γ, and so their allowance.
 func roundingError(p *Problem, v []float64) float64 {
-	const eps = 0x1p-52
 	m, cmax, vmax := 0, 0.0, 0.0
 	for _, cs := range p.Choices {
 		for _, c := range cs {
@@ -248,5 +247,14 @@ func roundingError(p *Problem, v []float64) float64 {
 	for _, x := range v {
 		vmax = max(vmax, math.Abs(x))
 	}
-	return float64(m+3) * eps * (cmax + vmax)
+	return RoundingAllowance(m, cmax, vmax)
+}
+
+// RoundingAllowance bounds the float64 rounding of one Bellman update
+// whose sums have at most entries products, with costs and values at most
+// maxCost and maxValue in absolute value: (entries+3)·ε·(maxCost +
+// maxValue), ε = 2⁻⁵² (Higham 2002, §3.1, as for roundingError).
+func RoundingAllowance(entries int, maxCost, maxValue float64) float64 {
+	const eps = 0x1p-52
+	return float64(entries+3) * eps * (maxCost + maxValue)
 }
