@@ -98,6 +98,17 @@ func reliefValves() *class {
 // are unsafe (one hidden, one self-announcing when n >= 4), a passive
 // action in every safe state, up to three more actions (the last one
 // admissible everywhere), and random intervals up to maxK.
+// reachesSafe reports whether row puts probability on a state below safe
+// (the safe states come first).
+func reachesSafe(row []condition.Entry, safe int) bool {
+	for _, e := range row {
+		if e.P > 0 && e.To < safe {
+			return true
+		}
+	}
+	return false
+}
+
 func randomClass(rng *rand.Rand, n, maxK int) *class {
 	m := &condition.Model{PeriodYears: 0.5}
 	unsafe := min(2, n-1)
@@ -115,6 +126,11 @@ func randomClass(rng *rand.Rand, n, maxK int) *class {
 		for s := range n {
 			if a == extra-1 || rng.Float64() < 0.5 {
 				act.Rows[s] = mdptest.RandomRow(rng, n, 1+rng.IntN(3))
+				// A valid model never keeps an unsafe unit within unsafe
+				// states: draw again until the row reaches a safe one.
+				for m.States[s].Unsafe && !reachesSafe(act.Rows[s], n-unsafe) {
+					act.Rows[s] = mdptest.RandomRow(rng, n, 1+rng.IntN(3))
+				}
 			}
 		}
 		m.Actions = append(m.Actions, act)

@@ -311,6 +311,7 @@ func TestIterationCap(t *testing.T) {
 func TestTieRule(t *testing.T) {
 	cl := reliefValves()
 	cl.m.Actions[1].Rows[3] = dense([]float64{0, 0, 0, 0, 1})[0] // a service of "stuck" that always ends "passing"
+	cl.m.Actions[1].OutOfService = true                          // which only an out-of-service action may do
 	cl.c.Action[1][3] = 10
 	cl.c.Action[2][3] = 1e6 // replacement out of the question
 	p := cl.build(t)
