@@ -157,7 +157,7 @@ func (a *app) fleetBrief(cmd *cobra.Command, path string, date time.Time, out ou
 	if err != nil {
 		return err
 	}
-	view := &reports.PlanReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, gap)}
+	view := &reports.PlanReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, gap, ff.Currency)}
 	b := &reports.FleetBrief{Plan: view, Date: date}
 	return out.write(cmd.Context(), a.stdout, func(w io.Writer) error { return b.WritePDF(w) })
 }

@@ -17,19 +17,26 @@ func (a *app) newPlan() *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "plan FLEET.yaml",
 		Short: "Budget-constrained multi-year work plan of a fleet, with proven bounds",
-		Long: `plan reads a fleet file (class configs, an inventory of units and an annual
-budget) and plans the work of every year under the budget: the optimal plan of
-the expected-count model, with a proven lower bound (Lagrangian relaxation of the
-budgets) and the gap to the plan found, then a whole-unit work list.
+		Long: `plan reads a fleet file (class configs, an inventory of units and a budget
+per calendar year) and plans the work under the budgets: the optimal plan of the
+expected-count model, with a proven lower bound (Lagrangian relaxation of the
+yearly budget rows) and the gap to the plan found, the problem solved stated in
+words; a whole-unit work list for the first period; the plan's policy and its
+expected units for later periods; and a Monte-Carlo of the whole-unit practice
+(--simulate runs, --seed; 0 runs for none).
 
-Years t = 1..T; the inventory gives year 1; year-t work is charged to the budget
-of year t (running costs are not); year-t costs are discounted by γ^(t-1); after
-year T each unit is charged its unconstrained optimal value, discounted by γ^T.
-Work in unsafe states is mandatory and funded first.`,
+The plan runs over the periods that start within the horizon's years; a period's
+work is charged to the calendar year in which it starts (running costs are not);
+period-k costs are discounted by γ^k, γ the factor per period; after the last
+period each unit is charged its unconstrained optimal value. Work in unsafe states
+is mandatory: where a year's budget cannot cover it, that year does mandatory
+work only, at least cost.`,
 		Args: exactArgs(1, "one fleet file"),
 		RunE: func(cmd *cobra.Command, args []string) error { return a.plan(cmd, args[0]) },
 	}
 	addFleetFlags(cmd)
+	cmd.Flags().String("simulate", "1000", "Monte-Carlo `runs` of the whole-unit practice (0 = none)")
+	cmd.Flags().String("seed", "1", "seed of the Monte-Carlo (`n`)")
 	addOutputFlags(cmd)
 	return cmd
 }
@@ -125,7 +132,17 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	view := &reports.PlanReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, gap)}
+	view := &reports.PlanReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, gap, ff.Currency)}
+	runs, seed, err := a.runsAndSeed(0)
+	if err != nil {
+		return err
+	}
+	if runs > 0 {
+		if view.Practice, err = fleet.Simulate(cmd.Context(), f, p, fleet.FollowPractice, runs, uint64(seed), 0, nil); err != nil {
+			return err
+		}
+		view.Seed = uint64(seed)
+	}
 	for _, wn := range view.Warnings {
 		a.warn(wn)
 	}
@@ -138,33 +155,41 @@ func (a *app) warn(msg string) { io.WriteString(a.stderr, "fixpoint: warning: "+
 // simulateFleet runs the Monte-Carlo of a fleet file for forecast
 // --simulate.
 func (a *app) simulateFleet(cmd *cobra.Command, path string, format string, out output) error {
-	runs, err := a.integer("simulate")
+	runs, seed, err := a.runsAndSeed(2)
 	if err != nil {
 		return err
 	}
-	if runs < 2 || runs > 1_000_000 {
-		return usagef("setting simulate: %d is not a number of runs in [2, 1000000]", runs)
-	}
-	seed, err := a.integer("seed")
-	if err != nil {
-		return err
-	}
-	follow := a.str("follow")
-	if follow != "plan" && follow != "advice" {
-		return usagef("setting follow: %q; want plan or advice", follow)
+	rules := map[string]fleet.Rule{"plan": fleet.FollowPlan, "practice": fleet.FollowPractice, "advice": fleet.FollowAdvice}
+	rule, ok := rules[a.str("follow")]
+	if !ok {
+		return usagef("setting follow: %q; want plan, practice or advice", a.str("follow"))
 	}
 	ff, f, p, _, err := a.fleetPlan(cmd, path)
 	if err != nil {
 		return err
 	}
 	bar := a.progress(runs, "simulating")
-	sim, err := fleet.Simulate(cmd.Context(), f, p, follow == "advice", runs, uint64(seed), 0, bar.add)
+	sim, err := fleet.Simulate(cmd.Context(), f, p, rule, runs, uint64(seed), 0, bar.add)
 	bar.finish()
 	if err != nil {
 		return err
 	}
-	view := &reports.SimulationReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Sim: sim, Follow: follow, Seed: uint64(seed)}
+	view := &reports.SimulationReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Plan: p, Sim: sim, Seed: uint64(seed)}
 	return a.emit(cmd, out, format, view)
+}
+
+// runsAndSeed reads --simulate (at least least runs, or 0 when least is
+// 0) and --seed.
+func (a *app) runsAndSeed(least int) (int, int, error) {
+	runs, err := a.integer("simulate")
+	if err != nil {
+		return 0, 0, err
+	}
+	if ok := runs >= 2 && runs <= 1_000_000 || least == 0 && runs == 0; !ok {
+		return 0, 0, usagef("setting simulate: %d is not a number of runs in [2, 1000000]%s", runs, map[bool]string{true: " or 0"}[least == 0])
+	}
+	seed, err := a.integer("seed")
+	return runs, seed, err
 }
 
 // progressBar shows progress on stderr when it is a terminal, the run
