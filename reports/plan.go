@@ -359,14 +359,14 @@ type planWork struct {
 }
 
 type planYear struct {
-	Year          int     `json:"year"`
-	Budget        float64 `json:"budget"`
-	Rule          string  `json:"rule"`
-	Excess        float64 `json:"least_excess"`
-	PlannedSpend  float64 `json:"planned_spend"`
-	Mandatory     float64 `json:"planned_mandatory_spend"`
-	BudgetPrice   float64 `json:"budget_price"`
-	Periods       []int   `json:"periods"`
+	Year          int        `json:"year"`
+	Budget        float64    `json:"budget"`
+	Rule          string     `json:"rule"`
+	Excess        float64    `json:"least_excess"`
+	PlannedSpend  float64    `json:"planned_spend"`
+	Mandatory     float64    `json:"planned_mandatory_spend"`
+	BudgetPrice   float64    `json:"budget_price"`
+	Periods       []int      `json:"periods"`
 	PracticeSpend *quantJSON `json:"practice_spend,omitempty"`
 	PracticeOver  *float64   `json:"practice_over_budget_share,omitempty"`
 }
@@ -433,7 +433,7 @@ func (r *PlanReport) WriteJSON(w io.Writer) error {
 		Warnings       []string     `json:"warnings"`
 		Caution        string       `json:"caution"`
 	}{Model: r.Model, Currency: r.Currency, HorizonYears: len(f.Budget), PeriodYears: p.Period.Years(), DiscountFactor: f.Discount.Factor(),
-		Problem: problem{Kind: p.Statement.Kind.String(), Statement: PlanStatement(f, p, r.Currency), Short: []int{}, Excess: p.Statement.Excess},
+		Problem:    problem{Kind: p.Statement.Kind.String(), Statement: PlanStatement(f, p, r.Currency), Short: []int{}, Excess: p.Statement.Excess},
 		LowerBound: p.Lower, FluidCost: p.Fluid, Gap: p.Gap, Unconstrained: p.Unconstrained,
 		CostOfBudget: p.Fluid - p.Unconstrained, CostAtLeast: p.Lower - p.Unconstrained, Rounds: p.Iterations, Programs: p.Programs,
 		Warnings: append([]string{}, r.Warnings...), Caution: Caution}
