@@ -141,7 +141,7 @@ func PlanWarnings(f *fleet.Problem, p *fleet.Plan, target float64, currency stri
 		out = append(out, capitalize(fmt.Sprintf("%s: the budget cannot cover the mandatory work in unsafe conditions; only mandatory work is planned, expected to exceed the budget by %s.",
 			yearsWord(short), by)))
 	}
-	if wl := p.First; wl.Mandatory > wl.Limit+0.005 {
+	if wl := p.First; wl.Mandatory > wl.Limit+0.005 && !p.Statement.Short[0] {
 		out = append(out, fmt.Sprintf("Period 1: mandatory work on the inventory costs %s, above the %s the period may spend; it is done first and no other work is listed.",
 			amount(wl.Mandatory, currency), amount(wl.Limit, currency)))
 	}
@@ -215,7 +215,8 @@ func periodLead(p *fleet.Plan, k int) []string {
 	if p.Period.Years() == 1 {
 		return []string{strconv.Itoa(k + 1)}
 	}
-	return []string{strconv.Itoa(k + 1), strconv.Itoa(p.PeriodYear[k] + 1), trimYear(p.Period.Start(k))}
+	start := math.Round(p.Period.Start(k)*1e6) / 1e6
+	return []string{strconv.Itoa(k + 1), strconv.Itoa(p.PeriodYear[k] + 1), strconv.FormatFloat(start, 'f', -1, 64)}
 }
 
 // shareText is a condition's work in a period: "service 35%, replace 5%",
@@ -291,8 +292,7 @@ func (r *PlanReport) WriteTable(w io.Writer) error {
 	if err := table(w, []string{"class", "condition", "action", "units", "cost (" + cur + ")"}, []bool{false, false, false, true, true}, rows); err != nil {
 		return err
 	}
-	if err := writeLines(w, []string{fmt.Sprintf("Work list spend %s, of which mandatory %s; the period may spend %s. %d units deferred (the unconstrained advice would work on them).",
-		amount(wl.Spend, cur), amount(wl.Mandatory, cur), amount(wl.Limit, cur), wl.Deferred)}); err != nil {
+	if err := writeLines(w, []string{r.workListLine()}); err != nil {
 		return err
 	}
 	K := len(p.PeriodYear)
@@ -321,6 +321,21 @@ func (r *PlanReport) WriteTable(w io.Writer) error {
 		"not a work list. Re-plan each year from the new inspection results.",
 		"CAUTION: "+Caution)
 	return writeLines(w, tail)
+}
+
+// workListLine sums up the first period's work list.
+func (r *PlanReport) workListLine() string {
+	p, wl, cur := r.Plan, r.Plan.First, r.Currency
+	deferred := fmt.Sprintf("%d units deferred (the unconstrained advice would work on them).", wl.Deferred)
+	if p.Statement.Short[0] {
+		return fmt.Sprintf("Work list spend %s, of which mandatory %s: year 1's budget cannot cover the mandatory work, so no other work is listed. %s",
+			amount(wl.Spend, cur), amount(wl.Mandatory, cur), deferred)
+	}
+	may := "the period may spend " + amount(wl.Limit, cur)
+	if p.Period.Years() < 1 {
+		may += " (year 1's budget less the plan's spend in its later periods)"
+	}
+	return fmt.Sprintf("Work list spend %s, of which mandatory %s; %s, mandatory work first. %s", amount(wl.Spend, cur), amount(wl.Mandatory, cur), may, deferred)
 }
 
 // classTable renders one row per period from..to-1 and one column per
@@ -396,6 +411,7 @@ func (r *PlanReport) WriteJSON(w io.Writer) error {
 		Statement string    `json:"statement"`
 		Short     []int     `json:"short_years"`
 		Excess    []float64 `json:"least_excess"`
+		ExcessGap float64   `json:"least_excess_gap"`
 	}
 	type workList struct {
 		Period    int        `json:"period"`
@@ -433,7 +449,7 @@ func (r *PlanReport) WriteJSON(w io.Writer) error {
 		Warnings       []string     `json:"warnings"`
 		Caution        string       `json:"caution"`
 	}{Model: r.Model, Currency: r.Currency, HorizonYears: len(f.Budget), PeriodYears: p.Period.Years(), DiscountFactor: f.Discount.Factor(),
-		Problem:    problem{Kind: p.Statement.Kind.String(), Statement: PlanStatement(f, p, r.Currency), Short: []int{}, Excess: p.Statement.Excess},
+		Problem:    problem{Kind: p.Statement.Kind.String(), Statement: PlanStatement(f, p, r.Currency), Short: []int{}, Excess: p.Statement.Excess, ExcessGap: p.Statement.ExcessGap},
 		LowerBound: p.Lower, FluidCost: p.Fluid, Gap: p.Gap, Unconstrained: p.Unconstrained,
 		CostOfBudget: p.Fluid - p.Unconstrained, CostAtLeast: p.Lower - p.Unconstrained, Rounds: p.Iterations, Programs: p.Programs,
 		Warnings: append([]string{}, r.Warnings...), Caution: Caution}

@@ -152,8 +152,8 @@ type Plan struct {
 	// Per calendar year y, len(Budget) entries.
 	//
 	// Multipliers[y] is the budget price λ_y: present value saved per
-	// currency unit of extra limit in year y (0 in a year that starts
-	// no period). Spend[y] is the plan's expected work spend in year y
+	// currency unit of extra budget in year y (0 in a short year and in
+	// a year that starts no period, which have no budget row). Spend[y] is the plan's expected work spend in year y
 	// (the sum over its periods), Mandatory[y] the part of it in
 	// conditions where the passive action is not admissible.
 	Multipliers, Spend, Mandatory []float64

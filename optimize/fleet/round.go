@@ -4,39 +4,65 @@ import (
 	"cmp"
 	"math"
 	"slices"
-	"sort"
 )
 
 // largestRemainder rounds non-negative shares to whole numbers summing to
-// total (Hamilton's method): floors first, then one more to the largest
-// remainders, ties to the lowest index.
-func largestRemainder(x []float64, total int) []int {
-	out := make([]int, len(x))
+// total (Hamilton's method) into out: floors first, then one more to the
+// largest remainders, ties to the lowest index. It allocates nothing: the
+// extra units (fewer than len(x)) are placed by repeated selection.
+func largestRemainder(x []float64, total int, out []int) {
+	clear(out)
 	sum := 0.0
 	for _, v := range x {
 		sum += max(v, 0)
 	}
 	if total <= 0 || sum <= 0 {
-		return out
+		return
 	}
-	type rem struct {
-		i int
-		r float64
-	}
-	rems := make([]rem, len(x))
 	given := 0
 	for i, v := range x {
-		exact := max(v, 0) / sum * float64(total)
-		out[i] = int(math.Floor(exact))
+		out[i] = int(math.Floor(max(v, 0) / sum * float64(total)))
 		given += out[i]
-		rems[i] = rem{i, exact - float64(out[i])}
 	}
-	sort.SliceStable(rems, func(a, b int) bool { return rems[a].r > rems[b].r })
-	for k := 0; given < total; k++ {
-		out[rems[k%len(rems)].i]++
+	// bumped marks (as a bit set, len(x) <= 64 in practice; longer rows
+	// fall back to a slice) the indices already given one more.
+	var small uint64
+	var big []bool
+	if len(x) > 64 {
+		big = make([]bool, len(x))
+	}
+	isBumped := func(i int) bool {
+		if big != nil {
+			return big[i]
+		}
+		return small&(1<<uint(i)) != 0
+	}
+	for given < total {
+		best, bestR := -1, math.Inf(-1)
+		for i, v := range x {
+			if isBumped(i) {
+				continue
+			}
+			exact := max(v, 0) / sum * float64(total)
+			if r := exact - math.Floor(exact); r > bestR {
+				best, bestR = i, r
+			}
+		}
+		if best < 0 { // every index bumped once: start again
+			small, big = 0, nil
+			if len(x) > 64 {
+				big = make([]bool, len(x))
+			}
+			continue
+		}
+		if big != nil {
+			big[best] = true
+		} else {
+			small |= 1 << uint(best)
+		}
+		out[best]++
 		given++
 	}
-	return out
 }
 
 // workList is the whole-unit work of period k for counts[c][s] units: in
@@ -50,6 +76,11 @@ func largestRemainder(x []float64, total int) []int {
 // what is left of limit.
 func (plan *Plan) workList(k int, counts [][]int, limit float64) *WorkList {
 	wl := &WorkList{Period: k, Units: make([][][]int, len(plan.classes)), Limit: limit}
+	size := 0
+	for ci, c := range plan.classes {
+		size += len(counts[ci]) * len(c.Model.Actions)
+	}
+	flat := make([]int, size)
 	type cut struct {
 		c, s, a      int
 		ratio, saved float64
@@ -57,8 +88,11 @@ func (plan *Plan) workList(k int, counts [][]int, limit float64) *WorkList {
 	var cuts []cut
 	for ci, c := range plan.classes {
 		wl.Units[ci] = make([][]int, len(counts[ci]))
+		m := len(c.Model.Actions)
 		for st, u := range counts[ci] {
-			row := largestRemainder(plan.Shares[ci][k][st], u)
+			row := flat[:m:m]
+			flat = flat[m:]
+			largestRemainder(plan.Shares[ci][k][st], u, row)
 			wl.Units[ci][st] = row
 			for a, n := range row {
 				if n == 0 {

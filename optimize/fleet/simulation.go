@@ -100,6 +100,7 @@ func Simulate(ctx context.Context, f *Problem, plan *Plan, rule Rule, runs int, 
 		return nil, fmt.Errorf("fleet: unknown rule %d", rule)
 	}
 	out := make([]runResult, runs)
+	rows := plan.simRows(rule)
 	workers = max(1, workers)
 	next := make(chan int)
 	var wg sync.WaitGroup
@@ -111,7 +112,7 @@ func Simulate(ctx context.Context, f *Problem, plan *Plan, rule Rule, runs int, 
 			defer wg.Done()
 			for r := range next {
 				rng := rand.New(rand.NewPCG(seed, uint64(r)+1))
-				out[r] = plan.simulateRun(rng, rule)
+				out[r] = plan.simulateRun(rng, rule, rows)
 				if progress != nil {
 					mu.Lock()
 					done++
@@ -183,37 +184,70 @@ func (plan *Plan) shares(ci, k, s int, advice bool) []float64 {
 	return sh
 }
 
+// simRows holds what every run reads: split[c][k][s], the rule's action
+// shares as a row for Multinomial (nil for the practice), and
+// move[c][s][a], the transition row of action a in s.
+type simRows struct {
+	split [][][][]condition.Entry
+	move  [][][][]condition.Entry
+}
+
+func (plan *Plan) simRows(rule Rule) *simRows {
+	r := &simRows{split: make([][][][]condition.Entry, len(plan.classes)), move: make([][][][]condition.Entry, len(plan.classes))}
+	for ci, c := range plan.classes {
+		r.move[ci] = make([][][]condition.Entry, len(c.p.States))
+		for s, cs := range c.p.Choices {
+			r.move[ci][s] = make([][]condition.Entry, len(c.Model.Actions))
+			for _, ch := range cs {
+				r.move[ci][s][ch.Action] = ch.Next
+			}
+		}
+		if rule == FollowPractice {
+			continue
+		}
+		r.split[ci] = make([][][]condition.Entry, len(plan.PeriodYear))
+		for k := range plan.PeriodYear {
+			r.split[ci][k] = make([][]condition.Entry, len(c.p.States))
+			for s := range c.p.States {
+				r.split[ci][k][s] = shareRow(plan.shares(ci, k, s, rule == FollowAdvice))
+			}
+		}
+	}
+	return r
+}
+
 // simulateRun draws one future.
-func (plan *Plan) simulateRun(rng *rand.Rand, rule Rule) runResult {
+func (plan *Plan) simulateRun(rng *rand.Rand, rule Rule, rows *simRows) runResult {
 	Y, K := len(plan.Spend), len(plan.PeriodYear)
 	res := runResult{spend: make([]float64, Y), total: make([]float64, Y), units: make([][][]int, len(plan.classes))}
 	cur := make([][]int, len(plan.classes))
+	split := make([][]int, len(plan.classes))
 	for ci, c := range plan.classes {
 		res.units[ci] = make([][]int, K)
 		cur[ci] = slices.Clone(c.units)
+		split[ci] = make([]int, len(c.Model.Actions))
 	}
 	disc := 1.0
 	for k := range K {
 		y := plan.PeriodYear[k]
-		// work[c][s][a] units, from the rule.
-		work := make([][][]int, len(plan.classes))
+		var work [][][]int
 		if rule == FollowPractice {
 			work = plan.workList(k, cur, plan.periodLimit(k, res.spend[y])).Units
-		} else {
-			for ci, c := range plan.classes {
-				work[ci] = make([][]int, len(cur[ci]))
-				for s, m := range cur[ci] {
-					work[ci][s] = make([]int, len(c.Model.Actions))
-					if m > 0 {
-						condition.Multinomial(rng, m, shareRow(plan.shares(ci, k, s, rule == FollowAdvice)), work[ci][s])
-					}
-				}
-			}
 		}
 		for ci, c := range plan.classes {
 			res.units[ci][k] = cur[ci]
 			next := make([]int, len(cur[ci]))
-			for s, row := range work[ci] {
+			for s, m := range cur[ci] {
+				if m == 0 {
+					continue
+				}
+				row := split[ci]
+				if work != nil {
+					row = work[ci][s]
+				} else {
+					clear(row)
+					condition.Multinomial(rng, m, rows.split[ci][k][s], row)
+				}
 				for a, n := range row {
 					if n == 0 {
 						continue
@@ -222,7 +256,7 @@ func (plan *Plan) simulateRun(rng *rand.Rand, rule Rule) runResult {
 					res.spend[y] += float64(n) * cost
 					res.total[y] += float64(n) * (cost + c.Costs.Running[s])
 					res.cost += disc * float64(n) * (cost + c.Costs.Running[s])
-					condition.Multinomial(rng, n, c.p.Choices[s][c.p.Find(s, a)].Next, next)
+					condition.Multinomial(rng, n, rows.move[ci][s][a], next)
 				}
 			}
 			cur[ci] = next
