@@ -52,8 +52,12 @@ func (r *SimulationReport) WriteTable(w io.Writer) error {
 	s := r.Sim
 	cur := r.Currency
 	fmt.Fprintf(w, "%s: simulation (Monte-Carlo) of %s futures under %s; seed %d\n", r.Model, Money(float64(s.Runs), 0), ruleText(s.Rule), r.Seed)
-	if err := writeLines(w, []string{fmt.Sprintf("Simulated present cost %s ± %s (mean ± standard error; P10 %s, P90 %s); %s of the rule: %s.",
-		amount(s.Cost.Mean, cur), Money(s.Cost.SE, 0), Money(s.Cost.P10, 0), Money(s.Cost.P90, 0), expectedLabel(s.Rule), amount(s.ExpectedCost, cur))}); err != nil {
+	compare := "the expected-count forecast of the same rule"
+	if s.Rule == fleet.FollowPractice {
+		compare = "the plan's own expected cost (expected-count model)"
+	}
+	if err := writeLines(w, []string{fmt.Sprintf("Simulated present cost %s ± %s (mean ± standard error; P10 %s, P90 %s); %s: %s.",
+		amount(s.Cost.Mean, cur), Money(s.Cost.SE, 0), Money(s.Cost.P10, 0), Money(s.Cost.P90, 0), compare, amount(s.ExpectedCost, cur))}); err != nil {
 		return err
 	}
 	var rows [][]string
