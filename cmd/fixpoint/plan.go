@@ -133,7 +133,7 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 		return err
 	}
 	view := &reports.PlanReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, gap, ff.Currency)}
-	runs, seed, err := a.runsAndSeed(0)
+	runs, seed, err := a.runsAndSeed(true)
 	if err != nil {
 		return err
 	}
@@ -155,7 +155,7 @@ func (a *app) warn(msg string) { io.WriteString(a.stderr, "fixpoint: warning: "+
 // simulateFleet runs the Monte-Carlo of a fleet file for forecast
 // --simulate.
 func (a *app) simulateFleet(cmd *cobra.Command, path string, format string, out output) error {
-	runs, seed, err := a.runsAndSeed(2)
+	runs, seed, err := a.runsAndSeed(false)
 	if err != nil {
 		return err
 	}
@@ -178,15 +178,19 @@ func (a *app) simulateFleet(cmd *cobra.Command, path string, format string, out 
 	return a.emit(cmd, out, format, view)
 }
 
-// runsAndSeed reads --simulate (at least least runs, or 0 when least is
-// 0) and --seed.
-func (a *app) runsAndSeed(least int) (int, int, error) {
+// runsAndSeed reads --simulate (runs in [2, 1000000], or 0 when
+// allowNone) and --seed.
+func (a *app) runsAndSeed(allowNone bool) (int, int, error) {
 	runs, err := a.integer("simulate")
 	if err != nil {
 		return 0, 0, err
 	}
-	if ok := runs >= 2 && runs <= 1_000_000 || least == 0 && runs == 0; !ok {
-		return 0, 0, usagef("setting simulate: %d is not a number of runs in [2, 1000000]%s", runs, map[bool]string{true: " or 0"}[least == 0])
+	if !(runs >= 2 && runs <= 1_000_000 || allowNone && runs == 0) {
+		none := ""
+		if allowNone {
+			none = " or 0"
+		}
+		return 0, 0, usagef("setting simulate: %d is not a number of runs in [2, 1000000]%s", runs, none)
 	}
 	seed, err := a.integer("seed")
 	return runs, seed, err
