@@ -50,18 +50,20 @@ func newSolver(f *Problem, classes []*fleetClass, set Settings) *solver {
 		sv.periodsOf[y] = append(sv.periodsOf[y], k)
 	}
 	zero := make([]float64, K)
-	spend := make([]float64, Y)
+	// spend[i][y]: the yearly spend of the advice (i = 0) and of the
+	// least-spend policy (i = 1) over the fleet.
+	spend := [2][]float64{make([]float64, Y), make([]float64, Y)}
 	for ci, c := range classes {
 		// The unconstrained advice, and the least-spend policy, so that
 		// the master always has a way to save money.
-		for _, col := range []*column{sv.column(ci, sv.price(c, 1, zero, nil)), sv.column(ci, c.leastSpend(K))} {
+		for i, col := range []*column{sv.column(ci, sv.price(c, 1, zero, nil)), sv.column(ci, c.leastSpend(K))} {
 			sv.cols = append(sv.cols, col)
 			for y, x := range col.yspend {
-				spend[y] += x
+				spend[i][y] += x
 			}
 		}
 	}
-	sv.scale = max(1, slices.Max(f.Budget), slices.Max(spend)/2)
+	sv.scale = max(1, slices.Max(f.Budget), slices.Max(spend[0]), slices.Max(spend[1]))
 	return sv
 }
 
