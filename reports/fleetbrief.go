@@ -7,10 +7,10 @@ import (
 	"time"
 )
 
-// FleetBrief is the printable brief of a fleet's budget plan: the bounds
-// and what the cap costs, spend against the budget, deferred units and the
-// condition mix of each class over the years, with the caution box on
-// every page.
+// FleetBrief is the printable brief of a fleet's budget plan: the problem
+// solved with its bounds and what the budget costs, planned spend per
+// calendar year against the budget, deferred units and the condition mix
+// of each class over the periods, with the caution box on every page.
 type FleetBrief struct {
 	Plan *PlanReport
 	Date time.Time
@@ -32,29 +32,33 @@ func (b *FleetBrief) WritePDF(w io.Writer) error {
 		}
 	}
 	d.heading("Summary", 30)
-	d.paragraph(fmt.Sprintf("%s units in %d classes over %d years. The best plan found for the expected fleet costs %s %s in present value, "+
-		"proven within %s of the best possible (lower bound %s). The whole-unit work list costs %s. Without the budget cap the fleet would cost %s: "+
-		"the cap costs %s %s in present value.",
-		Money(units, 0), len(f.Classes), len(f.Budget), Money(p.Fluid, 0), r.Currency, Percent(p.Gap, 3), Money(p.Lower, 0),
-		Money(p.PlanCost, 0), Money(p.Unconstrained, 0), Money(p.PlanCost-p.Unconstrained, 0), r.Currency))
+	lines := r.boundLines()
+	d.paragraph(fmt.Sprintf("%s units in %d classes over %s.", Money(units, 0), len(f.Classes), horizonText(f, p)))
+	for _, l := range lines {
+		d.paragraph(l)
+	}
+	if r.Practice == nil {
+		d.paragraph("The whole-unit practice is not simulated in this brief (fixpoint plan shows it).")
+	}
 	if len(r.Warnings) > 0 {
 		d.heading("Warnings", 20)
 		for _, wn := range r.Warnings {
 			d.paragraph(wn)
 		}
 	}
-	cats := make([]string, len(f.Budget))
+	Y, K := len(f.Budget), len(p.PeriodYear)
+	cats := make([]string, Y)
 	for t := range cats {
 		cats[t] = strconv.Itoa(t + 1)
 	}
 	acol := ramp(actionRamp, len(f.Classes))
 	var spend []series
 	for c, fc := range f.Classes {
-		v := make([]float64, len(f.Budget))
-		for t := range v {
-			for s, row := range p.Work[c][t] {
-				for a, u := range row {
-					v[t] += float64(u) * fc.Costs.Action[a][s]
+		v := make([]float64, Y)
+		for k, y := range p.PeriodYear {
+			for s, row := range p.Flow[c][k] {
+				for a, x := range row {
+					v[y] += x * fc.Costs.Action[a][s]
 				}
 			}
 		}
@@ -65,19 +69,23 @@ func (b *FleetBrief) WritePDF(w io.Writer) error {
 		pdf.AddPage()
 		y = pdf.GetY()
 	}
-	d.stackedBarsWithLimit(marginX, y, contentW, 62, "Work spend per year by class against the budget ("+r.Currency+")",
+	d.stackedBarsWithLimit(marginX, y, contentW, 62, "Work spend per year by class against the budget ("+r.Currency+"; planned, expected, per calendar year)",
 		"year", r.Currency, cats, spend, f.Budget, "budget", func(v float64) string { return Money(v, 0) })
 	y = pdf.GetY() + 3
 	if y+60 > contentBottom {
 		pdf.AddPage()
 		y = pdf.GetY()
 	}
-	deferred := make([]float64, len(f.Budget))
-	for t, n := range p.Deferred {
-		deferred[t] = float64(n)
+	pcats := make([]string, K)
+	for k := range pcats {
+		pcats[k] = strconv.Itoa(k + 1)
 	}
-	d.stackedBars(marginX, y, contentW, 52, "Units deferred: the unconstrained advice would work on them, the plan waits",
-		"year", "units", cats, []series{{name: "deferred units", color: stateRamp[2], values: deferred}}, func(v float64) string { return Money(v, 0) })
+	xlabel := "period"
+	if p.Period.Years() == 1 {
+		xlabel = "year"
+	}
+	d.stackedBars(marginX, y, contentW, 52, "Units deferred (expected): the unconstrained advice would work on them, the plan waits",
+		xlabel, "units", pcats, []series{{name: "deferred units", color: stateRamp[2], values: p.Deferred}}, func(v float64) string { return Money(v, 0) })
 	for c, fc := range f.Classes {
 		if pdf.GetY()+70 > contentBottom {
 			pdf.AddPage()
@@ -85,25 +93,26 @@ func (b *FleetBrief) WritePDF(w io.Writer) error {
 		cols := ramp(stateRamp, len(fc.Model.States))
 		var mix []series
 		for s, st := range fc.Model.States {
-			v := make([]float64, len(f.Budget))
-			for t := range v {
-				v[t] = p.Expected[c][t][s]
+			v := make([]float64, K)
+			for k := range v {
+				v[k] = p.Expected[c][k][s]
 			}
 			mix = append(mix, series{name: st.Name, color: cols[s], values: v})
 		}
-		d.stackedBars(marginX, pdf.GetY()+3, contentW, 58, "Expected condition mix of "+fc.Name+" (units at the start of each year)",
-			"year", "units", cats, mix, func(v float64) string { return Money(v, 0) })
+		d.stackedBars(marginX, pdf.GetY()+3, contentW, 58, "Expected condition mix of "+fc.Name+" (units at the start of each "+xlabel+")",
+			xlabel, "units", pcats, mix, func(v float64) string { return Money(v, 0) })
 	}
-	d.heading("Spend and budget per year", 40)
-	t := pdfTable{header: []string{"Year", "Budget", "Spend (work list)", "Expected spend", "Deferred units", "Unsafe units (exp.)"},
-		widths: []float64{10, 18, 18, 18, 14, 16}, right: []bool{true, true, true, true, true, true}}
+	d.heading("Spend and budget per calendar year", 40)
+	t := pdfTable{header: []string{"Year", "Budget", "Rule", "Planned spend (exp.)", "Of which mandatory"},
+		widths: []float64{10, 18, 22, 20, 20}, right: []bool{true, true, false, true, true}}
+	starts := periodStarts(p)
 	for i := range f.Budget {
-		t.rows = append(t.rows, []string{strconv.Itoa(i + 1), Money(f.Budget[i], 0), Money(p.Spend[i], 0), Money(p.ExpectedSpend[i], 0),
-			strconv.Itoa(p.Deferred[i]), Fixed(p.UnsafeUnits[i], 1)})
+		t.rows = append(t.rows, []string{strconv.Itoa(i + 1), Money(f.Budget[i], 0), r.yearRule(i, starts), Money(p.Spend[i], 0), Money(p.Mandatory[i], 0)})
 	}
 	d.table(t)
-	d.paragraph("Bounds: a Lagrangian relaxation of the annual budgets gives the lower bound; the plan found is a feasible plan of the expected-count model; " +
-		"the work list rounds it to whole units. Beyond the horizon each unit is charged its unconstrained optimal value. " +
-		"The work list beyond year 1 is a forecast: re-plan each year from the new inspection results.")
+	d.paragraph("Bounds: the problem solved is stated above; a Lagrangian relaxation of the yearly budget rows gives the lower bound, and the plan found " +
+		"is a feasible plan of the expected-count model. Beyond the horizon each unit is charged its unconstrained optimal value. " +
+		"Beyond period 1 the fleet's condition is not known: later periods are the plan's policy and its expected units. " +
+		"Re-plan each year from the new inspection results.")
 	return d.output(w)
 }

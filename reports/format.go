@@ -8,8 +8,6 @@ import (
 	"strings"
 	"unicode/utf8"
 
-	"fixpoint/condition"
-
 	"github.com/olekukonko/tablewriter"
 	"github.com/olekukonko/tablewriter/tw"
 )
@@ -76,27 +74,6 @@ func table(w io.Writer, header []string, numeric []bool, rows [][]string) error 
 		}
 	}
 	return t.Render()
-}
-
-// mixTable renders a year-by-condition table: one row per year (numbered
-// from 1), one column per state, cell(t, s) the entry of year t and state s.
-func mixTable(w io.Writer, states []condition.State, years int, cell func(t, s int) string) error {
-	header := []string{"year"}
-	for _, st := range states {
-		header = append(header, st.Name)
-	}
-	numeric := make([]bool, len(header))
-	for i := range numeric {
-		numeric[i] = true
-	}
-	rows := make([][]string, years)
-	for t := range rows {
-		rows[t] = []string{strconv.Itoa(t + 1)}
-		for s := range states {
-			rows[t] = append(rows[t], cell(t, s))
-		}
-	}
-	return table(w, header, numeric, rows)
 }
 
 // stateLabel is the name of state s, marked when the state is unsafe.

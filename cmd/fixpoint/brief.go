@@ -71,7 +71,7 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 		if err != nil {
 			return err
 		}
-		view := &reports.PlanReport{Model: ff.Name, Currency: ff.Currency, Fleet: fl, Plan: p, Warnings: reports.PlanWarnings(fl, p, st.Fleet.Gap)}
+		view := &reports.PlanReport{Header: fleetHeader(ff), Fleet: fl, Plan: p, Warnings: reports.PlanWarnings(fl, p, st.Fleet.Gap, ff.Currency)}
 		b := &reports.FleetBrief{Plan: view, Date: st.Date}
 		return out.Write(cmd.Context(), a.stdout, func(w io.Writer) error { return b.WritePDF(w) })
 	}

@@ -122,11 +122,12 @@ func (a *app) simulateFleet(cmd *cobra.Command, ff *modelfile.Fleet, st settings
 		return err
 	}
 	bar := progress.New(a.stderr, st.Simulate, "simulating", st.Progress)
-	sim, err := fleet.Simulate(cmd.Context(), f, p, st.Follow == "advice", st.Simulate, st.Seed, 0, bar.Add)
+	rules := map[string]fleet.Rule{"plan": fleet.FollowPlan, "practice": fleet.FollowPractice, "advice": fleet.FollowAdvice}
+	sim, err := fleet.Simulate(cmd.Context(), f, p, rules[st.Follow], st.Simulate, st.Seed, 0, bar.Add)
 	bar.Finish()
 	if err != nil {
 		return err
 	}
-	view := &reports.SimulationReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Sim: sim, Follow: st.Follow, Seed: st.Seed}
+	view := &reports.SimulationReport{Header: fleetHeader(ff), Fleet: f, Plan: p, Sim: sim, Seed: st.Seed}
 	return a.emit(cmd, st.Output, view)
 }

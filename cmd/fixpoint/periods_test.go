@@ -77,6 +77,27 @@ func TestPeriodLengths(t *testing.T) {
 				t.Errorf("forecast: period 1 starts at year %g, want %g", f.Periods[1].Year, years)
 			}
 
+			// The plan's budget holds per calendar year: as many years as the
+			// horizon, each year's planned spend within its budget unless
+			// the year is short of its mandatory work.
+			var plan struct {
+				Years []struct {
+					Year         int     `json:"year"`
+					Budget       float64 `json:"budget"`
+					Rule         string  `json:"rule"`
+					PlannedSpend float64 `json:"planned_spend"`
+				} `json:"years"`
+			}
+			runJSON(t, &plan, "plan", fleet, "--format", "json", "--simulate", "0", "--years", "4", "--budget", "70000")
+			if len(plan.Years) != 4 {
+				t.Errorf("plan over 4 years: %d years", len(plan.Years))
+			}
+			for _, y := range plan.Years {
+				if y.Rule != "mandatory_only" && y.PlannedSpend > y.Budget*(1+1e-9) {
+					t.Errorf("plan: year %d spends %g, over its budget %g", y.Year, y.PlannedSpend, y.Budget)
+				}
+			}
+
 			// The brief's spend chart is per calendar year when a year holds
 			// whole periods, and says per period otherwise.
 			text := pdfText(t, filepath.Join(out, "class.pdf"))

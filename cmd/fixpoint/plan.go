@@ -13,15 +13,20 @@ func (a *app) newPlan() *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "plan FLEET.yaml",
 		Short: "Budget-constrained multi-year work plan of a fleet, with proven bounds",
-		Long: `plan reads a fleet file (class configs, an inventory of units and a budget per
-year) and plans the work of every year under the budget: the optimal plan of
-the expected-count model, with a proven lower bound (Lagrangian relaxation of the
-budgets) and the gap to the plan found, then a whole-unit work list.
+		Long: `plan reads a fleet file (class configs, an inventory of units and a budget
+per calendar year) and plans the work under the budgets: the optimal plan of the
+expected-count model, with a proven lower bound (Lagrangian relaxation of the
+yearly budget rows) and the gap to the plan found, the problem solved stated in
+words; a whole-unit work list for the first period; the plan's policy and its
+expected units for later periods; and a Monte-Carlo of the whole-unit practice
+(--simulate runs, --seed; 0 runs for none).
 
-Years t = 1..T; the inventory gives year 1; year-t work is charged to the budget
-of year t (running costs are not); year-t costs are discounted by γ^(t-1); after
-year T each unit is charged its unconstrained optimal value, discounted by γ^T.
-Work in unsafe states is mandatory and funded first.`,
+The plan runs over the periods that start within the horizon's years; a period's
+work is charged to the calendar year in which it starts (running costs are not);
+period-k costs are discounted by γ^k, γ the factor per period; after the last
+period each unit is charged its unconstrained optimal value. Work in unsafe states
+is mandatory: where a year's budget cannot cover it, that year does mandatory
+work only, at least cost.`,
 		Example: `  fixpoint plan configs/east-zone.yaml
   fixpoint plan configs/east-zone.yaml --budget 45000 --years 15 -o plan.json`,
 		Args: exactArgs(1, "one fleet file"),
@@ -30,8 +35,17 @@ Work in unsafe states is mandatory and funded first.`,
 	f := cmd.Flags()
 	settings.AddFleet(f)
 	settings.AddYears(f, "horizon in `years` overriding the fleet file")
+	f.String("simulate", "1000", "Monte-Carlo `runs` of the whole-unit practice (0 = none)")
+	f.String("seed", "1", "seed of the random numbers (`n`)")
 	settings.AddOutput(f, "table", "json", "csv")
 	return cmd
+}
+
+// fleetHeader is the reports header of a fleet: its name, currency and the
+// classes' shared period and discount.
+func fleetHeader(ff *modelfile.Fleet) reports.Header {
+	c := ff.Classes[0]
+	return reports.Header{Model: ff.Name, Currency: ff.Currency, Period: c.Period, Discount: c.Discount, Source: ff.Path, Version: version()}
 }
 
 // fleetPlan applies --budget and --years to a fleet file and plans it.
@@ -85,7 +99,13 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	view := &reports.PlanReport{Model: ff.Name, Currency: ff.Currency, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Fleet.Gap)}
+	view := &reports.PlanReport{Header: fleetHeader(ff), Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Fleet.Gap, ff.Currency)}
+	if st.Simulate > 0 {
+		if view.Practice, err = fleet.Simulate(cmd.Context(), f, p, fleet.FollowPractice, st.Simulate, st.Seed, 0, nil); err != nil {
+			return err
+		}
+		view.Seed = st.Seed
+	}
 	for _, wn := range view.Warnings {
 		a.warn(wn)
 	}

@@ -34,45 +34,61 @@ func copyFleet(t *testing.T, edits map[string][2]string) string {
 
 func TestPlanJSON(t *testing.T) {
 	var doc struct {
+		Problem struct {
+			Kind, Statement string
+		}
 		LowerBound float64 `json:"lower_bound"`
 		FluidCost  float64 `json:"fluid_cost"`
-		PlanCost   float64 `json:"plan_cost"`
 		Gap        float64
 		Years      []struct {
-			Year          int
-			Budget, Spend float64
-			Work          []struct {
+			Year         int
+			Budget       float64
+			PlannedSpend float64 `json:"planned_spend"`
+		}
+		WorkList struct {
+			Work []struct {
 				Class, Condition, Action string
 				Units                    int
 			}
-			Deferred       int
+			Deferred int
+		} `json:"work_list"`
+		Periods []struct {
 			ExpectedCounts map[string]map[string]float64 `json:"expected_counts"`
 		}
+		Practice struct {
+			Runs int
+			Cost struct{ Mean, SE float64 }
+		} `json:"simulated_practice"`
 		Warnings []string
 	}
 	runJSON(t, &doc, "plan", demoFleet, "--format", "json")
-	if !(doc.LowerBound <= doc.FluidCost && doc.FluidCost <= doc.PlanCost*1.1) || doc.Gap > 1e-4 {
-		t.Errorf("bounds %g, %g, %g, gap %g", doc.LowerBound, doc.FluidCost, doc.PlanCost, doc.Gap)
+	if !(doc.LowerBound <= doc.FluidCost) || doc.Gap > 1e-4 || doc.Problem.Kind != "within_budget" || !strings.HasPrefix(doc.Problem.Statement, "Problem solved:") {
+		t.Errorf("bounds %g, %g, gap %g, problem %+v", doc.LowerBound, doc.FluidCost, doc.Gap, doc.Problem)
 	}
-	if len(doc.Years) != 10 {
-		t.Fatalf("%d years", len(doc.Years))
+	if doc.Practice.Runs != 1000 || !(doc.Practice.Cost.SE > 0) {
+		t.Errorf("simulated practice %+v", doc.Practice)
+	}
+	if len(doc.Years) != 10 || len(doc.Periods) != 10 {
+		t.Fatalf("%d years, %d periods", len(doc.Years), len(doc.Periods))
 	}
 	for _, y := range doc.Years {
-		if y.Spend > y.Budget+1e-6 {
-			t.Errorf("year %d: spend %g above budget %g", y.Year, y.Spend, y.Budget)
+		if y.PlannedSpend > y.Budget+1e-6 {
+			t.Errorf("year %d: planned spend %g above budget %g", y.Year, y.PlannedSpend, y.Budget)
 		}
+	}
+	for k, p := range doc.Periods {
 		units := 0.0
-		for _, cls := range y.ExpectedCounts {
+		for _, cls := range p.ExpectedCounts {
 			for _, x := range cls {
 				units += x
 			}
 		}
 		if math.Abs(units-280) > 1e-6 {
-			t.Errorf("year %d: %g units expected, the inventory has 280", y.Year, units)
+			t.Errorf("period %d: %g units expected, the inventory has 280", k+1, units)
 		}
 	}
-	if len(doc.Years[0].Work) == 0 || doc.Years[0].Deferred == 0 {
-		t.Errorf("year 1: work %v, deferred %d", doc.Years[0].Work, doc.Years[0].Deferred)
+	if len(doc.WorkList.Work) == 0 || doc.WorkList.Deferred == 0 {
+		t.Errorf("period 1: work %v, deferred %d", doc.WorkList.Work, doc.WorkList.Deferred)
 	}
 }
 
@@ -112,22 +128,25 @@ func TestPlanOverrides(t *testing.T) {
 	var doc struct {
 		Years []struct {
 			Budget float64
-			Work   []struct{ Class, Condition, Action string }
 		}
+		WorkList struct {
+			Work []struct {
+				Class, Action string
+				Condition     string `json:"state"`
+			}
+		} `json:"work_list"`
 		Warnings []string
 	}
 	runJSON(t, &doc, "plan", demoFleet, "--format", "json", "--budget", "0", "--years", "3")
 	if len(doc.Years) != 3 || doc.Years[0].Budget != 0 {
 		t.Fatalf("years %d, budget %g", len(doc.Years), doc.Years[0].Budget)
 	}
-	for _, y := range doc.Years {
-		for _, w := range y.Work {
-			if w.Condition != "failed" && w.Condition != "seized" {
-				t.Errorf("zero budget: %+v is not mandatory work", w)
-			}
+	for _, w := range doc.WorkList.Work {
+		if w.Condition != "failed" && w.Condition != "seized" {
+			t.Errorf("zero budget: %+v is not mandatory work", w)
 		}
 	}
-	if len(doc.Warnings) == 0 || !strings.Contains(doc.Warnings[0], "mandatory work in unsafe states") {
+	if len(doc.Warnings) == 0 || !strings.Contains(doc.Warnings[0], "cannot cover the mandatory work") {
 		t.Errorf("warnings %q", doc.Warnings)
 	}
 }

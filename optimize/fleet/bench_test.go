@@ -2,22 +2,25 @@ package fleet
 
 import (
 	"context"
-	"fixpoint/optimize"
-	"fixpoint/optimize/internal/mdptest"
 	"fmt"
 	"math/rand/v2"
 	"runtime"
 	"testing"
+
+	"fixpoint/optimize"
+	"fixpoint/optimize/internal/mdptest"
 )
 
 // benchFleet is 20 invented classes of 6 states and 4 actions with 2,500
-// units each (50,000 in all), over 20 years, with a budget of 60% of what
-// the unconstrained advice spends in an average year.
+// units each (50,000 in all), over 20 years of one-year periods, with a
+// budget of 60% of what the unconstrained advice spends in an average
+// year.
 func benchFleet() *Problem {
 	rng := rand.New(rand.NewPCG(2026, 5))
 	f := &Problem{Discount: mdptest.Factor(1/1.04, 1)}
 	for i := range 20 {
 		model, sched := mdptest.RandomClass(rng, 6, 4)
+		model.PeriodYears = 1
 		name := fmt.Sprintf("class%02d", i)
 		// 2,500 units, spread over the five safe conditions with a few
 		// failed ones.
@@ -50,7 +53,8 @@ func benchFleet() *Problem {
 	return f
 }
 
-// BenchmarkPlanFleet times a plan of the bench fleet to a gap of 0.5%.
+// BenchmarkPlanFleet times a plan of the bench fleet to a gap of 0.5%,
+// the excess programs included.
 func BenchmarkPlanFleet(b *testing.B) {
 	f := benchFleet()
 	b.ReportAllocs()
@@ -63,20 +67,26 @@ func BenchmarkPlanFleet(b *testing.B) {
 	}
 	b.ReportMetric(100*plan.Gap, "gap%")
 	b.ReportMetric(float64(plan.Iterations), "rounds")
+	b.ReportMetric(float64(plan.Programs), "programs")
 }
 
 // BenchmarkSimulatePlan times 1,000 Monte-Carlo runs of the bench fleet's
-// plan on all cores.
+// plan on all cores, following the plan's shares and the whole-unit
+// practice.
 func BenchmarkSimulatePlan(b *testing.B) {
 	f := benchFleet()
 	plan, err := Solve(context.Background(), f, &Settings{Gap: 0.005})
 	if err != nil {
 		b.Fatal(err)
 	}
-	b.ReportAllocs()
-	for b.Loop() {
-		if _, err := Simulate(context.Background(), f, plan, false, 1000, 7, runtime.GOMAXPROCS(0), nil); err != nil {
-			b.Fatal(err)
-		}
+	for _, rule := range []Rule{FollowPlan, FollowPractice} {
+		b.Run(rule.String(), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := Simulate(context.Background(), f, plan, rule, 1000, 7, runtime.GOMAXPROCS(0), nil); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
 	}
 }

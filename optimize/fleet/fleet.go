@@ -13,7 +13,7 @@ import (
 )
 
 // Class is one class of a fleet: its model, costs and the number of
-// units in each condition in year 1.
+// units in each condition at the start of the plan (whole numbers).
 type Class struct {
 	Name   string
 	Model  *condition.Model
@@ -21,78 +21,174 @@ type Class struct {
 	Counts []float64
 }
 
-// Problem is several classes sharing one discount factor, one period (a
-// plan year) and an annual budget for work.
+// Problem is several classes sharing one discount and one period, with a
+// budget for work per calendar year.
+//
+// Calendar convention (costs.Period): period k starts k·Period().Years()
+// years after the start of the plan; its work is done and paid at its
+// start and is charged to the calendar year in which it starts. With
+// periods shorter than a year several periods share one year's budget;
+// with periods longer than a year some years start no period, carry no
+// work and leave their budget unused.
 type Problem struct {
 	Classes []Class
 	// Discount is the discount of the plan: its factor per period and
-	// the period length.
+	// the period length, which every class's model shares.
 	Discount costs.Discount
-	// Budget[t] caps the action spend of year t+1; len(Budget) is the
-	// horizon T.
+	// Budget[y] caps the work spend of calendar year y+1 (the action
+	// costs of every period starting in it; running costs are not
+	// charged to it). len(Budget) is the horizon in years: the plan runs
+	// over Periods() periods.
 	Budget []float64
 }
 
+// Periods returns the number of periods the plan runs over: the periods
+// that start within the len(Budget) years, Discount.Period().Count(years).
+// The last of them may end after the horizon (a period of 5 years in a
+// plan of 6 years starts at year 0 and year 5).
+func (f *Problem) Periods() int { return f.Discount.Period().Count(float64(len(f.Budget))) }
+
 // Settings controls Solve.
 type Settings struct {
-	// Gap is the relative target (fluid cost - lower bound)/fluid cost;
-	// zero means 1e-5.
+	// Gap is the relative target (Fluid - Lower)/|Fluid| of the final
+	// problem; zero means 1e-5.
 	Gap float64
-	// MaxIterations caps the column-generation rounds; zero means 500.
+	// MaxIterations caps the column-generation rounds of each linear
+	// program solved; zero means 500.
 	MaxIterations int
 }
 
-// Plan is a budget-constrained multi-year plan of a fleet.
+// Kind says which problem a plan solves.
+type Kind int
+
+const (
+	// WithinBudget: the least expected present cost with every calendar
+	// year's expected work spend within its budget.
+	WithinBudget Kind = iota
+	// MandatoryFirst: in some years the budget cannot cover the
+	// mandatory work; in those years only mandatory work is done, at
+	// least cost, and every other year stays within its budget.
+	MandatoryFirst
+)
+
+// String returns "within_budget" or "mandatory_first".
+func (k Kind) String() string {
+	if k == MandatoryFirst {
+		return "mandatory_first"
+	}
+	return "within_budget"
+}
+
+// Statement is the problem a plan solves, as data, so that every output
+// can say it in words next to the bounds. It is the linear program
 //
-// Conventions: years t = 1..T; the inventory gives the counts of year 1;
-// the work of year t costs its action costs (charged to the budget of year
-// t) and the units' running costs (not charged to the budget); year-t
-// costs are discounted by γ^(t-1); after year T each unit is charged its
-// unconstrained optimal value, discounted by γ^T.
+//	minimise   expected present cost of the fleet (expected-count model)
+//	subject to expected work spend of year y <= Budget[y]   (y not Short)
+//	           in the periods of a Short year, every unit gets an action
+//	           of least cost for its condition (the cheapest mandatory
+//	           work in unsafe conditions; units in safe conditions left
+//	           alone where leaving them costs nothing)
+//
+// Year y is Short when even the plan that minimises year y's spend,
+// keeping the earlier years to these rules, exceeds Budget[y]; Excess[y]
+// is by how much (the least excess given the earlier years), found year
+// by year before the plan. In the other years Excess[y] is 0.
+type Statement struct {
+	Kind   Kind
+	Short  []bool
+	Excess []float64
+	// ExcessGap is the largest proven gap (currency units) of the
+	// programs that found the excesses.
+	ExcessGap float64
+}
+
+// WorkList is a whole-unit list of work for one period: Units[c][s][a]
+// units of class c in condition s get action a (the passive action
+// included, so that each condition's units are all listed).
+type WorkList struct {
+	Period int
+	Units  [][][]int
+	// Spend is the list's work spend, Mandatory the part in conditions
+	// where the passive action is not admissible (unsafe ones), Limit
+	// what the period may spend: the spend never exceeds
+	// max(Limit, Mandatory).
+	Spend, Mandatory, Limit float64
+	// Deferred counts units whose unconstrained advice is work but that
+	// the list leaves alone.
+	Deferred int
+}
+
+// Plan is a multi-year plan of a fleet under yearly budgets.
+//
+// Conventions: periods k = 0..K-1 (K = Problem.Periods()); the inventory
+// gives the counts at the start of period 0; period k's costs are
+// discounted by γ^k (γ the factor per period) and its work is charged to
+// calendar year PeriodYear[k]; after period K-1 each unit is charged its
+// unconstrained optimal value, discounted by γ^K, so that a plan cannot
+// gain by running the fleet down at the end.
+//
+// Beyond the first period the fleet's condition is not known: the plan
+// for later periods is a policy (Shares) with its expected counts, not a
+// work list. The whole-unit practice of following it is valued by
+// Simulate with FollowPractice.
 type Plan struct {
-	// Lower is the best Lagrangian bound found: no plan of the
-	// expected-count model costs less. Fluid is the cost of the best
-	// expected-count plan found (a mixture of class policies), Gap =
-	// (Fluid - Lower)/Fluid.
+	// Statement is the problem solved; Lower <= its optimum <= Fluid
+	// are proven bounds on it (Fluid is the cost of the plan found),
+	// Gap = (Fluid - Lower)/|Fluid|.
+	Statement         Statement
 	Lower, Fluid, Gap float64
-	// Unconstrained is the optimal cost without the budget: Σ N·v*.
+	// Unconstrained is the optimum without budgets, Σ N·v*: the cost of
+	// the budget (and of its rule for mandatory work) is Fluid -
+	// Unconstrained, at least Lower - Unconstrained.
 	Unconstrained float64
-	Iterations    int
-	// Multipliers are the budget prices λ_t at the end (present value
-	// saved per currency unit of extra budget in year t).
-	Multipliers []float64
-	// Shortfall[t] is mandatory work (in unsafe states) beyond the
-	// budget of year t+1.
-	Shortfall []float64
-	// Flow[c][t][s][a] is the expected number of units of class c in
-	// condition s given action a in year t+1 by the fluid plan.
-	Flow [][][][]float64
-	// Advice holds each class's unconstrained optimum.
-	Advice []*optimize.Result
-	// Work[c][t][s][a] is the whole-unit work list: units of class c in
-	// condition s given action a in year t+1 (year 1 exact, later years
-	// applied to the expected fleet). Spend[t] is its action spend, never
-	// above the budget unless the whole-unit plan's mandatory work alone
-	// (Mandatory[t], work in unsafe states) exceeds it.
-	Work      [][][][]int
-	Spend     []float64
-	Mandatory []float64
-	// Shares[c][t][s][a] are the whole-unit plan's shares of action a
-	// among the units in s; PlanCost is the expected cost of following
-	// them from the inventory, Expected[c][t][s] the expected units and
-	// ExpectedSpend[t] the expected action spend (it may differ from Spend
-	// by rounding).
-	Shares        [][][][]float64
-	PlanCost      float64
-	Expected      [][][]float64
-	ExpectedSpend []float64
-	// Deferred[t] counts units whose unconstrained advice is work but that
-	// the plan leaves alone in year t+1; UnsafeUnits[t] the expected units
-	// in unsafe states.
-	Deferred    []int
-	UnsafeUnits []float64
-	// PassiveActions[c] is the passive action of class c, or -1.
+	// Iterations counts the column-generation rounds of all the linear
+	// programs solved; Programs counts those programs.
+	Iterations, Programs int
+	// Period is the period length; PeriodYear[k] is the calendar year
+	// (0 = the first) in which period k starts.
+	Period     costs.Period
+	PeriodYear []int
+
+	// Per calendar year y, len(Budget) entries.
+	//
+	// Multipliers[y] is the budget price λ_y: present value saved per
+	// currency unit of extra budget in year y (0 in a short year and in
+	// a year that starts no period, which have no budget row). Spend[y] is the plan's expected work spend in year y
+	// (the sum over its periods), Mandatory[y] the part of it in
+	// conditions where the passive action is not admissible.
+	Multipliers, Spend, Mandatory []float64
+
+	// Per period k.
+	//
+	// Flow[c][k][s][a] is the expected number of units of class c in
+	// condition s given action a in period k; Expected[c][k][s] the
+	// expected units at the start of period k (k = 0..K; Expected[c][K]
+	// is the fleet after the last period); Shares[c][k][s][a] the share of
+	// the units in s given a (the plan's policy: applied to Expected it
+	// gives Flow). PeriodSpend[k] is the expected work spend of period
+	// k, Deferred[k] the expected units the unconstrained advice would
+	// work on that the plan leaves alone, UnsafeUnits[k] the expected
+	// units in unsafe conditions.
+	Flow                  [][][][]float64
+	Expected              [][][]float64
+	Shares                [][][][]float64
+	PeriodSpend           []float64
+	Deferred, UnsafeUnits []float64
+	// First is the whole-unit work list of period 0 for the inventory:
+	// all mandatory work, other work cut to max(0, year-1 budget less
+	// the mandatory work and the plan's spend in year 1's later periods).
+	First *WorkList
+	// Advice holds each class's unconstrained optimum, PassiveActions[c]
+	// the passive action of class c or -1.
+	Advice         []*optimize.Result
 	PassiveActions []int
+
+	classes    []*fleetClass
+	yearBudget []float64
+	reserve    []float64
+	gamma      float64
+	periodsOf  [][]int
+	inventory  [][]int
 }
 
 // fleetClass is a class prepared for planning.
@@ -100,33 +196,125 @@ type fleetClass struct {
 	Class
 	p       *optimize.Problem
 	advice  *optimize.Result
-	running []float64
-	// choices[s] lists (action, action cost) of the admissible actions.
-	spend [][]float64
+	passive int
+	// cost[s][j] is the action cost of choice j in state s, least[s] the
+	// least of them; mandatory[s] is true where the passive action is
+	// not admissible.
+	cost      [][]float64
+	least     []float64
+	mandatory []bool
+	units     []int
 }
 
-// column is one class policy over the horizon with its flows.
-type column struct {
-	class  int
-	policy [][]int // [t][s]
-	cost   float64
-	spend  []float64
-	counts [][]float64 // [t][s], t = 0..T (T is after the horizon)
+// prepare validates the fleet and solves each class without budget.
+func prepare(ctx context.Context, f *Problem) ([]*fleetClass, error) {
+	if len(f.Classes) == 0 || len(f.Budget) == 0 {
+		return nil, errors.New("fleet: the fleet needs at least one class and one year")
+	}
+	if f.Discount.IsZero() {
+		return nil, errors.New("fleet: the plan needs a discount")
+	}
+	var errs []error
+	for y, b := range f.Budget {
+		if !(b >= 0) || math.IsInf(b, 0) {
+			errs = append(errs, fmt.Errorf("fleet: budget of year %d is %v, want a finite number >= 0", y+1, b))
+		}
+	}
+	period := f.Discount.Period().Years()
+	classes := make([]*fleetClass, len(f.Classes))
+	for i, fc := range f.Classes {
+		if fc.Model == nil || fc.Costs == nil {
+			errs = append(errs, fmt.Errorf("fleet: class %q has no model or costs", fc.Name))
+			continue
+		}
+		if py := fc.Model.PeriodYears; py > 0 && math.Abs(py-period) > 1e-9*period {
+			errs = append(errs, fmt.Errorf("fleet: class %q has periods of %g years, the plan's discount periods of %g years; a fleet shares one period", fc.Name, py, period))
+		}
+		if len(fc.Counts) != len(fc.Model.States) {
+			errs = append(errs, fmt.Errorf("fleet: class %q has %d counts, want one per condition (%d)", fc.Name, len(fc.Counts), len(fc.Model.States)))
+			continue
+		}
+		units := make([]int, len(fc.Counts))
+		for s, x := range fc.Counts {
+			if !(x >= 0) || math.IsInf(x, 0) || math.Abs(x-math.Round(x)) > 1e-9 {
+				errs = append(errs, fmt.Errorf("fleet: class %q: %v units in condition %q, want a whole number >= 0", fc.Name, x, fc.Model.States[s].Name))
+			}
+			units[s] = int(math.Round(x))
+		}
+		p, err := optimize.Build(fc.Model, fc.Costs, f.Discount.Factor())
+		if err != nil {
+			errs = append(errs, fmt.Errorf("fleet: class %q: %w", fc.Name, err))
+			continue
+		}
+		r, err := optimize.Solve(ctx, p, &optimize.Settings{Method: optimize.PolicyIteration})
+		if err != nil {
+			if ctx.Err() != nil {
+				return nil, ctx.Err()
+			}
+			errs = append(errs, fmt.Errorf("fleet: class %q: %w", fc.Name, err))
+			continue
+		}
+		c := &fleetClass{Class: fc, p: p, advice: r, passive: fc.Model.Passive(), units: units,
+			cost: make([][]float64, len(p.States)), least: make([]float64, len(p.States)), mandatory: make([]bool, len(p.States))}
+		for st, cs := range p.Choices {
+			c.cost[st] = make([]float64, len(cs))
+			for k, ch := range cs {
+				c.cost[st][k] = fc.Costs.Action[ch.Action][st]
+			}
+			c.least[st] = slices.Min(c.cost[st])
+			c.mandatory[st] = c.passive < 0 || p.Find(st, c.passive) < 0
+		}
+		classes[i] = c
+	}
+	if err := errors.Join(errs...); err != nil {
+		return nil, err
+	}
+	return classes, nil
 }
 
-// Solve plans the work of a fleet under annual budgets, with proven
-// bounds on the expected-count (fluid) model. The fluid model is a linear
-// program; its budget rows couple the classes. Column generation
-// (Dantzig-Wolfe) solves it: the master chooses a mixture of class
-// policies under the budgets (a small dense simplex, which gives the budget
-// prices λ), and pricing solves, for every class, the finite-horizon
-// problem with stage costs γ^(t-1)(running + action) + λ_t·action by
-// backward induction. Each pricing round gives the Lagrangian bound
-// L(λ) = Σ_c min cost_c(λ) - Σ_t λ_t B_t <= LP optimum (Geoffrion 1974;
-// Lasdon, Optimization Theory for Large Systems, 1970, Ch. 3). It stops
-// when the relative gap is at most Gap. Mandatory work (unsafe states
-// admit no passive action) beyond a budget is paid as a shortfall at a
-// penalty price, so it is funded first and reported.
+// Solve plans the work of a fleet under yearly budgets, with proven
+// bounds on the expected-count (fluid) model.
+//
+// The fluid model is a linear program in the expected numbers of units in
+// each condition given each action in each period; the yearly budget rows
+// couple the classes. Column generation (Dantzig-Wolfe) solves it: the
+// master chooses a mixture of class policies under the year rows (a
+// small dense simplex, which gives the budget prices λ_y >= 0), and
+// pricing solves, for every class, the finite-horizon problem with stage
+// costs γ^k(running + action) + λ_{y(k)}·action by backward induction
+// (y(k) the calendar year of period k). Each pricing round gives the
+// Lagrangian bound L(λ) = Σ_c min cost_c(λ) - Σ_y λ_y·Limit_y <= LP
+// optimum (Geoffrion 1974; Lasdon, Optimization Theory for Large
+// Systems, 1970, Ch. 3). It stops when the relative gap is at most Gap.
+// One round costs one backward induction per class, O(K·Σ choices).
+//
+// Mandatory work (conditions where the passive action is not admissible)
+// can exceed a budget whatever the plan does. The rule "mandatory work
+// first, then the rest within the budget" (other work allowed only up to
+// max(0, budget - mandatory spend)) is not convex: with a budget of 10,
+// (mandatory 0, other 10) and (20, 0) obey it and their midpoint (10, 5)
+// does not, so no linear program states it and no Lagrangian bound holds
+// for it. A penalty price on spend above the budget is no better: the
+// master then buys discretionary work above the budget, and its bound
+// bounds no problem stated in words. Fixing each short year's excess as
+// a tight limit (a lexicographic second phase) states it exactly but
+// leaves the later programs without interior points: their budget prices
+// grow without bound and column generation stalls.
+//
+// Solve therefore decides first, year by year, which years are short,
+// and then solves one linear program whose words are exact (Statement):
+// year y is short when even the plan that minimises year y's spend,
+// keeping the earlier years to the rule found so far, exceeds the
+// budget (a linear program: minimise spend_y); a screening program,
+// minimising the total excess of the remaining years, skips the years in
+// which no excess is needed. In a short year every unit gets an action
+// of least cost for its condition (an open set of actions, not a row);
+// every other year keeps its row spend_y <= B_y. The plan found thus
+// obeys "mandatory work first, the rest within the budget" exactly: in a
+// short year it does mandatory work at least cost and nothing else, and
+// the other years stay within budget. The minimiser of each year's
+// program obeys the rule up to that year, so the final program is
+// feasible. Cost: at most 2Y+1 programs, usually 2.
 func Solve(ctx context.Context, f *Problem, s *Settings) (*Plan, error) {
 	var set Settings
 	if s != nil {
@@ -138,304 +326,154 @@ func Solve(ctx context.Context, f *Problem, s *Settings) (*Plan, error) {
 	if set.MaxIterations <= 0 {
 		set.MaxIterations = 500
 	}
-	if len(f.Classes) == 0 || len(f.Budget) == 0 {
-		return nil, errors.New("fleet: the fleet needs at least one class and one year")
+	classes, err := prepare(ctx, f)
+	if err != nil {
+		return nil, err
 	}
-	if f.Discount.IsZero() {
-		return nil, errors.New("fleet: the plan needs a discount")
+	sv := newSolver(f, classes, set)
+	short, excess, excessGap, err := sv.excess(ctx)
+	if err != nil {
+		return nil, err
 	}
-	for t, b := range f.Budget {
-		if !(b >= 0) || math.IsInf(b, 0) {
-			return nil, fmt.Errorf("fleet: budget of year %d is %v, want a finite number >= 0", t+1, b)
-		}
-	}
-	classes := make([]*fleetClass, len(f.Classes))
-	plan := &Plan{}
-	for i, fc := range f.Classes {
-		p, err := optimize.Build(fc.Model, fc.Costs, f.Discount.Factor())
-		if err != nil {
-			return nil, fmt.Errorf("fleet: class %q: %w", fc.Name, err)
-		}
-		r, err := optimize.Solve(ctx, p, &optimize.Settings{Method: optimize.PolicyIteration})
-		if err != nil {
-			return nil, fmt.Errorf("fleet: class %q: %w", fc.Name, err)
-		}
-		c := &fleetClass{Class: fc, p: p, advice: r, running: fc.Costs.Running, spend: make([][]float64, len(p.States))}
-		for st, cs := range p.Choices {
-			c.spend[st] = make([]float64, len(cs))
-			for k, ch := range cs {
-				c.spend[st][k] = fc.Costs.Action[ch.Action][st]
-			}
-		}
-		classes[i] = c
-		plan.Advice = append(plan.Advice, r)
-		plan.PassiveActions = append(plan.PassiveActions, fc.Model.Passive())
-		for st, n := range fc.Counts {
-			plan.Unconstrained += n * r.Value[st]
+	st := Statement{Kind: WithinBudget, Short: short, Excess: excess, ExcessGap: excessGap}
+	final := &masterSpec{alpha: 1, mode: make([]rowMode, sv.years), limit: slices.Clone(f.Budget)}
+	for y := range final.mode {
+		switch {
+		case short[y]:
+			final.mode[y] = leastOnly
+			st.Kind = MandatoryFirst
+		case len(sv.periodsOf[y]) > 0:
+			final.mode[y] = capRow
 		}
 	}
-	T := len(f.Budget)
-	penalty := shortfallPrice(classes)
-	var cols []*column
-	for ci, c := range classes {
-		zero := make([]float64, T)
-		cols = append(cols, c.column(ci, c.price(f.Discount.Factor(), zero), f.Discount.Factor(), T))
-		// A cheap column: the least-spend policy, so the master always has
-		// a way to save money.
-		cols = append(cols, c.column(ci, c.leastSpend(T), f.Discount.Factor(), T))
+	res, err := sv.run(ctx, final, func(value, lower float64) bool { return value-lower <= set.Gap*math.Abs(value) })
+	if err != nil {
+		return nil, err
 	}
-	lower := math.Inf(-1)
-	var (
-		mu     []float64
-		master float64
-		lambda []float64
-	)
-	for it := 1; ; it++ {
-		if err := ctx.Err(); err != nil {
-			return nil, err
+	plan := sv.assemble(res)
+	plan.Statement = st
+	plan.Iterations, plan.Programs = sv.rounds, sv.programs
+	for i, c := range classes {
+		for st, n := range c.Counts {
+			plan.Unconstrained += n * c.advice.Value[st]
 		}
-		var duals []float64
-		var short float64
-		var err error
-		mu, master, duals, short, err = solveMaster(cols, len(classes), f.Budget, penalty)
-		if err != nil {
-			return nil, err
-		}
-		lambda = make([]float64, T)
-		for t := range T {
-			lambda[t] = min(penalty, max(0, -duals[len(classes)+t]))
-		}
-		bound := 0.0
-		for t, b := range f.Budget {
-			bound -= lambda[t] * b
-		}
-		added := 0
-		for ci, c := range classes {
-			pol := c.price(f.Discount.Factor(), lambda)
-			col := c.column(ci, pol, f.Discount.Factor(), T)
-			priced := col.cost
-			for t, sp := range col.spend {
-				priced += lambda[t] * sp
-			}
-			bound += priced
-			if priced-duals[ci] < -1e-9*max(1, math.Abs(priced)) && !hasColumn(cols, col) {
-				cols = append(cols, col)
-				added++
-			}
-		}
-		lower = max(lower, bound)
-		plan.Iterations = it
-		// The gap is measured on the cost without the shortfall penalty,
-		// which both bounds carry.
-		if added == 0 || master-lower <= set.Gap*math.Abs(master-penalty*short) || it >= set.MaxIterations {
-			break
-		}
+		plan.Advice = append(plan.Advice, c.advice)
+		plan.PassiveActions = append(plan.PassiveActions, c.passive)
+		plan.inventory = append(plan.inventory, classes[i].units)
 	}
-	plan.Multipliers = lambda
-	plan.Shortfall = make([]float64, T)
-	spend := make([]float64, T)
-	plan.Flow = make([][][][]float64, len(classes))
-	for ci, c := range classes {
-		plan.Flow[ci] = make([][][]float64, T)
-		for t := range T {
-			plan.Flow[ci][t] = make([][]float64, len(c.p.States))
-			for st := range c.p.States {
-				plan.Flow[ci][t][st] = make([]float64, len(c.p.Actions))
-			}
-		}
+	plan.Fluid = res.value
+	plan.Lower = min(res.lower, res.value)
+	if res.value != 0 {
+		plan.Gap = (plan.Fluid - plan.Lower) / math.Abs(plan.Fluid)
 	}
-	fluid := 0.0
-	// Columns priced after the last master solve have no weight yet.
-	for k, w := range mu {
-		col := cols[k]
-		if w <= 0 {
-			continue
-		}
-		fluid += w * col.cost
-		for t := range T {
-			spend[t] += w * col.spend[t]
-			for st, n := range col.counts[t] {
-				plan.Flow[col.class][t][st][col.policy[t][st]] += w * n
-			}
-		}
-	}
-	for t := range T {
-		plan.Shortfall[t] = max(0, spend[t]-f.Budget[t])
-		if plan.Shortfall[t] < 1e-9*max(1, f.Budget[t]) {
-			plan.Shortfall[t] = 0
-		}
-	}
-	short := 0.0
-	for _, x := range plan.Shortfall {
-		short += x
-	}
-	plan.Fluid = fluid
-	plan.Lower = min(lower-penalty*short, fluid)
-	if fluid != 0 {
-		plan.Gap = (fluid - plan.Lower) / math.Abs(fluid)
-	}
-	plan.round(classes, f)
+	plan.First = plan.workList(0, plan.inventory, plan.periodLimit(0, 0))
 	return plan, nil
 }
 
-// shortfallPrice is the price of a unit of budget shortfall: far above
-// what any discretionary work can save per unit of spend, so that the
-// master pays it only for mandatory work.
-func shortfallPrice(classes []*fleetClass) float64 {
-	span, cheapest := 1.0, math.Inf(1)
-	for _, c := range classes {
-		span = max(span, slices.Max(c.advice.Value)-slices.Min(c.advice.Value))
-		for _, row := range c.spend {
-			for _, k := range row {
-				if k > 0 {
-					cheapest = min(cheapest, k)
-				}
-			}
+// assemble turns the final master's mixture into the plan's flows,
+// expected counts, shares and yearly figures.
+func (sv *solver) assemble(res *lpResult) *Plan {
+	K, Y := sv.periods, sv.years
+	plan := &Plan{Period: sv.f.Discount.Period(), PeriodYear: sv.yearOf, Multipliers: res.lambda,
+		Spend: make([]float64, Y), Mandatory: make([]float64, Y), PeriodSpend: make([]float64, K),
+		Deferred: make([]float64, K), UnsafeUnits: make([]float64, K), classes: sv.classes,
+		yearBudget: sv.f.Budget, gamma: sv.gamma, periodsOf: sv.periodsOf}
+	nc := len(sv.classes)
+	plan.Flow = make([][][][]float64, nc)
+	plan.Expected = make([][][]float64, nc)
+	plan.Shares = make([][][][]float64, nc)
+	// weight[c][k][s][a] is the mixture weight of the class's columns
+	// choosing a in s at k: the shares where the plan has no units.
+	weight := make([][][][]float64, nc)
+	for ci, c := range sv.classes {
+		n, m := len(c.p.States), len(c.Model.Actions)
+		plan.Flow[ci] = grid3(K, n, m)
+		weight[ci] = grid3(K, n, m)
+		plan.Expected[ci] = make([][]float64, K+1)
+		for k := range plan.Expected[ci] {
+			plan.Expected[ci][k] = make([]float64, n)
 		}
 	}
-	if math.IsInf(cheapest, 1) {
-		cheapest = 1
-	}
-	return 1e3 * (1 + span/cheapest)
-}
-
-// price solves the class's finite-horizon problem with budget prices
-// lambda by backward induction and returns the policy per year. Ties go to
-// the lowest action index.
-func (c *fleetClass) price(gamma float64, lambda []float64) [][]int {
-	T := len(lambda)
-	n := len(c.p.States)
-	w := make([]float64, n)
-	gt := math.Pow(gamma, float64(T))
-	for st := range n {
-		w[st] = gt * c.advice.Value[st]
-	}
-	next := make([]float64, n)
-	pol := make([][]int, T)
-	for t := T - 1; t >= 0; t-- {
-		disc := math.Pow(gamma, float64(t))
-		pol[t] = make([]int, n)
-		for st, cs := range c.p.Choices {
-			var best float64
-			for k, ch := range cs {
-				q := disc*(c.running[st]+c.spend[st][k]) + lambda[t]*c.spend[st][k] + optimize.Expect(ch.Next, w)
-				if k == 0 || q < best-1e-12*math.Abs(best) {
-					best, pol[t][st] = q, ch.Action
-				}
-			}
-			next[st] = best
-		}
-		w, next = next, w
-	}
-	return pol
-}
-
-// leastSpend is the policy of least action spend in every state and year.
-func (c *fleetClass) leastSpend(T int) [][]int {
-	pol := make([][]int, T)
-	for t := range pol {
-		pol[t] = make([]int, len(c.p.States))
-		for st, cs := range c.p.Choices {
-			k := 0
-			for j := range cs {
-				if c.spend[st][j] < c.spend[st][k] {
-					k = j
-				}
-			}
-			pol[t][st] = cs[k].Action
-		}
-	}
-	return pol
-}
-
-// column follows the class's units under pol and returns their flows,
-// discounted cost (with the terminal value) and action spend per year.
-func (c *fleetClass) column(ci int, pol [][]int, gamma float64, T int) *column {
-	n := len(c.p.States)
-	col := &column{class: ci, policy: pol, spend: make([]float64, T), counts: make([][]float64, T+1)}
-	cur := slices.Clone(c.Counts)
-	disc := 1.0
-	for t := range T {
-		col.counts[t] = cur
-		next := make([]float64, n)
-		for st, x := range cur {
-			if x == 0 {
-				continue
-			}
-			k := c.p.Find(st, pol[t][st])
-			col.spend[t] += x * c.spend[st][k]
-			col.cost += disc * x * (c.running[st] + c.spend[st][k])
-			for _, e := range c.p.Choices[st][k].Next {
-				next[e.To] += x * e.P
-			}
-		}
-		cur = next
-		disc *= gamma
-	}
-	col.counts[T] = cur
-	for st, x := range cur {
-		col.cost += disc * x * c.advice.Value[st]
-	}
-	return col
-}
-
-func hasColumn(cols []*column, col *column) bool {
-	for _, c := range cols {
-		if c.class != col.class {
+	for i, w := range res.mu {
+		if w <= 0 {
 			continue
 		}
-		same := true
-		for t := range c.policy {
-			if !slices.Equal(c.policy[t], col.policy[t]) {
-				same = false
-				break
+		col := sv.cols[res.idx[i]]
+		for k := range K {
+			for st, x := range col.counts[k] {
+				a := col.policy[k][st]
+				plan.Flow[col.class][k][st][a] += w * x
+				weight[col.class][k][st][a] += w
 			}
 		}
-		if same {
-			return true
+		for st, x := range col.counts[K] {
+			plan.Expected[col.class][K][st] += w * x
 		}
 	}
-	return false
+	for ci, c := range sv.classes {
+		plan.Shares[ci] = grid3(K, len(c.p.States), len(c.Model.Actions))
+		for k := range K {
+			y := sv.yearOf[k]
+			for st, row := range plan.Flow[ci][k] {
+				n := sum(row)
+				plan.Expected[ci][k][st] = n
+				src := row
+				if n <= 1e-12 {
+					src, n = weight[ci][k][st], sum(weight[ci][k][st])
+				}
+				for a, x := range src {
+					plan.Shares[ci][k][st][a] = x / n
+				}
+				if c.Model.States[st].Unsafe {
+					plan.UnsafeUnits[k] += plan.Expected[ci][k][st]
+				}
+				if c.passive >= 0 && !c.mandatory[st] && c.advice.Policy[st] != c.passive {
+					plan.Deferred[k] += row[c.passive]
+				}
+				for a, x := range row {
+					sp := x * c.Costs.Action[a][st]
+					plan.PeriodSpend[k] += sp
+					plan.Spend[y] += sp
+					if c.mandatory[st] {
+						plan.Mandatory[y] += sp
+					}
+				}
+			}
+		}
+	}
+	// reserve[k]: the plan's expected spend in the later periods of the
+	// same year, kept back when a period's whole-unit list is cut.
+	plan.reserve = make([]float64, K)
+	for k := K - 1; k >= 0; k-- {
+		if k+1 < K && sv.yearOf[k+1] == sv.yearOf[k] {
+			plan.reserve[k] = plan.reserve[k+1] + plan.PeriodSpend[k+1]
+		}
+	}
+	return plan
 }
 
-// solveMaster solves the restricted master: choose weights μ of the
-// columns, one convex combination per class, with Σ spend·μ + slack -
-// shortfall = budget in every year; shortfall costs penalty per unit. It
-// returns μ, the optimum, the duals (classes first, then years) and the
-// total shortfall.
-func solveMaster(cols []*column, nClasses int, budget []float64, penalty float64) ([]float64, float64, []float64, float64, error) {
-	T := len(budget)
-	nv := len(cols) + 2*T
-	m := nClasses + T
-	a := make([][]float64, m)
-	for i := range a {
-		a[i] = make([]float64, nv)
-	}
-	c := make([]float64, nv)
-	b := make([]float64, m)
-	for k, col := range cols {
-		c[k] = col.cost
-		a[col.class][k] = 1
-		for t, sp := range col.spend {
-			a[nClasses+t][k] = sp
+// periodLimit is what period k may spend on work when spent has already
+// been spent in its year: the year's budget less spent and less the
+// plan's expected spend in the year's later periods (at least 0).
+func (plan *Plan) periodLimit(k int, spent float64) float64 {
+	return max(0, plan.yearBudget[plan.PeriodYear[k]]-spent-plan.reserve[k])
+}
+
+func grid3(k, n, m int) [][][]float64 {
+	g := make([][][]float64, k)
+	for t := range g {
+		g[t] = make([][]float64, n)
+		for s := range g[t] {
+			g[t][s] = make([]float64, m)
 		}
 	}
-	for t := range T {
-		a[nClasses+t][len(cols)+t] = 1    // slack
-		a[nClasses+t][len(cols)+T+t] = -1 // shortfall
-		c[len(cols)+T+t] = penalty
-		b[nClasses+t] = budget[t]
+	return g
+}
+
+func sum(x []float64) float64 {
+	s := 0.0
+	for _, v := range x {
+		s += v
 	}
-	for ci := range nClasses {
-		b[ci] = 1
-	}
-	x, obj, y, err := denseLP(c, a, b)
-	if err != nil {
-		return nil, 0, nil, 0, fmt.Errorf("fleet: plan master: %w", err)
-	}
-	short := 0.0
-	for _, z := range x[len(cols)+T:] {
-		short += z
-	}
-	return x[:len(cols)], obj, y, short, nil
+	return s
 }

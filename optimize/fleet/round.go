@@ -1,237 +1,144 @@
 package fleet
 
 import (
+	"cmp"
 	"math"
 	"slices"
-	"sort"
 )
 
 // largestRemainder rounds non-negative shares to whole numbers summing to
-// total (Hamilton's method): floors first, then one more to the largest
-// remainders, ties to the lowest index.
-func largestRemainder(x []float64, total int) []int {
-	out := make([]int, len(x))
+// total (Hamilton's method) into out: floors first, then one more to the
+// largest remainders, ties to the lowest index. It allocates nothing: the
+// extra units (fewer than len(x)) are placed by repeated selection.
+func largestRemainder(x []float64, total int, out []int) {
+	clear(out)
 	sum := 0.0
 	for _, v := range x {
 		sum += max(v, 0)
 	}
 	if total <= 0 || sum <= 0 {
-		return out
+		return
 	}
-	type rem struct {
-		i int
-		r float64
-	}
-	rems := make([]rem, len(x))
 	given := 0
 	for i, v := range x {
-		exact := max(v, 0) / sum * float64(total)
-		out[i] = int(math.Floor(exact))
+		out[i] = int(math.Floor(max(v, 0) / sum * float64(total)))
 		given += out[i]
-		rems[i] = rem{i, exact - float64(out[i])}
 	}
-	sort.SliceStable(rems, func(a, b int) bool { return rems[a].r > rems[b].r })
-	for k := 0; given < total; k++ {
-		out[rems[k%len(rems)].i]++
-		given++
+	// bumped marks (as a bit set, len(x) <= 64 in practice; longer rows
+	// fall back to a slice) the indices already given one more.
+	var small uint64
+	var big []bool
+	if len(x) > 64 {
+		big = make([]bool, len(x))
 	}
-	return out
-}
-
-// round turns the fluid plan into whole units and evaluates it.
-//
-// The work list: each year, each class's expected units per condition in
-// the fluid plan are rounded to whole units preserving the class total
-// (year 1 is the inventory), and the fluid plan's work in each condition
-// is rounded within them by largest remainder. If that lifts the year's
-// spend above its budget (or above the mandatory work, when that alone
-// exceeds it), discretionary work is cut one unit at a time where the
-// unconstrained Q-values lose least per unit of spend saved.
-//
-// Its evaluation: the listed numbers of units get the listed work, applied
-// to the expected fleet that this plan itself produces; the rest of a
-// condition is left alone (where the passive action is admissible) or
-// shares the listed work (where it is not). That gives PlanCost, the
-// expected units, the expected spend and the shares used by the
-// simulation.
-func (plan *Plan) round(classes []*fleetClass, f *Problem) {
-	T := len(f.Budget)
-	nc := len(classes)
-	plan.Work = make([][][][]int, nc)
-	plan.Spend = make([]float64, T)
-	plan.Mandatory = make([]float64, T)
-	for ci, c := range classes {
-		plan.Work[ci] = make([][][]int, T)
-		total := 0
-		for _, x := range c.Counts {
-			total += int(math.Round(x))
+	isBumped := func(i int) bool {
+		if big != nil {
+			return big[i]
 		}
-		for t := range T {
-			flow := plan.Flow[ci][t]
-			counts := make([]float64, len(flow))
-			for st, row := range flow {
-				counts[st] = sum(row)
-			}
-			units := largestRemainder(counts, total)
-			if t == 0 {
-				for st, x := range c.Counts {
-					units[st] = int(math.Round(x))
-				}
-			}
-			plan.Work[ci][t] = make([][]int, len(flow))
-			for st, row := range flow {
-				shares := slices.Clone(row)
-				if sum(shares) <= 0 {
-					shares[c.advice.Policy[st]] = 1 // no fluid units here: the advice
-				}
-				plan.Work[ci][t][st] = largestRemainder(shares, units[st])
-				for a, u := range plan.Work[ci][t][st] {
-					cost := float64(u) * c.Costs.Action[a][st]
-					plan.Spend[t] += cost
-					if c.p.Find(st, plan.PassiveActions[ci]) < 0 {
-						plan.Mandatory[t] += cost
-					}
-				}
-			}
-		}
+		return small&(1<<uint(i)) != 0
 	}
-	for t := range T {
-		plan.fitBudget(classes, t, max(f.Budget[t], plan.Mandatory[t]))
-	}
-	plan.evaluate(classes, f)
-}
-
-// evaluate applies the work list's numbers to the expected fleet it
-// produces (see round).
-func (plan *Plan) evaluate(classes []*fleetClass, f *Problem) {
-	T := len(f.Budget)
-	nc := len(classes)
-	plan.Shares = make([][][][]float64, nc)
-	plan.Expected = make([][][]float64, nc)
-	plan.ExpectedSpend = make([]float64, T)
-	plan.Deferred = make([]int, T)
-	plan.UnsafeUnits = make([]float64, T)
-	plan.PlanCost = 0
-	for ci, c := range classes {
-		pa := plan.PassiveActions[ci]
-		plan.Shares[ci] = make([][][]float64, T)
-		plan.Expected[ci] = make([][]float64, T+1)
-		cur := slices.Clone(c.Counts)
-		disc := 1.0
-		for t := range T {
-			plan.Expected[ci][t] = cur
-			plan.Shares[ci][t] = make([][]float64, len(cur))
-			next := make([]float64, len(cur))
-			for st, row := range plan.Work[ci][t] {
-				x := make([]float64, len(row))
-				passive := pa >= 0 && c.p.Find(st, pa) >= 0
-				work := 0.0
-				for a, u := range row {
-					if !passive || a != pa {
-						work += float64(u)
-					}
-				}
-				switch {
-				case cur[st] <= 0:
-				case work == 0 && passive:
-					x[pa] = cur[st]
-				case work == 0:
-					x[c.advice.Policy[st]] = cur[st]
-				case passive && work <= cur[st]:
-					for a, u := range row {
-						if a != pa {
-							x[a] = float64(u)
-						}
-					}
-					x[pa] = cur[st] - work
-				default: // scale the listed work to the units there
-					for a, u := range row {
-						if !passive || a != pa {
-							x[a] = float64(u) * cur[st] / work
-						}
-					}
-				}
-				shares := make([]float64, len(row))
-				for a := range x {
-					if cur[st] > 0 {
-						shares[a] = x[a] / cur[st]
-					}
-				}
-				if cur[st] <= 0 {
-					shares[c.advice.Policy[st]] = 1
-				}
-				plan.Shares[ci][t][st] = shares
-				if pa >= 0 && c.advice.Policy[st] != pa {
-					plan.Deferred[t] += row[pa]
-				}
-				if c.Model.States[st].Unsafe {
-					plan.UnsafeUnits[t] += cur[st]
-				}
-				for a, v := range x {
-					if v == 0 {
-						continue
-					}
-					plan.PlanCost += disc * v * (c.running[st] + c.Costs.Action[a][st])
-					plan.ExpectedSpend[t] += v * c.Costs.Action[a][st]
-					for _, e := range c.p.Choices[st][c.p.Find(st, a)].Next {
-						next[e.To] += v * e.P
-					}
-				}
-			}
-			cur = next
-			disc *= f.Discount.Factor()
-		}
-		plan.Expected[ci][T] = cur
-		for st, v := range cur {
-			plan.PlanCost += disc * v * c.advice.Value[st]
-		}
-	}
-}
-
-func sum(x []float64) float64 {
-	s := 0.0
-	for _, v := range x {
-		s += v
-	}
-	return s
-}
-
-// fitBudget cuts discretionary work in year t until its spend is within
-// limit: the cut moves a unit from its action to the passive one where the
-// unconstrained Q-value lost per unit of spend saved is least.
-func (plan *Plan) fitBudget(classes []*fleetClass, t int, limit float64) {
-	for plan.Spend[t] > limit*(1+1e-12)+1e-9 {
-		bestC, bestS, bestA := -1, -1, -1
-		bestRatio := math.Inf(1)
-		for ci, c := range classes {
-			pa := plan.PassiveActions[ci]
-			if pa < 0 {
+	for given < total {
+		best, bestR := -1, math.Inf(-1)
+		for i, v := range x {
+			if isBumped(i) {
 				continue
 			}
-			for st, row := range plan.Work[ci][t] {
-				kp := c.p.Find(st, pa)
-				if kp < 0 {
-					continue // passive not admissible: mandatory work
+			exact := max(v, 0) / sum * float64(total)
+			if r := exact - math.Floor(exact); r > bestR {
+				best, bestR = i, r
+			}
+		}
+		if best < 0 { // every index bumped once: start again
+			small, big = 0, nil
+			if len(x) > 64 {
+				big = make([]bool, len(x))
+			}
+			continue
+		}
+		if big != nil {
+			big[best] = true
+		} else {
+			small |= 1 << uint(best)
+		}
+		out[best]++
+		given++
+	}
+}
+
+// workList is the whole-unit work of period k for counts[c][s] units: in
+// every condition the plan's shares of period k are rounded to whole
+// units by largest remainder (so every unit in a condition where the
+// passive action is not admissible gets work); then, while the spend is
+// above max(limit, mandatory spend), discretionary work is cut, one unit
+// moved to the passive action at a time, where the unconstrained
+// Q-values lose least per unit of spend saved (ties: lowest class, state,
+// action). Mandatory work is thus funded first and the rest only within
+// what is left of limit.
+func (plan *Plan) workList(k int, counts [][]int, limit float64) *WorkList {
+	wl := &WorkList{Period: k, Units: make([][][]int, len(plan.classes)), Limit: limit}
+	size := 0
+	for ci, c := range plan.classes {
+		size += len(counts[ci]) * len(c.Model.Actions)
+	}
+	flat := make([]int, size)
+	type cut struct {
+		c, s, a      int
+		ratio, saved float64
+	}
+	var cuts []cut
+	for ci, c := range plan.classes {
+		wl.Units[ci] = make([][]int, len(counts[ci]))
+		m := len(c.Model.Actions)
+		for st, u := range counts[ci] {
+			row := flat[:m:m]
+			flat = flat[m:]
+			largestRemainder(plan.Shares[ci][k][st], u, row)
+			wl.Units[ci][st] = row
+			for a, n := range row {
+				if n == 0 {
+					continue
 				}
-				for a, u := range row {
-					saved := c.Costs.Action[a][st] - c.Costs.Action[pa][st]
-					if u == 0 || a == pa || saved <= 0 {
-						continue
-					}
-					loss := c.advice.Q[st][kp] - c.advice.Q[st][c.p.Find(st, a)]
-					if ratio := loss / saved; ratio < bestRatio {
-						bestC, bestS, bestA, bestRatio = ci, st, a, ratio
-					}
+				sp := float64(n) * c.Costs.Action[a][st]
+				wl.Spend += sp
+				if c.mandatory[st] {
+					wl.Mandatory += sp
+					continue
+				}
+				saved := c.Costs.Action[a][st] - c.Costs.Action[c.passive][st]
+				if a != c.passive && saved > 0 {
+					q := c.advice.Q[st]
+					loss := q[c.p.Find(st, c.passive)] - q[c.p.Find(st, a)]
+					cuts = append(cuts, cut{ci, st, a, loss / saved, saved})
 				}
 			}
 		}
-		if bestC < 0 {
-			return
-		}
-		pa := plan.PassiveActions[bestC]
-		plan.Work[bestC][t][bestS][bestA]--
-		plan.Work[bestC][t][bestS][pa]++
-		c := classes[bestC]
-		plan.Spend[t] -= c.Costs.Action[bestA][bestS] - c.Costs.Action[pa][bestS]
 	}
+	// Cutting units of one (class, state, action) in turn until enough is
+	// saved is the one-at-a-time rule: the ratio of a candidate does not
+	// change as its units are cut.
+	slices.SortStableFunc(cuts, func(x, y cut) int { return cmp.Compare(x.ratio, y.ratio) })
+	target := max(limit, wl.Mandatory)
+	for _, ct := range cuts {
+		over := wl.Spend - target
+		if over <= 1e-12*target+1e-9 {
+			break
+		}
+		row := wl.Units[ct.c][ct.s]
+		n := min(row[ct.a], int(math.Ceil(over/ct.saved-1e-9)))
+		pa := plan.classes[ct.c].passive
+		row[ct.a] -= n
+		row[pa] += n
+		wl.Spend -= float64(n) * ct.saved
+	}
+	for ci, c := range plan.classes {
+		if c.passive < 0 {
+			continue
+		}
+		for st, row := range wl.Units[ci] {
+			if !c.mandatory[st] && c.advice.Policy[st] != c.passive {
+				wl.Deferred += row[c.passive]
+			}
+		}
+	}
+	return wl
 }

@@ -343,7 +343,7 @@ type Forecast struct {
 func AddSimulation(f *pflag.FlagSet) {
 	f.String("simulate", "0", "fleet files: Monte-Carlo `runs` of the plan (or of the advice with --follow advice)")
 	f.String("seed", "1", "seed of the random numbers (`n`)")
-	f.String("follow", "plan", "fleet files: simulate the budget plan or the unconstrained advice")
+	f.String("follow", "plan", "fleet files: simulate the plan's policy (plan), the whole-unit practice (practice) or the unconstrained advice (advice)")
 	f.String("progress", "auto", "progress bar on stderr: auto (a terminal and over a second), always or never")
 }
 
@@ -364,19 +364,15 @@ func (s *Source) Forecast() (st Forecast, err error) {
 	if st.Years, err = s.Years(); err != nil {
 		return
 	}
-	if st.Simulate, err = s.whole("simulate"); err != nil {
-		return
-	}
-	if st.Simulate != 0 && (st.Simulate < 2 || st.Simulate > 1_000_000) {
-		err = Errorf("%s: %d is not a number of runs in [2, 1000000]", where("simulate"), st.Simulate)
+	if st.Simulate, err = s.runs(); err != nil {
 		return
 	}
 	if st.Seed, err = s.Seed(); err != nil {
 		return
 	}
 	st.Follow = s.text("follow")
-	if st.Follow != "plan" && st.Follow != "advice" {
-		err = Errorf("%s: %q; want plan or advice", where("follow"), clip(st.Follow))
+	if !slices.Contains([]string{"plan", "practice", "advice"}, st.Follow) {
+		err = Errorf("%s: %q; want plan, practice or advice", where("follow"), clip(st.Follow))
 		return
 	}
 	st.Progress = s.text("progress")
@@ -401,6 +397,10 @@ func (s *Source) Seed() (uint64, error) {
 type Plan struct {
 	Output Output
 	Fleet  Fleet
+	// Simulate is the number of Monte-Carlo runs of the whole-unit
+	// practice (0: none).
+	Simulate int
+	Seed     uint64
 }
 
 // Plan reads the settings of plan.
@@ -408,8 +408,23 @@ func (s *Source) Plan() (st Plan, err error) {
 	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
 		return
 	}
+	if st.Simulate, err = s.runs(); err != nil {
+		return
+	}
+	if st.Seed, err = s.Seed(); err != nil {
+		return
+	}
 	st.Fleet, err = s.Fleet()
 	return
+}
+
+// runs reads --simulate: 0 (none) or a number of runs in [2, 1000000].
+func (s *Source) runs() (int, error) {
+	n, err := s.whole("simulate")
+	if err == nil && n != 0 && (n < 2 || n > 1_000_000) {
+		err = Errorf("%s: %d is not a number of runs in [2, 1000000] (or 0 for none)", where("simulate"), n)
+	}
+	return n, err
 }
 
 // Brief holds the settings of brief.
