@@ -128,7 +128,7 @@ func Settle(ctx context.Context, p *optimize.Problem, sets *Sets, r *Result, set
 	if err != nil {
 		return nil, err
 	}
-	m.eps = s.Tol * (1 - m.gamma) / (8 * m.gamma)
+	m.setTol(s.Tol)
 	return m.settle(ctx, &s, sets, r)
 }
 

@@ -153,9 +153,7 @@ var errNonFinite = errors.New("robust: value iteration diverged to non-finite va
 // is the first policy of policy iteration, and v0 the first iterate of
 // value iteration (nil: zero).
 func (m *model) solve(ctx context.Context, s *optimize.Settings, start []int, v0 []float64) (*Result, error) {
-	g := m.gamma
-	m.eps = s.Tol * (1 - g) / (8 * g)
-	m.evaluations = 0
+	m.setTol(s.Tol)
 	var (
 		policy       []int
 		lower, upper []float64
@@ -178,6 +176,15 @@ func (m *model) solve(ctx context.Context, s *optimize.Settings, start []int, v0
 	r.Iterations = iters
 	r.Evaluations = m.evaluations
 	return r, nil
+}
+
+// setTol sets the KL inner tolerance for a solve to tol: each inner
+// problem to within ε = tol·(1-γ)/(32γ), so that inexact inner values move
+// the bounds by at most γε/(1-γ) = tol/32, below the evaluation's target
+// tol/8.
+func (m *model) setTol(tol float64) {
+	m.eps = tol * (1 - m.gamma) / (32 * m.gamma)
+	m.evaluations = 0
 }
 
 // sweep computes, for every state, tvLo[s] <= (T v)(s) <= tvHi[s] and the
@@ -295,6 +302,50 @@ func (m *model) policyIteration(ctx context.Context, s *optimize.Settings, start
 			return policy, nil, step, nil
 		}
 	}
+}
+
+// Evaluation is the worst case of one fixed policy over the sets.
+type Evaluation struct {
+	Policy []int
+	// WorstCase[s] is a proven upper bound on the worst-case expected
+	// discounted cost of Policy from s; Attained[s] <= worst case is its
+	// exact cost under Adversary, a matrix inside the sets; Gap is
+	// max_s WorstCase[s] - Attained[s].
+	WorstCase, Attained []float64
+	Adversary           [][]condition.Entry
+	Gap                 float64
+	// Evaluations counts the linear solves, O(n³) each.
+	Evaluations int
+}
+
+// Evaluate returns the worst case of policy (an action per state) over
+// sets: the value of the adversary's MDP, in which nature picks each row
+// from its set to maximise the discounted cost, solved by policy iteration
+// for nature until its bounds are within tol (currency units; <= 0 means
+// optimize.DefaultTol/8). WorstCase includes a rounding allowance.
+func Evaluate(ctx context.Context, p *optimize.Problem, sets *Sets, policy []int, tol float64) (*Evaluation, error) {
+	m, err := newModel(p, sets)
+	if err != nil {
+		return nil, err
+	}
+	if len(policy) != len(p.States) {
+		return nil, fmt.Errorf("robust: policy has %d entries for %d states", len(policy), len(p.States))
+	}
+	if tol <= 0 {
+		tol = optimize.DefaultTol / 8
+	}
+	m.eps = tol * (1 - m.gamma) / (4 * m.gamma)
+	ev, err := m.evaluate(ctx, policy, tol)
+	if err != nil {
+		return nil, err
+	}
+	round := m.roundingError(ev.upper) / (1 - m.gamma)
+	out := &Evaluation{Policy: slices.Clone(policy), Attained: ev.value, Adversary: ev.rows, WorstCase: make([]float64, len(policy)), Evaluations: m.evaluations}
+	for s := range policy {
+		out.WorstCase[s] = ev.upper[s] + round
+		out.Gap = max(out.Gap, out.WorstCase[s]-ev.value[s])
+	}
+	return out, nil
 }
 
 // evaluation is the worst case of one policy: value is the exact cost
