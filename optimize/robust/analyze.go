@@ -23,6 +23,10 @@ type Analysis struct {
 	// NominalCost[s] is the exact expected cost of the robust advice under
 	// the nominal matrices (optimize.Evaluate).
 	NominalCost []float64
+	// NominalWorstCase[s] is the worst case of the nominal advice over the
+	// sets (Evaluate, within Robust.Tol/8): what the robust advice guards
+	// against. Robust.WorstCase[s] <= NominalWorstCase[s] up to Robust.Gap.
+	NominalWorstCase []float64
 	// Differs lists, in increasing order, the states where the robust
 	// advice differs from the nominal advice.
 	Differs []int
@@ -42,8 +46,8 @@ type Analysis struct {
 
 // Analyze solves p nominally (optimize.Solve) and robustly over sets
 // (Solve, with policy iteration started from the nominal advice),
-// evaluates the robust advice under the nominal matrices, and ranks the
-// rows with Settle. Its cost is that of Settle: one robust solve per row
+// evaluates the robust advice under the nominal matrices and the nominal
+// advice over the sets, and ranks the rows with Settle. Its cost is that of Settle: one robust solve per row
 // with data, each warm-started.
 func Analyze(ctx context.Context, p *optimize.Problem, sets *Sets, settings *optimize.Settings) (*Analysis, error) {
 	s, err := withDefaults(settings, len(p.States))
@@ -66,7 +70,12 @@ func Analyze(ctx context.Context, p *optimize.Problem, sets *Sets, settings *opt
 	if err != nil {
 		return nil, err
 	}
-	a := &Analysis{Sets: sets, Robust: rob, Nominal: nominal, NominalCost: cost, Price: make([]float64, len(cost)), PriceOfRobustness: math.Inf(-1)}
+	nomWorst, err := m.evaluate(ctx, nominal.Policy, s.Tol/8)
+	if err != nil {
+		return nil, err
+	}
+	a := &Analysis{Sets: sets, Robust: rob, Nominal: nominal, NominalCost: cost, NominalWorstCase: nomWorst.upper,
+		Price: make([]float64, len(cost)), PriceOfRobustness: math.Inf(-1)}
 	for st := range cost {
 		if rob.Policy[st] != nominal.Policy[st] {
 			a.Differs = append(a.Differs, st)

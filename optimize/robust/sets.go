@@ -381,24 +381,25 @@ func admissible(p *optimize.Problem, s, a int) bool {
 
 // statement says in words what the sets support.
 func statement(s *Sets) string {
-	dist := "L1 distance (twice the probability moved)"
-	if s.Kind == KL {
-		dist = "likelihood divergence KL(model row ‖ row), in nats,"
+	const allowed = "on the transitions the model allows (and any widened ones)"
+	within := func(r string) string {
+		if s.Kind == KL {
+			return fmt.Sprintf("within likelihood divergence %s nats of the model's row, KL(model row ‖ row)", r)
+		}
+		return fmt.Sprintf("within L1 distance %s of the model's row (half of it is the probability moved)", r)
 	}
-	const support = "only transitions the model allows (or the widened ones) may occur"
+	const worst = "The worst-case costs are the highest expected costs over all such matrices. "
 	switch s.Source {
 	case GivenUniform:
-		return fmt.Sprintf("Every transition row may differ from the model's row by an %s of up to %.4g, and %s. "+
-			"The worst-case costs are the highest expected costs over all such matrices. "+
-			"The radius was given, not derived from data: no confidence level is attached.", dist, s.Radius, support)
+		return "Every transition row may be any distribution " + within(fmt.Sprintf("%.4g", s.Radius)) + ", " + allowed + ". " + worst +
+			"The radius was given, not derived from records: no confidence level is attached."
 	case GivenPerRow:
-		return fmt.Sprintf("Every transition row may differ from the model's row by an %s of up to the radius given for it, and %s. "+
-			"The worst-case costs are the highest expected costs over all such matrices. "+
-			"The radii were given, not derived from data: no confidence level is attached.", dist, support)
+		return "Every transition row may be any distribution " + within("the radius given for it") + ", " + allowed + ". " + worst +
+			"The radii were given, not derived from records: no confidence level is attached."
 	}
-	bound := "Weissman et al. 2003"
+	bound, radius := "Weissman et al. (2003)", "L1 radius"
 	if s.Kind == KL {
-		bound = "the method of types"
+		bound, radius = "the method of types", "divergence radius"
 	}
 	noData := 0
 	for _, rows := range s.Rows {
@@ -412,11 +413,11 @@ func statement(s *Sets) string {
 	fmt.Fprintf(&b, "With probability at least %.4g%% over the inspection records, every true transition row lies in its set, "+
 		"so the worst-case costs bound the true expected costs of the advised policy. ", 100*s.Confidence)
 	if s.Bounded > 0 {
-		fmt.Fprintf(&b, "Each of the %d rows with data has the radius (%s) that %s gives at miss probability %.3g, "+
-			"and the union bound adds the misses. ", s.Bounded, dist, bound, s.RowMiss)
+		fmt.Fprintf(&b, "Each of the %d rows with records has the %s that %s gives at miss probability %.3g "+
+			"(%.4g%% shared among them by the union bound). ", s.Bounded, radius, bound, s.RowMiss, 100*(1-s.Confidence))
 	}
 	if noData > 0 {
-		fmt.Fprintf(&b, "%d rows without records may be any distribution on their possible transitions. ", noData)
+		fmt.Fprintf(&b, "%d rows without records may be any distribution %s. ", noData, allowed)
 	}
 	b.WriteString("This assumes that the model's rows are the counting estimates from these records, that the records are " +
 		"independent one-period transitions, and that transitions the model marks impossible are impossible.")

@@ -90,7 +90,11 @@ type Result struct {
 // is robust policy iteration (Iyengar 2005, §4): evaluate the policy
 // against its worst case (below), switch every state to an action whose
 // worst-case Q-value is lower by more than the tie tolerance, repeat. Auto
-// picks policy iteration up to optimize.AutoPolicyStates states.
+// runs value iteration for about the cost of four evaluations (see
+// autoSweeps) and, if its bounds are not yet within Tol/2, continues with
+// policy iteration from its greedy policy; above optimize.AutoPolicyStates
+// states it is value iteration. Result.Method names the method that
+// finished and Result.Iterations counts sweeps and steps together.
 // LinearProgram is not available.
 //
 // Whatever the method, the advice's worst case is then evaluated on the
@@ -127,7 +131,6 @@ func withDefaults(settings *optimize.Settings, n int) (optimize.Settings, error)
 	}
 	switch s.Method {
 	case optimize.Auto:
-		s.Method = optimize.PolicyIteration
 		if n > optimize.AutoPolicyStates {
 			s.Method = optimize.ValueIteration
 		}
@@ -147,6 +150,16 @@ func withDefaults(settings *optimize.Settings, n int) (optimize.Settings, error)
 	return s, nil
 }
 
+// autoSweeps is Auto's budget of value-iteration sweeps before it turns to
+// policy iteration: about four evaluations' worth, taking an O(n³) LU
+// ((2/3)·n³ floating-point operations) as n³/40 sweep entries (the
+// measured ratio of a sort-and-shift entry to an LU operation, on the
+// benchmarks' machine, common practice, no source), and at least 100.
+func (m *model) autoSweeps() int {
+	n := float64(len(m.first) - 1)
+	return max(100, int(4*n*n*n/40/float64(len(m.to))))
+}
+
 var errNonFinite = errors.New("robust: value iteration diverged to non-finite values")
 
 // solve runs the method of s and certifies its policy; start, if not nil,
@@ -161,10 +174,28 @@ func (m *model) solve(ctx context.Context, s *optimize.Settings, start []int, v0
 		iters        int
 		err          error
 	)
-	if s.Method == optimize.ValueIteration {
-		policy, lower, upper, iters, err = m.valueIteration(ctx, s, v0)
-	} else {
+	method := s.Method
+	switch method {
+	case optimize.ValueIteration:
+		policy, lower, upper, iters, _, err = m.valueIteration(ctx, s, v0)
+	case optimize.PolicyIteration:
 		policy, ev, iters, err = m.policyIteration(ctx, s, start)
+	default:
+		// Auto: value iteration for about the cost of four evaluations,
+		// then, if its bounds are not yet within Tol/2, policy iteration
+		// from its greedy policy (the worst rows it found stay as the
+		// adversary's warm start).
+		vs := *s
+		vs.MaxIterations = m.autoSweeps()
+		var done bool
+		method = optimize.ValueIteration
+		policy, lower, upper, iters, done, err = m.valueIteration(ctx, &vs, v0)
+		if err == nil && !done {
+			var steps int
+			method = optimize.PolicyIteration
+			policy, ev, steps, err = m.policyIteration(ctx, s, policy)
+			iters += steps
+		}
 	}
 	if err != nil {
 		return nil, err
@@ -173,6 +204,7 @@ func (m *model) solve(ctx context.Context, s *optimize.Settings, start []int, v0
 	if err != nil {
 		return nil, err
 	}
+	r.Method = method
 	r.Iterations = iters
 	r.Evaluations = m.evaluations
 	return r, nil
@@ -208,8 +240,8 @@ func (m *model) sweep(v, tvLo, tvHi []float64, policy []int) {
 // valueIteration runs v_{k+1} = T v_k from v0 (nil: zero) with the bounds of
 // Solve, stopping when max_s (upper(s) - lower(s)) <= Tol/2 or after
 // MaxIterations sweeps. It returns the greedy policy of the last iterate
-// and the bounds.
-func (m *model) valueIteration(ctx context.Context, s *optimize.Settings, v0 []float64) (policy []int, lower, upper []float64, sweeps int, err error) {
+// and the bounds, and whether they met Tol/2.
+func (m *model) valueIteration(ctx context.Context, s *optimize.Settings, v0 []float64) (policy []int, lower, upper []float64, sweeps int, done bool, err error) {
 	n := len(m.first) - 1
 	g := m.gamma
 	v := make([]float64, n)
@@ -218,7 +250,7 @@ func (m *model) valueIteration(ctx context.Context, s *optimize.Settings, v0 []f
 	policy = make([]int, n)
 	for sweeps = 1; ; sweeps++ {
 		if err := ctx.Err(); err != nil {
-			return nil, nil, nil, sweeps, err
+			return nil, nil, nil, sweeps, false, err
 		}
 		m.sweep(v, tvLo, tvHi, policy)
 		lo, hi, width := math.Inf(1), math.Inf(-1), 0.0
@@ -228,7 +260,7 @@ func (m *model) valueIteration(ctx context.Context, s *optimize.Settings, v0 []f
 		}
 		gap := width + g/(1-g)*(hi-lo)
 		if math.IsNaN(gap) || math.IsInf(gap, 0) {
-			return nil, nil, nil, sweeps, errNonFinite
+			return nil, nil, nil, sweeps, false, errNonFinite
 		}
 		if s.Progress != nil {
 			s.Progress(optimize.Progress{Method: optimize.ValueIteration, Iteration: sweeps, Gap: gap})
@@ -239,7 +271,7 @@ func (m *model) valueIteration(ctx context.Context, s *optimize.Settings, v0 []f
 				lower[st] = tvLo[st] + g/(1-g)*lo
 				upper[st] = tvHi[st] + g/(1-g)*hi
 			}
-			return policy, lower, upper, sweeps, nil
+			return policy, lower, upper, sweeps, gap <= s.Tol/2, nil
 		}
 		v, tvHi = tvHi, v
 	}
@@ -339,18 +371,12 @@ func Evaluate(ctx context.Context, p *optimize.Problem, sets *Sets, policy []int
 	if err != nil {
 		return nil, err
 	}
-	round := m.roundingError(ev.upper) / (1 - m.gamma)
-	out := &Evaluation{Policy: slices.Clone(policy), Attained: ev.value, Adversary: ev.rows, WorstCase: make([]float64, len(policy)), Evaluations: m.evaluations}
-	for s := range policy {
-		out.WorstCase[s] = ev.upper[s] + round
-		out.Gap = max(out.Gap, out.WorstCase[s]-ev.value[s])
-	}
-	return out, nil
+	return &Evaluation{Policy: slices.Clone(policy), WorstCase: ev.upper, Attained: ev.value, Adversary: ev.rows, Gap: ev.gap, Evaluations: m.evaluations}, nil
 }
 
 // evaluation is the worst case of one policy: value is the exact cost
 // under rows (a matrix inside the sets), upper a proven upper bound on the
-// worst case, gap = max(upper - value).
+// worst case (with the rounding allowance), gap = max(upper - value).
 type evaluation struct {
 	value, upper []float64
 	rows         [][]condition.Entry
@@ -416,8 +442,9 @@ func (m *model) evaluate(ctx context.Context, policy []int, tol float64) (*evalu
 			improve = max(improve, m.cost[c]+g*lo-w[s])
 		}
 		ev := &evaluation{value: w, upper: make([]float64, n), rows: rows}
+		round := m.roundingError(w) / (1 - g)
 		for s := range n {
-			ev.upper[s] = max(w[s], th[s]+g/(1-g)*hiD)
+			ev.upper[s] = max(w[s], th[s]+g/(1-g)*hiD) + round
 			ev.gap = max(ev.gap, ev.upper[s]-w[s])
 		}
 		if math.IsNaN(ev.gap) || math.IsInf(ev.gap, 0) {
@@ -511,7 +538,7 @@ func (m *model) certify(ctx context.Context, s *optimize.Settings, policy []int,
 		r.Residual = max(r.Residual, math.Abs(thi[st]-ev.value[st]))
 	}
 	for st := range n {
-		r.WorstCase[st] = ev.upper[st] + round
+		r.WorstCase[st] = ev.upper[st]
 		r.EvalGap = max(r.EvalGap, r.WorstCase[st]-ev.value[st])
 		r.Lower[st] = tlo[st] + g/(1-g)*lo - round
 		r.Upper[st] = min(r.WorstCase[st], thi[st]+g/(1-g)*hi+round)

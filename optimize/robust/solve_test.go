@@ -31,7 +31,7 @@ func fixtures(t testing.TB) []fixture {
 	}
 }
 
-var robustMethods = []optimize.Method{optimize.PolicyIteration, optimize.ValueIteration}
+var robustMethods = []optimize.Method{optimize.PolicyIteration, optimize.ValueIteration, optimize.Auto}
 
 func solve(t testing.TB, p *optimize.Problem, sets *Sets, m optimize.Method, tol float64) *Result {
 	t.Helper()
