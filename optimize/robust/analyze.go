@@ -50,11 +50,7 @@ type Analysis struct {
 // advice over the sets, and ranks the rows with Settle. Its cost is that of Settle: one robust solve per row
 // with data, each warm-started.
 func Analyze(ctx context.Context, p *optimize.Problem, sets *Sets, settings *optimize.Settings) (*Analysis, error) {
-	s, err := withDefaults(settings, len(p.States))
-	if err != nil {
-		return nil, err
-	}
-	m, err := newModel(p, sets)
+	m, s, err := prepare(p, sets, settings)
 	if err != nil {
 		return nil, err
 	}
@@ -129,11 +125,7 @@ type Gain struct {
 // solve per row, typically one improvement step and one or two O(n³)
 // evaluations with policy iteration.
 func Settle(ctx context.Context, p *optimize.Problem, sets *Sets, r *Result, settings *optimize.Settings) ([]Gain, error) {
-	s, err := withDefaults(settings, len(p.States))
-	if err != nil {
-		return nil, err
-	}
-	m, err := newModel(p, sets)
+	m, s, err := prepare(p, sets, settings)
 	if err != nil {
 		return nil, err
 	}

@@ -9,13 +9,11 @@ import (
 	"fixpoint/optimize/robust"
 )
 
-// A two-state machine (invented figures): left alone a good machine fails
-// with probability 0.3 a period, serviced with 0.05; a failed one must be
-// repaired. Every row may be off by up to 0.1 in L1 distance (0.05 of
-// probability moved). Serviced, nature moves 0.05 more to failure: the
-// worst case of good solves x = 5 + 0.9(0.9x + 0.1(100 + 0.9x)), x = 14/0.109.
-func ExampleAnalyze() {
-	p := &optimize.Problem{
+// machine is a two-state machine (invented figures): left alone a good
+// machine fails with probability 0.3 a period, serviced with 0.05; a
+// failed one must be repaired.
+func machine() *optimize.Problem {
+	return &optimize.Problem{
 		States:   []string{"good", "failed"},
 		Actions:  []string{"leave", "service", "repair"},
 		Discount: 0.9,
@@ -29,6 +27,14 @@ func ExampleAnalyze() {
 			},
 		},
 	}
+}
+
+// The machine when every row may be off by up to 0.1 in L1 distance (0.05
+// of probability moved). Serviced, nature moves 0.05 more to failure: the
+// worst case of good solves x = 5 + 0.9(0.9x + 0.1(100 + 0.9x)), so
+// x = 14/0.109.
+func ExampleAnalyze() {
+	p := machine()
 	sets, err := robust.Uniform(p, robust.L1, 0.1, nil)
 	if err != nil {
 		fmt.Println(err)
@@ -60,20 +66,7 @@ func ExampleAnalyze() {
 // the two uncertain rows share 10% by the union bound; Weissman et al.'s
 // bound at miss 0.05 gives ε = sqrt(2·ln(2/0.05)/n).
 func ExampleFromCounts() {
-	p := &optimize.Problem{
-		States:   []string{"good", "failed"},
-		Actions:  []string{"leave", "service", "repair"},
-		Discount: 0.9,
-		Choices: [][]optimize.Choice{
-			{
-				{Action: 0, Cost: 0, Next: []condition.Entry{{To: 0, P: 0.7}, {To: 1, P: 0.3}}},
-				{Action: 1, Cost: 5, Next: []condition.Entry{{To: 0, P: 0.95}, {To: 1, P: 0.05}}},
-			},
-			{
-				{Action: 2, Cost: 100, Next: []condition.Entry{{To: 0, P: 1}}},
-			},
-		},
-	}
+	p := machine()
 	observations := [][]int{{40, 0}, {20, 0}, {0, 0}} // [action][state]
 	sets, err := robust.FromCounts(p, robust.L1, 0.9, observations, nil)
 	if err != nil {

@@ -112,15 +112,21 @@ type Result struct {
 // the iteration cap gives Status NotCertified, not an error; errors are
 // for invalid inputs, non-finite numbers and cancellation.
 func Solve(ctx context.Context, p *optimize.Problem, sets *Sets, settings *optimize.Settings) (*Result, error) {
-	m, err := newModel(p, sets)
-	if err != nil {
-		return nil, err
-	}
-	s, err := withDefaults(settings, len(p.States))
+	m, s, err := prepare(p, sets, settings)
 	if err != nil {
 		return nil, err
 	}
 	return m.solve(ctx, &s, nil, nil)
+}
+
+// prepare checks and flattens p with its sets and fills in the settings.
+func prepare(p *optimize.Problem, sets *Sets, settings *optimize.Settings) (*model, optimize.Settings, error) {
+	m, err := newModel(p, sets)
+	if err != nil {
+		return nil, optimize.Settings{}, err
+	}
+	s, err := withDefaults(settings, len(p.States))
+	return m, s, err
 }
 
 // withDefaults fills in the documented defaults of optimize.Settings.
