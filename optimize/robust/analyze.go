@@ -45,7 +45,8 @@ type Analysis struct {
 }
 
 // Analyze solves p nominally (optimize.Solve) and robustly over sets
-// (Solve, with policy iteration started from the nominal advice),
+// (as Solve; policy iteration, when it runs, starts from the nominal
+// advice),
 // evaluates the robust advice under the nominal matrices and the nominal
 // advice over the sets, and ranks the rows with Settle. Its cost is that of Settle: one robust solve per row
 // with data, each warm-started.
@@ -66,7 +67,7 @@ func Analyze(ctx context.Context, p *optimize.Problem, sets *Sets, settings *opt
 	if err != nil {
 		return nil, err
 	}
-	nomWorst, err := m.evaluate(ctx, nominal.Policy, s.Tol/8)
+	nomWorst, err := m.evaluate(ctx, nominal.Policy, s.Tol/8, maxAdversarySteps)
 	if err != nil {
 		return nil, err
 	}
@@ -111,9 +112,16 @@ type Gain struct {
 	// Policy is the robust advice with the new radius; AdviceChanges the
 	// states where it differs from the current advice. Status is the new
 	// solve's.
+	//
+	// Screened marks a row of an action other than the advice that cannot
+	// become better than the advice even with the smaller set
+	// (c + γ·max_{q∈P'} q·Lower >= Upper(s)): the robust optimum is then
+	// unchanged, no solve is run, Change is 0 and Policy the current
+	// advice.
 	Policy        []int
 	AdviceChanges []int
 	Status        optimize.Status
+	Screened      bool
 }
 
 // Settle ranks the rows of sets by how much four times their observations
@@ -122,8 +130,9 @@ type Gain struct {
 // support states, one robust solve with that row's radius shrunk (see
 // Gain.NewRadius), warm-started from r's advice and worst rows. Largest
 // MaxChange first; ties by state, then action. Cost: one warm-started
-// solve per row, typically one improvement step and one or two O(n³)
-// evaluations with policy iteration.
+// solve per row (value iteration from r's worst case, then one or two
+// O(n³) evaluations), except for rows screened out by a bound at O(k log k)
+// (Gain.Screened).
 func Settle(ctx context.Context, p *optimize.Problem, sets *Sets, r *Result, settings *optimize.Settings) ([]Gain, error) {
 	m, s, err := prepare(p, sets, settings)
 	if err != nil {
@@ -163,6 +172,20 @@ func (m *model) settle(ctx context.Context, s *optimize.Settings, sets *Sets, ba
 			copy(m.adv, adv)
 			copy(m.dual, dual)
 			m.radius[c] = gn.NewRadius
+			gn.Change = make([]float64, n)
+			if row.Action != base.Policy[st] {
+				// Screen: if even with the smaller set the action costs at
+				// least the robust optimum, c + γ·σ'(Lower) >= Upper(s), then
+				// v* is still the fixed point (the changed state's minimum
+				// is unchanged; σ' is monotone) and nothing changes.
+				lo, _ := m.inner(c, base.Lower, nil)
+				if m.cost[c]+m.gamma*lo >= base.Upper[st] {
+					m.radius[c] = row.Radius
+					gn.Screened, gn.Accuracy, gn.Policy, gn.Status = true, base.Gap, base.Policy, base.Status
+					gains = append(gains, gn)
+					continue
+				}
+			}
 			// The warm row must lie in the smaller set.
 			m.inner(c, base.Attained, m.adv[m.off[c]:m.off[c+1]])
 			r, err := m.solve(ctx, s, base.Policy, base.Attained)
@@ -170,7 +193,6 @@ func (m *model) settle(ctx context.Context, s *optimize.Settings, sets *Sets, ba
 			if err != nil {
 				return nil, err
 			}
-			gn.Change = make([]float64, n)
 			gn.MaxChange = math.Inf(-1)
 			for j := range n {
 				gn.Change[j] = base.WorstCase[j] - r.WorstCase[j]

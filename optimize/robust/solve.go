@@ -89,7 +89,10 @@ type Result struct {
 // Methods: ValueIteration sweeps v <- T v with those bounds; PolicyIteration
 // is robust policy iteration (Iyengar 2005, §4): evaluate the policy
 // against its worst case (below), switch every state to an action whose
-// worst-case Q-value is lower by more than the tie tolerance, repeat. Auto
+// worst-case Q-value is lower by more than the tie tolerance, repeat. Its
+// evaluation proceeds one adversary step at a time and switches as soon
+// as a switch is sure to lower the worst case (by more than 2γ times the
+// evaluation's remaining gap), which saves evaluations in early steps. Auto
 // runs value iteration for about the cost of four evaluations (see
 // autoSweeps) and, if its bounds are not yet within Tol/2, continues with
 // policy iteration from its greedy policy; above optimize.AutoPolicyStates
@@ -303,31 +306,49 @@ func (m *model) policyIteration(ctx context.Context, s *optimize.Settings, start
 		}
 	}
 	for step := 1; ; step++ {
-		if err := ctx.Err(); err != nil {
-			return nil, nil, step, err
-		}
-		ev, err := m.evaluate(ctx, policy, s.Tol/8)
+		// Evaluate one adversary step at a time: a switch is taken as soon
+		// as it is sure to improve the worst case (below), so early steps
+		// seldom need the adversary's full policy iteration.
+		ev, err := m.evaluate(ctx, policy, s.Tol/8, 1)
 		if err != nil {
 			return nil, nil, step, err
 		}
-		tie := tieTol(s, ev.upper)
 		changed, worst := 0, 0.0
-		for st := range n {
-			qCur, best, arg := math.NaN(), math.Inf(1), -1
-			for c := m.first[st]; c < m.first[st+1]; c++ {
-				_, hi := m.inner(c, ev.value, m.adv[m.off[c]:m.off[c+1]])
-				q := m.cost[c] + g*hi
-				if m.action[c] == policy[st] {
-					qCur = q
+		for {
+			tie := tieTol(s, ev.upper)
+			// With w <= v_π <= w + gap, each worst-case Q-value at w is
+			// within γ·(gap + ε) of its value at v_π (the inner maximum is
+			// 1-Lipschitz in the max norm), so a switch by more than
+			// 2γ·(gap + ε) lowers (T v_π)(s) below v_π(s) and, by
+			// monotonicity, the worst case of the policy.
+			margin := tie
+			if !ev.done {
+				margin += 2 * g * (ev.gap + m.eps)
+			}
+			changed, worst = 0, 0.0
+			for st := range n {
+				qCur, best, arg := math.NaN(), math.Inf(1), -1
+				for c := m.first[st]; c < m.first[st+1]; c++ {
+					_, hi := m.inner(c, ev.value, m.adv[m.off[c]:m.off[c+1]])
+					q := m.cost[c] + g*hi
+					if m.action[c] == policy[st] {
+						qCur = q
+					}
+					if q < best {
+						best, arg = q, m.action[c]
+					}
 				}
-				if q < best {
-					best, arg = q, m.action[c]
+				worst = max(worst, qCur-best)
+				if best < qCur-margin {
+					policy[st] = arg
+					changed++
 				}
 			}
-			worst = max(worst, qCur-best)
-			if best < qCur-tie {
-				policy[st] = arg
-				changed++
+			if changed > 0 || ev.done {
+				break
+			}
+			if ev, err = m.evaluate(ctx, policy, s.Tol/8, 1); err != nil {
+				return nil, nil, step, err
 			}
 		}
 		if s.Progress != nil {
@@ -373,7 +394,7 @@ func Evaluate(ctx context.Context, p *optimize.Problem, sets *Sets, policy []int
 		tol = optimize.DefaultTol / 8
 	}
 	m.eps = tol * (1 - m.gamma) / (4 * m.gamma)
-	ev, err := m.evaluate(ctx, policy, tol)
+	ev, err := m.evaluate(ctx, policy, tol, maxAdversarySteps)
 	if err != nil {
 		return nil, err
 	}
@@ -387,6 +408,8 @@ type evaluation struct {
 	value, upper []float64
 	rows         [][]condition.Entry
 	gap          float64
+	// done: gap <= the tolerance, or no row of nature improves.
+	done bool
 }
 
 // maxAdversarySteps caps the adversary's policy iteration; for L1 it ends
@@ -399,8 +422,8 @@ const maxAdversarySteps = 100
 // exactly (optimize.Evaluate), which gives w <= v_π (a matrix in the
 // sets); bound v_π <= T_π w + γ/(1-γ)·max(T_π w - w) with the upper inner
 // values; stop when that is within tol of w or no row improves; otherwise
-// switch the rows that improve and repeat.
-func (m *model) evaluate(ctx context.Context, policy []int, tol float64) (*evaluation, error) {
+// switch the rows that improve and repeat, for at most maxSteps solves.
+func (m *model) evaluate(ctx context.Context, policy []int, tol float64, maxSteps int) (*evaluation, error) {
 	n := len(policy)
 	g := m.gamma
 	chosen := make([]int, n)
@@ -460,13 +483,17 @@ func (m *model) evaluate(ctx context.Context, policy []int, tol float64) (*evalu
 		// minGain; when none does, T_π w - w <= minGain below the rows'
 		// lower values, so w is within about minGain/(1-γ) of v_π.
 		minGain := max(tol*(1-g)/4, 1e-13*scale)
-		if ev.gap <= tol || improve <= minGain || step >= maxAdversarySteps {
+		if ev.gap <= tol || improve <= minGain {
+			ev.done = true
 			return ev, nil
 		}
 		for s, c := range chosen {
 			if m.cost[c]+g*dot(m.to[m.off[c]:m.off[c+1]], next[m.off[c]:m.off[c+1]], w) > w[s]+minGain {
 				copy(m.adv[m.off[c]:m.off[c+1]], next[m.off[c]:m.off[c+1]])
 			}
+		}
+		if step >= maxSteps {
+			return ev, nil
 		}
 	}
 }
@@ -509,7 +536,7 @@ func (m *model) certify(ctx context.Context, s *optimize.Settings, policy []int,
 	for round := 0; ; round++ {
 		if ev == nil {
 			var err error
-			if ev, err = m.evaluate(ctx, policy, s.Tol/8); err != nil {
+			if ev, err = m.evaluate(ctx, policy, s.Tol/8, maxAdversarySteps); err != nil {
 				return nil, err
 			}
 		}
