@@ -5,6 +5,7 @@ import (
 
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
+	"fixpoint/costs"
 	"fixpoint/optimize/fleet"
 	"fixpoint/reports"
 )
@@ -35,6 +36,8 @@ work only, at least cost.`,
 	f := cmd.Flags()
 	settings.AddFleet(f)
 	settings.AddYears(f, "horizon in `years` overriding the fleet file")
+	settings.AddOverride(f)
+	settings.AddRates(f, "annual `rates` to plan at side by side: a list 3%,5%,7% or a range lo:hi[:step]")
 	f.String("simulate", "1000", "Monte-Carlo `runs` of the whole-unit practice (0 = none)")
 	f.String("seed", "1", "seed of the random numbers (`n`)")
 	settings.AddOutput(f, "table", "json", "csv")
@@ -48,8 +51,9 @@ func fleetHeader(ff *modelfile.Fleet) reports.Header {
 	return reports.Header{Model: ff.Name, Currency: ff.Currency, Period: c.Period, Discount: c.Discount, Source: ff.Path, Version: version()}
 }
 
-// fleetPlan applies --budget and --years to a fleet file and plans it.
-func (a *app) fleetPlan(cmd *cobra.Command, ff *modelfile.Fleet, st settings.Fleet) (*fleet.Problem, *fleet.Plan, error) {
+// fleetPlan applies --budget and --years to a fleet file and plans it at
+// discount d (zero: the classes' own).
+func (a *app) fleetPlan(cmd *cobra.Command, ff *modelfile.Fleet, st settings.Fleet, d ...costs.Discount) (*fleet.Problem, *fleet.Plan, error) {
 	years := ff.Years
 	if st.Years != 0 {
 		if st.Years != float64(int(st.Years)) || st.Years > modelfile.MaxYears {
@@ -75,6 +79,9 @@ func (a *app) fleetPlan(cmd *cobra.Command, ff *modelfile.Fleet, st settings.Fle
 	if err != nil {
 		return nil, nil, err
 	}
+	if len(d) > 0 && !d[0].IsZero() {
+		f.Discount = d[0]
+	}
 	p, err := fleet.Solve(cmd.Context(), f, &fleet.Settings{Gap: st.Gap})
 	if err != nil {
 		return nil, nil, err
@@ -95,11 +102,26 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 		return err
 	}
 	ff := file.Fleet
-	f, p, err := a.fleetPlan(cmd, ff, st.Fleet)
+	if len(st.Rates.List) > 0 {
+		if err := a.src.NotFor("a plan across rates", " (each rate gets its own discount; the practice is simulated by a single-rate plan)",
+			"rate", "factor", "simulate", "seed"); err != nil {
+			return err
+		}
+		return a.planRates(cmd, ff, st)
+	}
+	var d costs.Discount
+	if st.Override.Given() {
+		if d, err = override(ff.Classes[0].Period, st.Override); err != nil {
+			return err
+		}
+	}
+	f, p, err := a.fleetPlan(cmd, ff, st.Fleet, d)
 	if err != nil {
 		return err
 	}
-	view := &reports.PlanReport{Header: fleetHeader(ff), Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Fleet.Gap, ff.Currency)}
+	h := fleetHeader(ff)
+	h.Discount = f.Discount
+	view := &reports.PlanReport{Header: h, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Fleet.Gap, ff.Currency)}
 	if st.Simulate > 0 {
 		if view.Practice, err = fleet.Simulate(cmd.Context(), f, p, fleet.FollowPractice, st.Simulate, st.Seed, 0, nil); err != nil {
 			return err
@@ -108,6 +130,36 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 	}
 	for _, wn := range view.Warnings {
 		a.warn(wn)
+	}
+	return a.emit(cmd, st.Output, view)
+}
+
+// planRates plans a fleet at each of the --rates (real, after any
+// --inflation) and shows the plans side by side.
+func (a *app) planRates(cmd *cobra.Command, ff *modelfile.Fleet, st settings.Plan) error {
+	period := ff.Classes[0].Period
+	view := &reports.PlanRates{Header: fleetHeader(ff)}
+	view.Discount = costs.Discount{} // each plan has its own
+	for _, r := range st.Rates.List {
+		if st.Rates.HasInflation {
+			r = costs.RealRate(r, st.Rates.Inflation)
+		}
+		d, err := costs.Rate(r, period)
+		if err != nil {
+			return usagef("setting rates: %v", trimLib(err))
+		}
+		f, p, err := a.fleetPlan(cmd, ff, st.Fleet, d)
+		if err != nil {
+			return err
+		}
+		var changed []bool
+		if n := len(view.Plans); n > 0 {
+			changed = fleet.ChangedYears(view.Plans[n-1], p, 1e-6)
+		}
+		view.Fleet = f
+		view.Discounts = append(view.Discounts, d)
+		view.Plans = append(view.Plans, p)
+		view.Changed = append(view.Changed, changed)
 	}
 	return a.emit(cmd, st.Output, view)
 }

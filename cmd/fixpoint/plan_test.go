@@ -4,6 +4,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -176,5 +177,52 @@ func TestForecastSimulate(t *testing.T) {
 	}
 	if code, _, stderr := runCLI(t, "forecast", demoFleet); code != exitUsage || !strings.Contains(stderr, "--simulate") {
 		t.Errorf("fleet forecast without --simulate: exit %d, %s", code, stderr)
+	}
+}
+
+// Plans across rates: golden outputs, and at each rate the same plan as a
+// single plan at that rate.
+func TestPlanAcrossRates(t *testing.T) {
+	for _, format := range []string{"table", "json", "csv"} {
+		code, out, stderr := runCLI(t, "plan", demoFleet, "--rates", "3%,5%,7%", "--format", format)
+		if code != 0 {
+			t.Fatalf("%s: exit %d: %s", format, code, stderr)
+		}
+		golden(t, "plan-rates-east."+format, out)
+	}
+	var across struct {
+		Rates []struct {
+			Rate  float64 `json:"rate"`
+			Fluid float64 `json:"fluid_cost"`
+			Lower float64 `json:"lower_bound"`
+			Years []struct {
+				PlannedSpend float64 `json:"planned_spend"`
+			} `json:"years"`
+		} `json:"rates"`
+	}
+	runJSON(t, &across, "plan", demoFleet, "--rates", "3%:7%:2%", "--format", "json")
+	if len(across.Rates) != 3 {
+		t.Fatalf("%d rates, want 3", len(across.Rates))
+	}
+	for _, r := range across.Rates {
+		var one struct {
+			Fluid float64 `json:"fluid_cost"`
+			Lower float64 `json:"lower_bound"`
+			Years []struct {
+				PlannedSpend float64 `json:"planned_spend"`
+			} `json:"years"`
+		}
+		runJSON(t, &one, "plan", demoFleet, "--rate", strconv.FormatFloat(r.Rate, 'g', -1, 64), "--simulate", "0", "--format", "json")
+		if math.Abs(one.Fluid-r.Fluid) > 1e-9*math.Abs(one.Fluid) || math.Abs(one.Lower-r.Lower) > 1e-9*math.Abs(one.Lower) {
+			t.Errorf("rate %g: across rates %g/%g, alone %g/%g", r.Rate, r.Lower, r.Fluid, one.Lower, one.Fluid)
+		}
+		for y := range one.Years {
+			if math.Abs(one.Years[y].PlannedSpend-r.Years[y].PlannedSpend) > 1e-6 {
+				t.Errorf("rate %g, year %d: spend %g across rates, %g alone", r.Rate, y+1, r.Years[y].PlannedSpend, one.Years[y].PlannedSpend)
+			}
+		}
+	}
+	if code, _, stderr := runCLI(t, "plan", demoFleet, "--rates", "3%,5%", "--rate", "4%"); code != exitUsage || !strings.Contains(stderr, "--rate does not apply to a plan across rates") {
+		t.Errorf("--rates with --rate: exit %d, %s", code, stderr)
 	}
 }

@@ -401,6 +401,10 @@ type Plan struct {
 	// practice (0: none).
 	Simulate int
 	Seed     uint64
+	// Override replaces the classes' discount; Rates, when given, plans
+	// at each rate side by side.
+	Override Override
+	Rates    Rates
 }
 
 // Plan reads the settings of plan.
@@ -412,6 +416,12 @@ func (s *Source) Plan() (st Plan, err error) {
 		return
 	}
 	if st.Seed, err = s.Seed(); err != nil {
+		return
+	}
+	if st.Override, err = s.Override(); err != nil {
+		return
+	}
+	if st.Rates, err = s.Rates(); err != nil {
 		return
 	}
 	st.Fleet, err = s.Fleet()
