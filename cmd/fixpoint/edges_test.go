@@ -282,3 +282,37 @@ func TestEveryInputProtected(t *testing.T) {
 		}
 	}
 }
+
+// Terminal and spreadsheet injection: names with escape sequences,
+// newlines or a leading "=" are refused, naming each, and nothing raw
+// reaches the terminal.
+func TestHostileNames(t *testing.T) {
+	code, stdout, stderr := runCLI(t, "solve", filepath.Join("testdata", "hostile", "escapes.yaml"), "--format", "csv")
+	if code != exitInput || stdout != "" {
+		t.Fatalf("exit %d, stdout %q", code, stdout)
+	}
+	if strings.ContainsAny(stderr, "\x1b\a") {
+		t.Errorf("raw control characters reached the terminal: %q", stderr)
+	}
+	for _, want := range []string{`name: name "\x1b]0;pwned-title\a`, `currency: name "EUR\x1b[5m" contains a control character`,
+		`states[1].name: name "=HYPERLINK(\"http://x\")" contains "," or "="`, `states[2].name: name "fa\niled" contains a control character`} {
+		if !strings.Contains(stderr, want) {
+			t.Errorf("stderr lacks %q:\n%s", want, stderr)
+		}
+	}
+}
+
+// Writing to a device writes to it and leaves it a device.
+func TestOutputToDevice(t *testing.T) {
+	if _, err := os.Stat("/dev/null"); err != nil {
+		t.Skip("no /dev/null")
+	}
+	for _, args := range [][]string{{"-o", "/dev/null"}, {"-o", "/dev/null", "--force"}} {
+		if code, _, stderr := runCLI(t, append([]string{"solve", demo, "--format", "json"}, args...)...); code != 0 {
+			t.Errorf("%v: exit %d: %s", args, code, stderr)
+		}
+	}
+	if info, err := os.Lstat("/dev/null"); err != nil || info.Mode()&os.ModeDevice == 0 {
+		t.Fatalf("/dev/null is no longer a device: %v", err)
+	}
+}

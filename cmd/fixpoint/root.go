@@ -68,10 +68,10 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	case exitInterrupted:
 		fmt.Fprintln(stderr, "fixpoint: interrupted; no output file was written")
 	case exitUsage:
-		fmt.Fprintf(stderr, "fixpoint: %v\nRun 'fixpoint --help' for usage.\n", err)
+		fmt.Fprintf(stderr, "fixpoint: %s\nRun 'fixpoint --help' for usage.\n", modelfile.Printable(err.Error()))
 	default:
 		for _, e := range flatten(err) {
-			fmt.Fprintf(stderr, "fixpoint: %v\n", e)
+			fmt.Fprintf(stderr, "fixpoint: %s\n", modelfile.Printable(e.Error()))
 		}
 	}
 	return code
@@ -216,5 +216,5 @@ func (a *app) target(o settings.Output) outfile.Target {
 }
 
 // note prints a note on stderr; warn a warning.
-func (a *app) note(msg string) { io.WriteString(a.stderr, "fixpoint: note: "+msg+"\n") }
-func (a *app) warn(msg string) { io.WriteString(a.stderr, "fixpoint: warning: "+msg+"\n") }
+func (a *app) note(msg string) { io.WriteString(a.stderr, "fixpoint: note: "+modelfile.Printable(msg)+"\n") }
+func (a *app) warn(msg string) { io.WriteString(a.stderr, "fixpoint: warning: "+modelfile.Printable(msg)+"\n") }

@@ -38,6 +38,24 @@ func (e *Fault) Error() string {
 		b.WriteString(": " + e.Path)
 	}
 	b.WriteString(": " + e.Msg)
+	return Printable(b.String())
+}
+
+// Printable escapes control characters (terminal escape sequences,
+// newlines) in text bound for a terminal, as Go's %q would.
+func Printable(s string) string {
+	if strings.IndexFunc(s, unicode.IsControl) < 0 {
+		return s
+	}
+	var b strings.Builder
+	for _, r := range s {
+		if unicode.IsControl(r) {
+			q := strconv.QuoteRune(r)
+			b.WriteString(q[1 : len(q)-1])
+			continue
+		}
+		b.WriteRune(r)
+	}
 	return b.String()
 }
 
@@ -448,6 +466,7 @@ func DidYouMean(s string, candidates []string) string {
 	if len(candidates) > maxHintCandidates || len(s) > 2*maxNameLen {
 		return ""
 	}
+	candidates = slices.DeleteFunc(slices.Clone(candidates), func(c string) bool { return c == "" })
 	best, bestD := "", 1<<30
 	for _, c := range candidates {
 		if d := editDistance(strings.ToLower(s), strings.ToLower(c)); d < bestD {
