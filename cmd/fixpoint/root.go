@@ -216,5 +216,9 @@ func (a *app) target(o settings.Output) outfile.Target {
 }
 
 // note prints a note on stderr; warn a warning.
-func (a *app) note(msg string) { io.WriteString(a.stderr, "fixpoint: note: "+modelfile.Printable(msg)+"\n") }
-func (a *app) warn(msg string) { io.WriteString(a.stderr, "fixpoint: warning: "+modelfile.Printable(msg)+"\n") }
+func (a *app) note(msg string) {
+	io.WriteString(a.stderr, "fixpoint: note: "+modelfile.Printable(msg)+"\n")
+}
+func (a *app) warn(msg string) {
+	io.WriteString(a.stderr, "fixpoint: warning: "+modelfile.Printable(msg)+"\n")
+}
