@@ -1,6 +1,7 @@
 package reports
 
 import (
+	"strings"
 	"testing"
 
 	"fixpoint/optimize"
@@ -50,5 +51,16 @@ func TestCSVCell(t *testing.T) {
 		if got := csvCell(in); got != want {
 			t.Errorf("csvCell(%q) = %q, want %q", in, got, want)
 		}
+	}
+}
+
+// Table cells never carry control characters to the terminal.
+func TestTableEscapesControls(t *testing.T) {
+	var b strings.Builder
+	if err := table(&b, []string{"a\x1b[2J"}, nil, [][]string{{"x\ny"}}); err != nil {
+		t.Fatal(err)
+	}
+	if strings.ContainsAny(b.String(), "\x1b") || !strings.Contains(b.String(), `x\ny`) {
+		t.Errorf("table output %q", b.String())
 	}
 }

@@ -6,6 +6,7 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"unicode"
 	"unicode/utf8"
 
 	"github.com/olekukonko/tablewriter"
@@ -67,13 +68,37 @@ func table(w io.Writer, header []string, numeric []bool, rows [][]string) error 
 		tablewriter.WithHeaderAlignmentConfig(tw.CellAlignment{PerColumn: align}),
 		tablewriter.WithRowAlignmentConfig(tw.CellAlignment{PerColumn: align}),
 	)
-	t.Header(header)
+	t.Header(printable(header))
 	for _, r := range rows {
-		if err := t.Append(append([]string(nil), r...)); err != nil {
+		if err := t.Append(printable(r)); err != nil {
 			return err
 		}
 	}
 	return t.Render()
+}
+
+// printable returns a copy of cells with control characters (terminal
+// escape sequences, newlines) escaped as Go's %q would: names that came
+// from data files never reach a terminal raw.
+func printable(cells []string) []string {
+	out := make([]string, len(cells))
+	for i, c := range cells {
+		if strings.IndexFunc(c, unicode.IsControl) < 0 {
+			out[i] = c
+			continue
+		}
+		var b strings.Builder
+		for _, r := range c {
+			if unicode.IsControl(r) {
+				q := strconv.QuoteRune(r)
+				b.WriteString(q[1 : len(q)-1])
+				continue
+			}
+			b.WriteRune(r)
+		}
+		out[i] = b.String()
+	}
+	return out
 }
 
 // stateLabel is the name of state s, marked when the state is unsafe.
