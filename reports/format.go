@@ -77,28 +77,32 @@ func table(w io.Writer, header []string, numeric []bool, rows [][]string) error 
 	return t.Render()
 }
 
-// printable returns a copy of cells with control characters (terminal
-// escape sequences, newlines) escaped as Go's %q would: names that came
-// from data files never reach a terminal raw.
+// printable returns a copy of cells made Printable.
 func printable(cells []string) []string {
 	out := make([]string, len(cells))
 	for i, c := range cells {
-		if strings.IndexFunc(c, unicode.IsControl) < 0 {
-			out[i] = c
-			continue
-		}
-		var b strings.Builder
-		for _, r := range c {
-			if unicode.IsControl(r) {
-				q := strconv.QuoteRune(r)
-				b.WriteString(q[1 : len(q)-1])
-				continue
-			}
-			b.WriteRune(r)
-		}
-		out[i] = b.String()
+		out[i] = Printable(c)
 	}
 	return out
+}
+
+// Printable escapes control characters (terminal escape sequences,
+// newlines) as Go's %q would, so that text from data files never reaches
+// a terminal raw.
+func Printable(s string) string {
+	if strings.IndexFunc(s, unicode.IsControl) < 0 {
+		return s
+	}
+	var b strings.Builder
+	for _, r := range s {
+		if unicode.IsControl(r) {
+			q := strconv.QuoteRune(r)
+			b.WriteString(q[1 : len(q)-1])
+			continue
+		}
+		b.WriteRune(r)
+	}
+	return b.String()
 }
 
 // stateLabel is the name of state s, marked when the state is unsafe.

@@ -17,6 +17,7 @@ import (
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/outfile"
 	"fixpoint/cmd/internal/settings"
+	"fixpoint/reports"
 )
 
 // Exit codes (documented in doc.go and the README).
@@ -68,10 +69,10 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	case exitInterrupted:
 		fmt.Fprintln(stderr, "fixpoint: interrupted; no output file was written")
 	case exitUsage:
-		fmt.Fprintf(stderr, "fixpoint: %s\nRun 'fixpoint --help' for usage.\n", modelfile.Printable(err.Error()))
+		fmt.Fprintf(stderr, "fixpoint: %s\nRun 'fixpoint --help' for usage.\n", reports.Printable(err.Error()))
 	default:
 		for _, e := range flatten(err) {
-			fmt.Fprintf(stderr, "fixpoint: %s\n", modelfile.Printable(e.Error()))
+			fmt.Fprintf(stderr, "fixpoint: %s\n", reports.Printable(e.Error()))
 		}
 	}
 	return code
@@ -217,8 +218,8 @@ func (a *app) target(o settings.Output) outfile.Target {
 
 // note prints a note on stderr; warn a warning.
 func (a *app) note(msg string) {
-	io.WriteString(a.stderr, "fixpoint: note: "+modelfile.Printable(msg)+"\n")
+	io.WriteString(a.stderr, "fixpoint: note: "+reports.Printable(msg)+"\n")
 }
 func (a *app) warn(msg string) {
-	io.WriteString(a.stderr, "fixpoint: warning: "+modelfile.Printable(msg)+"\n")
+	io.WriteString(a.stderr, "fixpoint: warning: "+reports.Printable(msg)+"\n")
 }

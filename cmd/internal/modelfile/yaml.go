@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"errors"
+	"fixpoint/reports"
 	"fmt"
 	"io"
 	"math"
@@ -38,25 +39,7 @@ func (e *Fault) Error() string {
 		b.WriteString(": " + e.Path)
 	}
 	b.WriteString(": " + e.Msg)
-	return Printable(b.String())
-}
-
-// Printable escapes control characters (terminal escape sequences,
-// newlines) in text bound for a terminal, as Go's %q would.
-func Printable(s string) string {
-	if strings.IndexFunc(s, unicode.IsControl) < 0 {
-		return s
-	}
-	var b strings.Builder
-	for _, r := range s {
-		if unicode.IsControl(r) {
-			q := strconv.QuoteRune(r)
-			b.WriteString(q[1 : len(q)-1])
-			continue
-		}
-		b.WriteRune(r)
-	}
-	return b.String()
+	return reports.Printable(b.String())
 }
 
 // Limits on the walk of one document.
