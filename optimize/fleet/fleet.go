@@ -10,6 +10,7 @@ import (
 	"fixpoint/condition"
 	"fixpoint/costs"
 	"fixpoint/optimize"
+	"fixpoint/optimize/internal/simplex"
 )
 
 // Class is one class of a fleet: its model, costs and the number of
@@ -429,7 +430,7 @@ func solveMaster(cols []*column, nClasses int, budget []float64, penalty float64
 	for ci := range nClasses {
 		b[ci] = 1
 	}
-	x, obj, y, err := denseLP(c, a, b)
+	x, obj, y, err := simplex.Dense(context.TODO(), c, a, b)
 	if err != nil {
 		return nil, 0, nil, 0, fmt.Errorf("fleet: plan master: %w", err)
 	}
