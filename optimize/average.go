@@ -180,7 +180,7 @@ func averagePolicyIteration(ctx context.Context, p *Problem, s *Settings, ref in
 		if path != nil {
 			*path = append(*path, averageStep{Policy: slices.Clone(policy), Gain: g, Bias: h})
 		}
-		tie := tieTol(s, append(slices.Clone(h), g))
+		tie := tieTol(p, s, append(slices.Clone(h), g), 1)
 		changed := 0
 		worst := 0.0
 		for st, cs := range p.Choices {
@@ -271,7 +271,7 @@ func certifyAverage(p *Problem, policy []int, ref int, s *Settings) (*AverageRes
 				q[st][k] = c.Cost + Expect(c.Next, h)
 			}
 		}
-		tie = tieTol(s, append(slices.Clone(h), g))
+		tie = tieTol(p, s, append(slices.Clone(h), g), 1)
 		if round == 3 || !preferFirst(p, q, tie, policy) {
 			break
 		}

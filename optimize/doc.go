@@ -17,15 +17,23 @@
 //
 // Methods. Value iteration with MacQueen's bounds, Howard's policy
 // iteration with exact evaluation (gonum LU), and the linear program
-// solved by gonum's simplex. Whatever the method, Solve evaluates the
+// solved by a dense simplex method that cannot cycle (Bland's rule after degenerate runs). Whatever the method, Solve evaluates the
 // returned policy exactly and proves bounds by the contraction property:
 // for any v, with d = T v - v, Tv + γ/(1-γ)·min d <= v* <= Tv + γ/(1-γ)·max d.
 // The reported gap max_s (v_π(s) - lower(s)) bounds what the advice can
 // lose against the optimum in any state.
 //
-// Ties. Actions whose Q-values are within the tie tolerance of the best are
-// tied; the advice is the lowest action index among them (the first action
-// in the model), the same rule for every method, and the tie is reported.
+// Ties. Actions whose Q-values are within the tie tolerance τ of the best
+// are tied; the advice is the lowest action index among them (the first
+// action in the model), the same rule for every method, and the tie is
+// reported. The default τ is capped at (1-γ)·Tol/2, so the tie rule costs at
+// most τ/(1-γ) <= Tol/2 and never makes the advice worse than its
+// runner-up by more than the stated gap.
+//
+// Certificates. A result that misses its tolerance says why
+// (Result.Shortfall): the iteration cap, the rounding floor of float64 at
+// the values' scale and the discount factor, an explicit tie tolerance, or
+// the simplex method's own tolerance.
 //
 // Units. Tolerances are absolute, in the currency of the costs. States and
 // actions are indices inside; names live in Problem.States and

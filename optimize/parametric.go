@@ -101,7 +101,7 @@ func DiscountPath(ctx context.Context, p *Problem, lo, hi float64, settings *Set
 func strictOptimum(ctx context.Context, p *Problem, g float64, start []int, s *Settings) ([]int, error) {
 	q := *p
 	q.Discount = g
-	policy, _, err := policyIterationFrom(ctx, &q, s, start)
+	policy, _, _, err := policyIterationFrom(ctx, &q, s, start)
 	return policy, err
 }
 
@@ -113,7 +113,7 @@ func tieRule(ctx context.Context, p *Problem, segs []Segment, s *Settings) ([]Se
 	for _, sg := range segs {
 		q := *p
 		q.Discount = (sg.Lo + sg.Hi) / 2
-		r, err := certify(&q, sg.Policy, nil, nil, s)
+		r, err := certify(ctx, &q, sg.Policy, nil, nil, s, false)
 		if err != nil {
 			return nil, nil, err
 		}
