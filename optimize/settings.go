@@ -74,7 +74,7 @@ type Settings struct {
 	// TieTol is the absolute tie tolerance in currency units: actions whose
 	// Q-values are within TieTol of the best are tied, and the tie is
 	// resolved in favour of the lowest action index. Zero means
-	// DefaultTieTol·max(1, max|v|), capped at (1-γ)·Tol/2 (Tol/2 for the
+	// DefaultTieTol·max(1, max|v|), capped at (1-γ)·Tol/2 (Tol/4 for the
 	// average criterion) so that the tie rule never costs more than half
 	// the tolerance, and floored at the rounding of one Q-value. An
 	// explicit TieTol is used as given; if its loss breaks the
