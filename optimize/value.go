@@ -15,7 +15,8 @@ import (
 // γ/(1-γ)·(max d - min d) against the optimum. It stops when that span
 // bound is at most Tol/2 (the other half is room for the rounding of the
 // final exact evaluation) or after MaxIterations sweeps. One sweep costs
-// O(nnz), the number of non-zero transition entries over all choices.
+// O(nnz), the number of non-zero transition entries over all choices; ctx
+// is checked before each.
 //
 // It returns the greedy policy of the last iterate and the bounds; capped
 // says that it stopped at MaxIterations with the span bound above Tol/2.
@@ -27,10 +28,8 @@ func valueIteration(ctx context.Context, p *Problem, s *Settings) (policy []int,
 	policy = make([]int, n)
 	lower, upper = make([]float64, n), make([]float64, n)
 	for sweeps = 1; ; sweeps++ {
-		if sweeps%64 == 1 {
-			if err := ctx.Err(); err != nil {
-				return nil, nil, nil, sweeps, false, err
-			}
+		if err := ctx.Err(); err != nil {
+			return nil, nil, nil, sweeps, false, err
 		}
 		greedy(p, v, policy, tv)
 		lo, hi := math.Inf(1), math.Inf(-1)

@@ -98,7 +98,7 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 		return err
 	}
 	figs, groups := costFigures(c, p)
-	ranges, err := optimize.CostRanges(p, r, groups)
+	ranges, err := optimize.CostRanges(cmd.Context(), p, r, groups)
 	if err != nil {
 		return err
 	}
