@@ -243,9 +243,7 @@ func (tb *tableau) phase1(ctx context.Context, limit int) (Status, error) {
 	m, n := tb.m, tb.n
 	w := len(tb.t[0])
 	obj := tb.t[m]
-	for j := range obj {
-		obj[j] = 0
-	}
+	clear(obj)
 	for i := range m {
 		if tb.basis[i] < n {
 			continue
@@ -282,9 +280,7 @@ func (tb *tableau) phase2(ctx context.Context, limit int) (Status, error) {
 	m, n := tb.m, tb.n
 	w := len(tb.t[0])
 	obj := tb.t[m]
-	for j := range obj {
-		obj[j] = 0
-	}
+	clear(obj)
 	copy(obj, tb.c)
 	for i, bi := range tb.basis {
 		if bi < n && tb.c[bi] != 0 {
