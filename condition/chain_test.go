@@ -222,3 +222,117 @@ func TestStationarySeveralClasses(t *testing.T) {
 		t.Errorf("π = %v, %v; want (0, 0.5, 0.5)", pi, err)
 	}
 }
+
+// A 1e-17 probability of failing per period (/work/shared/repro's fp case)
+// is a path on the graph and an expected life of 1e17 periods, not a
+// singular system: 1 - (1 - 1e-17) is 0 in float64, the sum of the exit
+// probabilities is not.
+func TestFirstPassageTinyProbability(t *testing.T) {
+	c := Chain{Rows: [][]Entry{
+		{{To: 0, P: 1}, {To: 1, P: 1e-17}},
+		{{To: 0, P: 1}},
+	}}
+	p, err := c.FirstPassage([]bool{false, true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Closed form: a geometric stay with exit probability
+	// 1e-17/(1 + 1e-17) once the row is divided by its sum.
+	want := (1 + 1e-17) / 1e-17
+	if math.Abs(p.Periods[0]-want) > 1e-12*want {
+		t.Errorf("FirstPassage(fp): periods[0] = %g, want %g (rel tol 1e-12)", p.Periods[0], want)
+	}
+	if math.Abs(p.Probability[0]-1) > 1e-15 {
+		t.Errorf("FirstPassage(fp): probability[0] = %g, want 1", p.Probability[0])
+	}
+	pi, err := c.Stationary()
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Closed form for two states: π1/π0 = P(0→1)/P(1→0) = 1e-17/(1+1e-17).
+	if r := pi[1] / pi[0]; math.Abs(r-1e-17) > 1e-12*1e-17 {
+		t.Errorf("Stationary(fp): π1/π0 = %g, want 1e-17 (rel tol 1e-12)", r)
+	}
+}
+
+// A 500-state scale that wears one state at a time, with staying
+// probabilities from 0.5 to 1 - 1e-15: expected first-passage times to the
+// last state against the closed form Σ_{k>=s} 1/(1 - p_k) of a pure-birth
+// chain, and the stationary distribution of a birth-death chain against
+// detailed balance π_{k+1}/π_k = up_k/down_{k+1} (both e.g. Kemeny & Snell
+// 1960, Ch. 5, closed forms).
+func TestChainAnalyticsLongScale(t *testing.T) {
+	const n = 500
+	rng := rand.New(rand.NewPCG(81, 82))
+	stay := make([]float64, n)
+	birth := Chain{Rows: make([][]Entry, n)}
+	for k := range n - 1 {
+		stay[k] = 1 - math.Pow(10, -0.3-14.7*rng.Float64())
+		birth.Rows[k] = []Entry{{To: k, P: stay[k]}, {To: k + 1, P: 1 - stay[k]}}
+	}
+	birth.Rows[n-1] = []Entry{{To: 0, P: 1}}
+	target := make([]bool, n)
+	target[n-1] = true
+	p, err := birth.FirstPassage(target)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := 0.0
+	for s := n - 2; s >= 0; s-- {
+		row := birth.Rows[s]
+		want += (row[0].P + row[1].P) / row[1].P
+		if math.Abs(p.Periods[s]-want) > 1e-12*want {
+			t.Errorf("FirstPassage(500): periods[%d] = %.15g, want %.15g (rel tol 1e-12)", s, p.Periods[s], want)
+		}
+	}
+
+	bd := Chain{Rows: make([][]Entry, n)}
+	up, down := make([]float64, n), make([]float64, n)
+	for k := range n {
+		if k < n-1 {
+			up[k] = math.Pow(10, -1-6*rng.Float64())
+		}
+		if k > 0 {
+			down[k] = math.Pow(10, -1-6*rng.Float64())
+		}
+		row := []Entry{{To: k, P: 1 - up[k] - down[k]}}
+		if k > 0 {
+			row = append(row, Entry{To: k - 1, P: down[k]})
+		}
+		if k < n-1 {
+			row = append(row, Entry{To: k + 1, P: up[k]})
+		}
+		bd.Rows[k] = row
+	}
+	pi, err := bd.Stationary()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k := range n - 1 {
+		if pi[k] == 0 || pi[k+1] == 0 {
+			continue // underflow of the tail, below 1e-308
+		}
+		r, w := pi[k+1]/pi[k], up[k]/down[k+1]
+		if math.Abs(r-w) > 1e-9*w {
+			t.Errorf("Stationary(500): π%d/π%d = %g, want %g (rel tol 1e-9)", k+1, k, r, w)
+		}
+	}
+}
+
+// A time beyond float64's range is NaN with a *NumericError, not +Inf
+// (which means "never") and not a lost answer for the other states.
+func TestFirstPassageOverflow(t *testing.T) {
+	c := Chain{Rows: [][]Entry{
+		{{To: 0, P: 1}, {To: 2, P: 1e-320}},
+		{{To: 2, P: 0.5}, {To: 1, P: 0.5}},
+		{{To: 0, P: 1}},
+	}}
+	p, err := c.FirstPassage([]bool{false, false, true})
+	var ne *NumericError
+	if !errors.As(err, &ne) || ne.State != 0 {
+		t.Fatalf("FirstPassage(overflow): err = %v, want a *NumericError for state 0", err)
+	}
+	if !math.IsNaN(p.Periods[0]) || math.Abs(p.Periods[1]-2) > 1e-12 {
+		t.Errorf("FirstPassage(overflow): periods %v, want [NaN 2 0]", p.Periods)
+	}
+}

@@ -10,7 +10,16 @@
 // is indexed by its from-state and lists the probabilities of the states at
 // the start of the next period. An action is admissible in a state exactly
 // when it has a row for it; the passive action is never admissible in an
-// unsafe state. Rows must sum to 1 within RowTolerance.
+// unsafe state. Rows must sum to 1 within RowTolerance; Renormalize
+// rescales rows that miss by no more than rounding their entries could,
+// symmetrically for sums above and below 1.
+//
+// Chain analytics. Which states reach which is decided on the graph of
+// positive entries; first-passage times, hitting probabilities and
+// stationary distributions are computed by subtraction-free state
+// reduction (Grassmann, Taksar & Heyman 1985), accurate to full relative
+// precision even for probabilities of 1e-17. A figure float64 cannot hold
+// is reported as a *NumericError with its state.
 //
 // Estimation. ReadRecords reads inspection records from CSV, BuildPanel
 // turns them into transitions between consecutive inspections of a unit,

@@ -11,6 +11,11 @@ import (
 // a row is accepted when |sum - 1| <= RowTolerance.
 const RowTolerance = 1e-9
 
+// MaxPeriodYears is the longest model period accepted, in years (the
+// same limit as costs.MaxPeriodYears; the leaf packages do not import each
+// other).
+const MaxPeriodYears = 100
+
 // Entry is one non-zero probability of a transition row: the chance P that
 // the unit is in state To at the start of the next period.
 type Entry struct {
@@ -136,7 +141,7 @@ func (f *Fault) Error() string {
 
 // Validate reports every fault of the model, joined by errors.Join; each is
 // a *Fault. A valid model has at least one state, unique non-empty names, a
-// positive finite period, exactly one passive action, rows that are
+// period in (0, MaxPeriodYears] years, exactly one passive action, rows that are
 // probability distributions over the scale (finite, non-negative, each
 // target once, summing to 1 within RowTolerance), no passive row in an
 // unsafe state, no row of an action that is not out of service that keeps
@@ -150,9 +155,9 @@ func (m *Model) Validate() error {
 	if n == 0 {
 		add(Fault{Field: "states", State: -1, Action: -1, Target: -1, Problem: "the condition scale is empty"})
 	}
-	if !(m.PeriodYears > 0) || math.IsInf(m.PeriodYears, 0) {
+	if !(m.PeriodYears > 0 && m.PeriodYears <= MaxPeriodYears) {
 		add(Fault{Field: "period_years", State: -1, Action: -1, Target: -1,
-			Problem: fmt.Sprintf("period is %g years, want a finite number > 0", m.PeriodYears)})
+			Problem: fmt.Sprintf("period is %g years, want a number of years in (0, %d]", m.PeriodYears, MaxPeriodYears)})
 	}
 	seen := make(map[string]int)
 	for i, s := range m.States {
@@ -313,9 +318,16 @@ type Rescaled struct {
 
 // Renormalize divides by its sum every row whose sum misses 1 by more
 // than RowTolerance but by at most perEntry times its number of entries
-// (0.0005 is what rounding each entry to 3 decimals can do), provided its
-// entries are finite and non-negative. Rows further off are left for
-// Validate to report. It returns the rows it changed.
+// plus RowTolerance (0.0005 is what rounding each entry to 3 decimals can
+// do), provided its entries are finite and non-negative. Rows further off
+// are left for Validate to report. It returns the rows it changed.
+//
+// The rule is symmetric: a sum of 1 + δ and one of 1 - δ are treated
+// alike. The allowance of RowTolerance on top of perEntry·k absorbs the
+// binary representation of decimal entries (0.5 + 0.499 is
+// 0.99899999999999999911 in float64, 1 - 0.001 - 9e-19, and 0.5 + 0.501 is
+// 1.00099999999999988987), which would otherwise rescale one and reject the
+// other.
 func (m *Model) Renormalize(perEntry float64) []Rescaled {
 	var out []Rescaled
 	for a := range m.Actions {
@@ -329,7 +341,7 @@ func (m *Model) Renormalize(perEntry float64) []Rescaled {
 				sum += e.P
 			}
 			dev := math.Abs(sum - 1)
-			if !ok || dev <= RowTolerance || dev > perEntry*float64(len(row)) {
+			if !ok || dev <= RowTolerance || !withinRounding(dev, perEntry, len(row)) {
 				continue
 			}
 			for i := range row {
@@ -342,7 +354,15 @@ func (m *Model) Renormalize(perEntry float64) []Rescaled {
 }
 
 // RoundedLooking reports whether a row sum misses 1 by no more than
-// rounding each of k entries to 3 decimals could.
+// rounding each of k entries to 3 decimals could, by the symmetric rule of
+// Renormalize with perEntry 0.0005.
 func RoundedLooking(sum float64, k int) bool {
-	return math.Abs(sum-1) <= 0.0005*float64(k)
+	return withinRounding(math.Abs(sum-1), 0.0005, k)
+}
+
+// withinRounding reports whether a deviation dev of a row sum from 1 is
+// at most perEntry·k, with RowTolerance of slack for the representation
+// of decimal entries.
+func withinRounding(dev, perEntry float64, k int) bool {
+	return dev <= perEntry*float64(k)+RowTolerance
 }

@@ -32,7 +32,9 @@ func TestValidateFaults(t *testing.T) {
 		{"empty scale", func(m *Model) { m.States = nil; m.Actions = nil },
 			Fault{Field: "states", State: -1, Action: -1, Target: -1, Problem: "scale is empty"}},
 		{"period", func(m *Model) { m.PeriodYears = 0 },
-			Fault{Field: "period_years", State: -1, Action: -1, Target: -1, Problem: "want a finite number > 0"}},
+			Fault{Field: "period_years", State: -1, Action: -1, Target: -1, Problem: "want a number of years in (0, 100]"}},
+		{"period 1e300", func(m *Model) { m.PeriodYears = 1e300 },
+			Fault{Field: "period_years", State: -1, Action: -1, Target: -1, Problem: "period is 1e+300 years"}},
 		{"duplicate state", func(m *Model) { m.States[1].Name = "good" },
 			Fault{Field: "name", State: 1, Action: -1, Target: -1, Problem: `duplicate state name "good"`}},
 		{"duplicate action", func(m *Model) { m.Actions[1].Name = "leave" },
@@ -101,5 +103,39 @@ func TestFormatSum(t *testing.T) {
 		if got := FormatSum(tc.sum); got != tc.want {
 			t.Errorf("FormatSum(%v) = %q, want %q", tc.sum, got, tc.want)
 		}
+	}
+}
+
+// Renormalize treats a sum of 1 + δ and 1 - δ alike: 0.5 + 0.501 and
+// 0.5 + 0.499 are both rescaled (each entry rounded to 3 decimals can miss
+// by 0.0005), 0.5 + 0.502 and 0.5 + 0.498 both left for Validate.
+func TestRenormalizeSymmetric(t *testing.T) {
+	tests := []struct {
+		name    string
+		second  float64
+		rescale bool
+	}{
+		{"1.001", 0.501, true},
+		{"0.999", 0.499, true},
+		{"1.002", 0.502, false},
+		{"0.998", 0.498, false},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			m := validModel()
+			m.Actions[0].Rows[0] = []Entry{{0, 0.5}, {1, tc.second}}
+			got := m.Renormalize(0.0005)
+			if (len(got) == 1) != tc.rescale {
+				t.Fatalf("Renormalize(%s): rescaled %v, want rescaled: %v", tc.name, got, tc.rescale)
+			}
+			if RoundedLooking(0.5+tc.second, 2) != tc.rescale {
+				t.Errorf("RoundedLooking(%s) = %v, want %v", tc.name, !tc.rescale, tc.rescale)
+			}
+			if tc.rescale {
+				if err := m.Validate(); err != nil {
+					t.Errorf("Renormalize(%s): the rescaled model is invalid: %v", tc.name, err)
+				}
+			}
+		})
 	}
 }

@@ -19,9 +19,19 @@ type Schedule struct {
 	Action [][]float64
 }
 
+// MaxCost is the largest magnitude of one cost figure, in currency units.
+// With |c| <= 1e12 and 1-γ >= MinDiscountGap, values stay below 1e21 and
+// every sum the solvers form stays far inside float64's range; a figure
+// above it is taken for a slip (a misplaced exponent, a cost in the wrong
+// unit). Common practice, no source: no single maintenance figure of one
+// unit comes near a trillion in any currency.
+const MaxCost = 1e12
+
 // Fault is one problem found in a schedule. State and Action are indices,
-// or -1 when not applicable.
+// or -1 when not applicable; Field says which figure: "running" (a running
+// cost), "action" (an action cost) or "size" (a list of the wrong length).
 type Fault struct {
+	Field   string
 	State   int
 	Action  int
 	Problem string
@@ -39,36 +49,47 @@ func (f *Fault) Error() string {
 	return "costs: " + f.Problem
 }
 
-// Validate reports every non-finite cost and every size mismatch against a
-// scale of states states and actions actions, joined by errors.Join; each
-// is a *Fault.
+// Validate reports every cost that is not a finite number within
+// ±MaxCost and every size mismatch against a scale of states states and
+// actions actions, joined by errors.Join; each is a *Fault.
 func (c *Schedule) Validate(states, actions int) error {
 	var errs []error
 	if len(c.Running) != states {
-		errs = append(errs, &Fault{State: -1, Action: -1,
+		errs = append(errs, &Fault{Field: "size", State: -1, Action: -1,
 			Problem: fmt.Sprintf("%d running costs, want one per state (%d)", len(c.Running), states)})
 	}
 	for s, v := range c.Running {
-		if !finite(v) {
-			errs = append(errs, &Fault{State: s, Action: -1, Problem: fmt.Sprintf("running cost is %v, want a finite number", v)})
+		if msg := checkCost(v); msg != "" {
+			errs = append(errs, &Fault{Field: "running", State: s, Action: -1, Problem: "running cost " + msg})
 		}
 	}
 	if len(c.Action) != actions {
-		errs = append(errs, &Fault{State: -1, Action: -1,
+		errs = append(errs, &Fault{Field: "size", State: -1, Action: -1,
 			Problem: fmt.Sprintf("%d action cost lists, want one per action (%d)", len(c.Action), actions)})
 	}
 	for a, row := range c.Action {
 		if len(row) != states {
-			errs = append(errs, &Fault{State: -1, Action: a,
+			errs = append(errs, &Fault{Field: "size", State: -1, Action: a,
 				Problem: fmt.Sprintf("%d costs, want one per state (%d)", len(row), states)})
 		}
 		for s, v := range row {
-			if !finite(v) {
-				errs = append(errs, &Fault{State: s, Action: a, Problem: fmt.Sprintf("cost is %v, want a finite number", v)})
+			if msg := checkCost(v); msg != "" {
+				errs = append(errs, &Fault{Field: "action", State: s, Action: a, Problem: "cost " + msg})
 			}
 		}
 	}
 	return errors.Join(errs...)
+}
+
+// checkCost says what is wrong with one cost figure, or "".
+func checkCost(v float64) string {
+	switch {
+	case !finite(v):
+		return fmt.Sprintf("is %v, want a finite number", v)
+	case math.Abs(v) > MaxCost:
+		return fmt.Sprintf("%g is beyond ±%g", v, MaxCost)
+	}
+	return ""
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }

@@ -19,8 +19,8 @@
 // Fisher relation (1+nominal) = (1+real)(1+inflation).
 //
 // Errors. Validation reports every fault at once (errors.Join of *Fault
-// values that carry the state and action index); messages are prefixed
-// "costs:".
+// values that carry the field, state and action index); a cost must be a
+// finite number within ±MaxCost. Messages are prefixed "costs:".
 //
 // References. Interest factors: any engineering-economy text, e.g.
 // L. Blank and A. Tarquin, Engineering Economy, compound interest tables.

@@ -6,6 +6,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"fixpoint/condition"
 )
 
 // taxicab is the taxicab problem of R. A. Howard, Dynamic Programming and
@@ -36,7 +38,7 @@ func TestAveragePolicyIterationHowardTaxicab(t *testing.T) {
 	}
 	var path []averageStep
 	s := (*Settings)(nil).withDefaults(3)
-	if _, _, err := averagePolicyIteration(context.Background(), taxicab(), &s, 2, &path); err != nil {
+	if _, _, _, err := averagePolicyIteration(context.Background(), taxicab(), &s, 2, &path); err != nil {
 		t.Fatal(err)
 	}
 	if len(path) != len(want) {
@@ -148,8 +150,10 @@ func TestBlackwellLimit(t *testing.T) {
 	}
 }
 
-// Two absorbing states that no action connects: the average cost depends
-// on the start, and SolveAverage says so.
+// Two absorbing states that no action connects: the optimal gain is 1
+// from x, 5 from z and 3 from y (either action: 0.5·1 + 0.5·5, or staying
+// in y at 3; closed form), and SolveAverage says that it depends on the
+// start.
 func TestSolveAverageMultichain(t *testing.T) {
 	p := handProblem([]string{"x", "y", "z"}, []string{"a", "b"}, 0, [][]arm{
 		{{0, 1, []float64{1, 0, 0}}},
@@ -161,10 +165,98 @@ func TestSolveAverageMultichain(t *testing.T) {
 	if !errors.As(err, &me) || len(me.Classes) < 2 {
 		t.Fatalf("err = %v, want a MultichainError", err)
 	}
+	checkClose(t, "SolveAverage(multichain): gains", me.Gains, []float64{1, 3, 5}, 1e-12)
+}
+
+// /work/shared/repro's multi case: three conditions that each hold a unit
+// for ever at no cost, and a move between them for 10. The optimal gain is
+// 0 from every start (closed form), so the criterion is well defined
+// although the best policy has three closed classes.
+func TestSolveAverageMultichainSameGain(t *testing.T) {
+	p := handProblem([]string{"a", "b", "c"}, []string{"stay", "move"}, 0, [][]arm{
+		{{0, 0, []float64{1, 0, 0}}, {1, 10, []float64{0, 1, 0}}},
+		{{0, 0, []float64{0, 1, 0}}, {1, 10, []float64{1, 0, 0}}},
+		{{0, 0, []float64{0, 0, 1}}, {1, 10, []float64{0.5, 0.5, 0}}},
+	})
+	r, err := SolveAverage(context.Background(), p, &Settings{Tol: 1e-9})
+	if err != nil {
+		t.Fatalf("SolveAverage(multi): %v", err)
+	}
+	if r.Status != Certified || math.Abs(r.Gain) > 1e-12 || r.GainLower > 0 || r.GainUpper < 0 {
+		t.Errorf("SolveAverage(multi): %v, gain %g in [%g, %g], want certified 0", r.Status, r.Gain, r.GainLower, r.GainUpper)
+	}
+	for s, a := range r.Policy {
+		if a != 0 {
+			t.Errorf("SolveAverage(multi): policy %v, want stay everywhere", r.Policy)
+			break
+		}
+		if math.Abs(r.Bias[s]) > 1e-12 || math.Abs(r.Margin[s]-10) > 1e-12 {
+			t.Errorf("SolveAverage(multi): bias[%d] = %g, margin %g, want 0 and 10", s, r.Bias[s], r.Margin[s])
+		}
+	}
+	if len(r.Classes) != 3 {
+		t.Errorf("SolveAverage(multi): classes %v, want three", r.Classes)
+	}
+}
+
+// Random models with several free absorbing conditions and non-negative
+// costs elsewhere: the optimal gain is 0 from every start, the best
+// policies are multichain, and the bias is the least expected total cost
+// until absorption. Checked against the discounted solution near γ = 1 by
+// the Laurent expansion v_γ = g/(1-γ) + (1+ρ)h + O(ρ), ρ = 1/γ - 1
+// (Puterman 1994, Thm 8.2.3): v_γ(s) - v_γ(0) -> h(s) - h(0).
+func TestSolveAverageMultichainBiasMatchesLaurent(t *testing.T) {
+	rng := rand.New(rand.NewPCG(23, 24))
+	const gamma = 1 - 1e-7
+	for trial := range 20 {
+		n := 6 + rng.IntN(10)
+		p := randomProblem(rng, n, 2+rng.IntN(3), 1+rng.IntN(n), gamma, 100)
+		free := 2 + rng.IntN(2) // the last states hold a unit at no cost
+		for s := range p.Choices {
+			for k := range p.Choices[s] {
+				p.Choices[s][k].Cost = math.Abs(p.Choices[s][k].Cost)
+			}
+			if s >= n-free {
+				p.Choices[s] = []Choice{{Action: 0, Cost: 0, Next: []condition.Entry{{To: s, P: 1}}}}
+			}
+		}
+		// Every other state may jump to a free state at a price.
+		for s := range n - free {
+			cs := p.Choices[s]
+			if cs[len(cs)-1].Action == len(p.Actions)-1 {
+				cs = cs[:len(cs)-1]
+			}
+			p.Choices[s] = append(cs, Choice{Action: len(p.Actions) - 1, Cost: 50 + 100*rng.Float64(),
+				Next: []condition.Entry{{To: n - 1 - rng.IntN(free), P: 1}}})
+		}
+		r, err := SolveAverage(context.Background(), p, &Settings{Tol: 1e-9})
+		if err != nil {
+			t.Fatalf("trial %d: %v", trial, err)
+		}
+		if len(r.Classes) < 2 {
+			t.Errorf("trial %d: classes %v, want several", trial, r.Classes)
+		}
+		if r.Status != Certified || math.Abs(r.Gain) > 1e-9 {
+			t.Errorf("trial %d: %v with gain %g in [%g, %g], want certified 0", trial, r.Status, r.Gain, r.GainLower, r.GainUpper)
+		}
+		d, err := Solve(context.Background(), p, &Settings{Method: PolicyIteration, Tol: 1e-3})
+		if err != nil {
+			t.Fatal(err)
+		}
+		rho := 1/gamma - 1
+		for s := range n {
+			// Values below 1e5: the O(ρ) term and the rounding of v_γ stay
+			// below 1e-3.
+			want := (d.Value[s] - d.Value[0]) / (1 + rho)
+			if math.Abs(r.Bias[s]-want) > 1e-3 {
+				t.Errorf("trial %d: bias[%d] = %.9g, discounted near 1 says %.9g (tol 1e-3)", trial, s, r.Bias[s], want)
+			}
+		}
+	}
 }
 
 // A model where the least-immediate-cost policy is multichain but the
-// optimum is unichain: relative value iteration takes over.
+// optimum is unichain: multichain policy iteration leaves it.
 func TestSolveAverageLeavesMultichainStart(t *testing.T) {
 	p := handProblem([]string{"x", "y"}, []string{"stay", "move"}, 0, [][]arm{
 		{{0, 1, []float64{1, 0}}, {1, 2, []float64{0, 1}}},

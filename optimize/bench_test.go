@@ -29,15 +29,18 @@ func BenchmarkSolve(b *testing.B) {
 		for _, m := range methods {
 			b.Run(f.name+"/"+m.String(), func(b *testing.B) {
 				b.ReportAllocs()
-				var iters int
+				var iters, pivots int
 				for b.Loop() {
 					r, err := Solve(context.Background(), p, &Settings{Method: m, Tol: 1e-6})
 					if err != nil {
 						b.Fatal(err)
 					}
-					iters = r.Iterations
+					iters, pivots = r.Iterations, r.Pivots
 				}
 				b.ReportMetric(float64(iters), "iterations/op")
+				if m == LinearProgram {
+					b.ReportMetric(float64(pivots), "pivots/op")
+				}
 			})
 		}
 	}

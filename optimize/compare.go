@@ -55,6 +55,8 @@ type Comparison struct {
 // average criterion) for periods of length period, locates every switch
 // point between the smallest and the largest rate, solves the average
 // criterion, and samples the equivalent annual cost at curvePoints rates.
+// Every phase checks ctx (see DiscountPath for the longest); cancellation
+// returns ctx.Err().
 func CompareRates(ctx context.Context, p *Problem, period costs.Period, rates []float64, curvePoints int, settings *Settings) (*Comparison, error) {
 	if len(rates) == 0 {
 		return nil, errors.New("optimize: no rates to compare")
@@ -125,7 +127,7 @@ func CompareRates(ctx context.Context, p *Problem, period costs.Period, rates []
 			}
 			c.Switches = append(c.Switches, RateSwitch{Rate: rate, Switch: sw[i]})
 		}
-		if c.Curve, err = curve(p, periodYears, segs, lo, hi, curvePoints, c.Average); err != nil {
+		if c.Curve, err = curve(ctx, p, periodYears, segs, lo, hi, curvePoints, c.Average); err != nil {
 			return nil, err
 		}
 	}
@@ -133,10 +135,14 @@ func CompareRates(ctx context.Context, p *Problem, period costs.Period, rates []
 }
 
 // curve samples the equivalent annual cost of state 0 at points rates
-// evenly spread over [lo, hi], evaluating each segment's policy exactly.
-func curve(p *Problem, periodYears float64, segs []Segment, lo, hi float64, points int, avg *AverageResult) ([]CurvePoint, error) {
+// evenly spread over [lo, hi], evaluating each segment's policy exactly
+// (one LU per point, ctx checked before each).
+func curve(ctx context.Context, p *Problem, periodYears float64, segs []Segment, lo, hi float64, points int, avg *AverageResult) ([]CurvePoint, error) {
 	var out []CurvePoint
 	for k := range max(points, 2) {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		rate := lo + (hi-lo)*float64(k)/float64(max(points, 2)-1)
 		if rate == 0 {
 			if avg != nil {

@@ -17,23 +17,43 @@
 //
 // Methods. Value iteration with MacQueen's bounds, Howard's policy
 // iteration with exact evaluation (gonum LU), and the linear program
-// solved by gonum's simplex. Whatever the method, Solve evaluates the
-// returned policy exactly and proves bounds by the contraction property:
+// solved by a dense simplex method that cannot cycle (Bland's rule after a
+// run of degenerate pivots; optimize/internal/simplex). Whatever the
+// method, Solve evaluates the returned policy exactly and proves bounds by
+// the contraction property:
 // for any v, with d = T v - v, Tv + γ/(1-γ)·min d <= v* <= Tv + γ/(1-γ)·max d.
 // The reported gap max_s (v_π(s) - lower(s)) bounds what the advice can
 // lose against the optimum in any state.
 //
-// Ties. Actions whose Q-values are within the tie tolerance of the best are
-// tied; the advice is the lowest action index among them (the first action
-// in the model), the same rule for every method, and the tie is reported.
+// Ties. Actions whose Q-values are within the tie tolerance τ of the best
+// are tied; the advice is the lowest action index among them (the first
+// action in the model), the same rule for every method, and the tie is
+// reported. The default τ is capped at (1-γ)·Tol/2, so the tie rule costs
+// at most τ/(1-γ) <= Tol/2 and never makes the advice worse than its
+// runner-up by more than the stated gap.
+//
+// Average criterion. SolveAverage runs multichain policy iteration and
+// reports the gain and the bias (P*h = 0, shifted to 0 in state 0) with
+// Odoni's bounds; it refuses a model only when the optimal gain differs
+// between starting states (*MultichainError).
+//
+// Certificates. A result that misses its tolerance says why
+// (Result.Shortfall): the iteration cap, the rounding floor of float64 at
+// the values' scale and the discount factor, an explicit tie tolerance, or
+// the simplex method's own tolerance.
 //
 // Units. Tolerances are absolute, in the currency of the costs. States and
 // actions are indices inside; names live in Problem.States and
 // Problem.Actions.
 //
-// Errors. Invalid problems (Validate reports every fault), non-finite
-// numbers and cancellation are errors; reaching an iteration cap is a
-// Status. Messages are prefixed "optimize:".
+// Errors. Invalid problems (Validate reports every fault as a
+// *ProblemError with its field and location: costs beyond ±MaxChoiceCost,
+// factors within costs.MinDiscountGap of 1), non-finite numbers and
+// cancellation are errors; reaching an iteration cap is a Status. Every
+// long loop checks ctx at least once per LU factorisation, sweep or pivot.
+// Auxiliary figures (life figures) that cannot be computed are dropped
+// with their reason, never failing the advice. Messages are prefixed
+// "optimize:".
 //
 // Subpackages. optimize/fleet plans a fleet of classes under yearly
 // budgets (column generation with Lagrangian bounds); optimize/system
@@ -44,6 +64,7 @@
 // Press, 1960. J. MacQueen, A modified dynamic programming method for
 // Markovian decision problems, J. Math. Anal. Appl. 14, 1966. E. L.
 // Porteus, Some bounds for discounted sequential decision processes,
-// Management Science 18, 1971. M. L. Puterman, Markov Decision Processes,
-// Wiley, 1994, chapter 6.
+// Management Science 18, 1971. A. R. Odoni, On finding the maximal gain
+// for Markov decision processes, Oper. Res. 17, 1969. M. L. Puterman,
+// Markov Decision Processes, Wiley, 1994, chapters 6, 8 and 9.
 package optimize

@@ -19,14 +19,18 @@ type Life struct {
 	// nil when the model has no passive action; its Periods are NaN in the
 	// states where the passive action is not admissible.
 	Passive, Policy *condition.Passage
+	// PassiveErr and PolicyErr say why some figures of Passive or Policy
+	// could not be computed (they are NaN there), or are nil. A failure of
+	// these auxiliary figures never fails LifeFigures: the advice stands.
+	PassiveErr, PolicyErr error
 	// PassiveSurvival[s][k] and PolicySurvival[s][k] are the probabilities
 	// that a unit started in s has not reached the target after k periods
 	// (k = 0..Horizon).
 	PassiveSurvival, PolicySurvival [][]float64
 	Horizon                         int
 	// Stationary is the long-run distribution of condition under the
-	// advice; nil when it is not unique, with the reason in
-	// StationaryErr.
+	// advice; nil when it is not unique or cannot be computed, with the
+	// reason in StationaryErr (the long-run figures below are then NaN).
 	Stationary    []float64
 	StationaryErr error
 	// CostPerPeriod is the long-run average cost per period under the
@@ -49,7 +53,11 @@ type Life struct {
 // LifeFigures computes the life figures of the advice r for the class
 // (m, c) at the discount d: first passage to target, survival
 // curves over horizon periods, the long-run figures of the policy's chain
-// and the equivalent annual cost of r.Value.
+// and the equivalent annual cost of r.Value. The chain figures come from
+// condition.Chain (reachability on the graph, subtraction-free state
+// reduction); a figure that cannot be computed is left out with its reason
+// in PolicyErr, PassiveErr or StationaryErr. The error is only for
+// arguments of the wrong length.
 func LifeFigures(m *condition.Model, c *costs.Schedule, r *Result, d costs.Discount, target []bool, horizon int) (*Life, error) {
 	n := len(m.States)
 	policy := r.Policy
@@ -67,17 +75,12 @@ func LifeFigures(m *condition.Model, c *costs.Schedule, r *Result, d costs.Disco
 	}
 	pol := m.PolicyChain(policy)
 	pp, err := pol.FirstPassage(target)
-	if err != nil {
-		return nil, err
-	}
-	l.Policy = &pp
+	l.Policy, l.PolicyErr = &pp, figureErr("first passage under the advice", err)
 	l.PolicySurvival = pol.Survival(target, horizon)
 	if m.Passive() >= 0 {
 		pas := m.PassiveChain()
 		p, err := pas.FirstPassage(target)
-		if err != nil {
-			return nil, err
-		}
+		l.PassiveErr = figureErr("first passage left alone", err)
 		// A state where the unit cannot be left alone has no passive figure,
 		// even when it is the target.
 		for s, row := range pas.Rows {
@@ -89,17 +92,17 @@ func LifeFigures(m *condition.Model, c *costs.Schedule, r *Result, d costs.Disco
 		l.PassiveSurvival = pas.Survival(target, horizon)
 	}
 	pi, err := pol.Stationary()
-	var ce *condition.ClassesError
-	switch {
-	case errors.As(err, &ce):
+	if err != nil {
+		var ce *condition.ClassesError
+		if !errors.As(err, &ce) {
+			err = figureErr("long-run figures", err)
+		}
 		l.StationaryErr = err
 		for a := range l.PeriodsBetween {
 			l.ActionShare[a], l.PeriodsBetween[a] = math.NaN(), math.NaN()
 		}
 		l.UnsafeShare = math.NaN()
 		return l, nil
-	case err != nil:
-		return nil, err
 	}
 	l.Stationary = pi
 	l.CostPerPeriod = 0
@@ -118,6 +121,14 @@ func LifeFigures(m *condition.Model, c *costs.Schedule, r *Result, d costs.Disco
 		}
 	}
 	return l, nil
+}
+
+// figureErr prefixes err with the figure it concerns (nil stays nil).
+func figureErr(figure string, err error) error {
+	if err == nil {
+		return nil
+	}
+	return fmt.Errorf("optimize: %s cannot be computed: %w", figure, err)
 }
 
 // WorstTarget marks the last state of an n-state scale.

@@ -1,11 +1,14 @@
 package optimize
 
 import (
+	"context"
 	"errors"
 	"fmt"
+	"math"
 
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/optimize/convex/lp"
+
+	"fixpoint/optimize/internal/simplex"
 )
 
 var errNonFinite = errors.New("optimize: iteration produced a non-finite value")
@@ -46,35 +49,55 @@ func (p *Problem) LP() (c []float64, a *mat.Dense, b []float64) {
 	return c, a, b
 }
 
-// linearProgram solves p.LP() with gonum's simplex method,
-// starting from the basis of the least-immediate-cost policy (its columns
-// form the non-singular (I - γ P_π)ᵀ and give a feasible x >= 0), and reads
-// the policy off the positive entries.
-func linearProgram(p *Problem) ([]int, error) {
+// linearProgram solves p.LP() with the dense simplex method of
+// optimize/internal/simplex (Dantzig's rule, Bland's rule after a run of
+// degenerate pivots, so that it cannot cycle), starting from the basis of
+// the least-immediate-cost policy: its columns form the non-singular
+// (I - γ P_π)ᵀ and give a feasible x >= 0. Every basic feasible solution
+// of this LP is a deterministic policy with x(s, π(s)) >= 1/n > 0
+// (Puterman 1994, Thm 6.9.4), so pivots are never degenerate in exact
+// arithmetic; tied actions (equal columns) show as zero reduced costs,
+// which the simplex's cost tolerance keeps from trading places. The policy
+// is read off the largest entry of each state. MaxIterations caps the
+// pivots (zero: simplex.DefaultMaxPivots); at the cap the last basis is
+// returned with capped set. One pivot costs O(n·(N + n)) for N choices.
+func linearProgram(ctx context.Context, p *Problem, s *Settings) (policy []int, pivots int, capped bool, err error) {
 	c, a, b := p.LP()
 	n := len(p.States)
 	start := make([]int, n)
 	greedy(p, make([]float64, n), start, make([]float64, n))
 	basis := make([]int, n)
 	first := 0
-	for s, cs := range p.Choices {
-		basis[s] = first + p.Find(s, start[s])
+	for st, cs := range p.Choices {
+		basis[st] = first + p.Find(st, start[st])
 		first += len(cs)
 	}
-	_, x, err := lp.Simplex(c, a, b, 1e-12, basis)
-	if err != nil {
-		return nil, fmt.Errorf("optimize: simplex: %w", err)
+	rows := make([][]float64, n)
+	for i := range rows {
+		rows[i] = a.RawRowView(i)
 	}
-	policy := make([]int, n)
+	set := &simplex.Settings{Basis: basis}
+	if s.MaxIterations > 0 {
+		set.MaxPivots = s.MaxIterations
+	}
+	r, err := simplex.Solve(ctx, c, rows, b, set)
+	if err != nil {
+		if ctx.Err() != nil {
+			return nil, 0, false, ctx.Err()
+		}
+		return nil, 0, false, fmt.Errorf("optimize: linear program: %w", err)
+	}
+	policy = make([]int, n)
 	col := 0
-	for s, cs := range p.Choices {
+	for st, cs := range p.Choices {
 		best := -1.0
 		for _, ch := range cs {
-			if x[col] > best {
-				best, policy[s] = x[col], ch.Action
+			if r.X[col] > best {
+				best, policy[st] = r.X[col], ch.Action
 			}
 			col++
 		}
 	}
-	return policy, nil
+	s.progress(LinearProgram, r.Pivots, math.Inf(1))
+	return policy, r.Pivots, r.Status == simplex.PivotLimit, nil
 }

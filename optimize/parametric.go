@@ -46,7 +46,9 @@ const pathStep = 1e-10
 // policy is found by policy iteration just past the breakpoint, and the
 // search resumes. A breakpoint is polished by bisection on the reduced cost
 // itself. Cost per segment: n+1 dense LU factorisations plus the
-// subdivisions.
+// subdivisions, O(n³) each. ctx is checked before every factorisation and
+// every 16 subdivision steps (O(n²) each), so cancellation is seen within
+// one LU of the largest problem.
 func DiscountPath(ctx context.Context, p *Problem, lo, hi float64, settings *Settings) ([]Segment, []Switch, error) {
 	if !(lo > 0 && lo < hi && hi <= 1) {
 		return nil, nil, fmt.Errorf("optimize: discount range [%v, %v] is not inside (0, 1]", lo, hi)
@@ -72,7 +74,7 @@ func DiscountPath(ctx context.Context, p *Problem, lo, hi float64, settings *Set
 		if err := ctx.Err(); err != nil {
 			return nil, nil, err
 		}
-		next, err := nextBreak(p, policy, g, hi)
+		next, err := nextBreak(ctx, p, policy, g, hi)
 		if err != nil {
 			return nil, nil, err
 		}
@@ -101,7 +103,7 @@ func DiscountPath(ctx context.Context, p *Problem, lo, hi float64, settings *Set
 func strictOptimum(ctx context.Context, p *Problem, g float64, start []int, s *Settings) ([]int, error) {
 	q := *p
 	q.Discount = g
-	policy, _, err := policyIterationFrom(ctx, &q, s, start)
+	policy, _, _, err := policyIterationFrom(ctx, &q, s, start)
 	return policy, err
 }
 
@@ -113,7 +115,7 @@ func tieRule(ctx context.Context, p *Problem, segs []Segment, s *Settings) ([]Se
 	for _, sg := range segs {
 		q := *p
 		q.Discount = (sg.Lo + sg.Hi) / 2
-		r, err := certify(&q, sg.Policy, nil, nil, s)
+		r, err := certify(ctx, &q, sg.Policy, nil, nil, s, false)
 		if err != nil {
 			return nil, nil, err
 		}
@@ -169,7 +171,7 @@ func reducedCosts(p *Problem, policy []int, g float64, pairs [][2]int) (delta, s
 
 // nextBreak returns the smallest γ in (g0, hi) at which a reduced cost of
 // policy turns negative, or hi when there is none.
-func nextBreak(p *Problem, policy []int, g0, hi float64) (float64, error) {
+func nextBreak(ctx context.Context, p *Problem, policy []int, g0, hi float64) (float64, error) {
 	var pairs [][2]int
 	for s, cs := range p.Choices {
 		for k, c := range cs {
@@ -194,6 +196,9 @@ func nextBreak(p *Problem, policy []int, g0, hi float64) (float64, error) {
 	deltas := make([][]float64, m)
 	scales := make([][]float64, m)
 	for k, x := range ch.nodes {
+		if err := ctx.Err(); err != nil {
+			return 0, err
+		}
 		d, sc, ld, err := reducedCosts(p, policy, mid+half*x, pairs)
 		if err != nil {
 			return 0, err
@@ -214,11 +219,17 @@ func nextBreak(p *Problem, policy []int, g0, hi float64) (float64, error) {
 		// The first point where δ·D < -noise is the first root of the
 		// shifted polynomial; touches of zero (ties) do not count.
 		coef[0] += noise[i]
-		x, ok := ch.firstDescent(coef, -1, (best-mid)/half)
+		x, ok := ch.firstDescent(ctx, coef, -1, (best-mid)/half)
+		if err := ctx.Err(); err != nil {
+			return 0, err
+		}
 		if !ok {
 			continue
 		}
-		root := polishBreak(p, policy, pr, mid+half*x, g0, best)
+		root := polishBreak(ctx, p, policy, pr, mid+half*x, g0, best)
+		if err := ctx.Err(); err != nil {
+			return 0, err
+		}
 		if root > g0 && root < best {
 			best = root
 		}
@@ -278,8 +289,9 @@ func clenshaw(c []float64, x float64) float64 {
 // firstDescent returns the smallest x in (a, b) where the polynomial with
 // Chebyshev coefficients c (on [-1, 1]) goes from >= 0 to < 0, by
 // subdivision: on an interval the polynomial is re-expanded at its
-// Chebyshev points, and |c0| > Σ|ck| proves that it has no root there.
-func (ch *cheb) firstDescent(c []float64, a, b float64) (float64, bool) {
+// Chebyshev points, and |c0| > Σ|ck| proves that it has no root there. It
+// gives up (false) when ctx is done; the caller checks ctx.
+func (ch *cheb) firstDescent(ctx context.Context, c []float64, a, b float64) (float64, bool) {
 	if !(b > a) {
 		return 0, false
 	}
@@ -288,6 +300,9 @@ func (ch *cheb) firstDescent(c []float64, a, b float64) (float64, bool) {
 	type span struct{ a, b float64 }
 	stack := []span{{a, b}}
 	for budget := 0; len(stack) > 0 && budget < 20000; budget++ {
+		if budget%16 == 15 && ctx.Err() != nil {
+			return 0, false
+		}
 		sp := stack[len(stack)-1]
 		stack = stack[:len(stack)-1]
 		mid, half := (sp.a+sp.b)/2, (sp.b-sp.a)/2
@@ -321,10 +336,13 @@ func (ch *cheb) firstDescent(c []float64, a, b float64) (float64, bool) {
 // polishBreak refines a breakpoint of the pair pr near g by bisection on
 // its reduced cost within (lo, hi): the bracket is widened from g until the
 // reduced cost is >= 0 on its left and < 0 on its right. It returns g when
-// no such bracket exists.
-func polishBreak(p *Problem, policy []int, pr [2]int, g, lo, hi float64) float64 {
+// no such bracket exists, or when ctx is done (the caller checks ctx).
+func polishBreak(ctx context.Context, p *Problem, policy []int, pr [2]int, g, lo, hi float64) float64 {
 	hi = min(hi, math.Nextafter(1, 0))
 	at := func(x float64) float64 {
+		if ctx.Err() != nil {
+			return math.NaN()
+		}
 		d, _, _, err := reducedCosts(p, policy, x, [][2]int{pr})
 		if err != nil {
 			return math.NaN()
@@ -337,13 +355,13 @@ func polishBreak(p *Problem, policy []int, pr [2]int, g, lo, hi float64) float64
 		if at(a) >= 0 && at(b) < 0 {
 			break
 		}
-		if a == lo && b == hi {
+		if (a == lo && b == hi) || ctx.Err() != nil {
 			return g
 		}
 	}
 	for range 80 {
 		m := (a + b) / 2
-		if m <= a || m >= b {
+		if m <= a || m >= b || ctx.Err() != nil {
 			break
 		}
 		if at(m) >= 0 {

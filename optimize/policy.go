@@ -78,13 +78,14 @@ func greedy(p *Problem, v []float64, policy []int, tv []float64) {
 // current one's by more than the tie tolerance, and stop when no state
 // switches. Each step costs one O(n³) evaluation and O(nnz) for the
 // improvement; the number of steps is small in practice and finite always.
-func policyIteration(ctx context.Context, p *Problem, s *Settings) ([]int, int, error) {
+// capped says that it stopped at MaxIterations with switches pending.
+func policyIteration(ctx context.Context, p *Problem, s *Settings) (policy []int, steps int, capped bool, err error) {
 	return policyIterationFrom(ctx, p, s, nil)
 }
 
 // policyIterationFrom is policyIteration from the given start policy (nil:
 // the least-immediate-cost policy).
-func policyIterationFrom(ctx context.Context, p *Problem, s *Settings, start []int) ([]int, int, error) {
+func policyIterationFrom(ctx context.Context, p *Problem, s *Settings, start []int) ([]int, int, bool, error) {
 	n := len(p.States)
 	policy := make([]int, n)
 	if start != nil {
@@ -94,13 +95,13 @@ func policyIterationFrom(ctx context.Context, p *Problem, s *Settings, start []i
 	}
 	for step := 1; ; step++ {
 		if err := ctx.Err(); err != nil {
-			return nil, step, err
+			return nil, step, false, err
 		}
 		v, err := Evaluate(p, policy)
 		if err != nil {
-			return nil, step, err
+			return nil, step, false, err
 		}
-		tie := tieTol(s, v)
+		tie := tieTol(p, s, v, 1-p.Discount)
 		changed := 0
 		// With d = T v - v <= 0 at v = v_π, the bound of Solve gives
 		// v_π - v* <= max(-d) / (1-γ).
@@ -122,7 +123,7 @@ func policyIterationFrom(ctx context.Context, p *Problem, s *Settings, start []i
 		}
 		s.progress(PolicyIteration, step, worst/(1-p.Discount))
 		if changed == 0 || step >= s.MaxIterations {
-			return policy, step, nil
+			return policy, step, changed > 0, nil
 		}
 	}
 }

@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"fixpoint/condition"
+	"fixpoint/costs"
 )
 
 // Choice is one admissible action of a state: its expected one-period cost
@@ -30,9 +31,15 @@ type Problem struct {
 	Discount float64
 }
 
+// MaxChoiceCost is the largest magnitude of a choice's one-period cost: a
+// running cost plus an action cost, each within ±costs.MaxCost.
+const MaxChoiceCost = 2 * costs.MaxCost
+
 // ProblemError is one fault of a Problem. State and Action are indices, or
-// -1 when not applicable.
+// -1 when not applicable; Field says what is at fault: "discount",
+// "cost", "row", "action" (an action index), "states" or "choices".
 type ProblemError struct {
+	Field   string
 	State   int
 	Action  int
 	Problem string
@@ -51,51 +58,68 @@ func (e *ProblemError) Error() string {
 // Validate reports every fault of the problem, joined by errors.Join; each
 // is a *ProblemError. It checks names against sizes, that every state has
 // at least one choice with a valid, strictly increasing action index, that
-// costs are finite, that every next-state distribution sums to 1 within
-// condition.RowTolerance with finite non-negative entries, and, when
-// discounted is true, that the discount factor lies in (0, 1).
+// costs are finite and within ±MaxChoiceCost, that every next-state
+// distribution sums to 1 within condition.RowTolerance with finite
+// non-negative entries, and, when discounted is true, that the discount
+// factor lies in (0, 1 - costs.MinDiscountGap] (closer to 1, errors grow
+// like 1/(1-γ) and no tolerance can be proven in float64).
 func (p *Problem) Validate(discounted bool) error {
 	var errs []error
-	add := func(s, a int, format string, args ...any) {
-		errs = append(errs, &ProblemError{State: s, Action: a, Problem: fmt.Sprintf(format, args...)})
+	add := func(field string, s, a int, format string, args ...any) {
+		errs = append(errs, &ProblemError{Field: field, State: s, Action: a, Problem: fmt.Sprintf(format, args...)})
 	}
 	n := len(p.States)
 	if n == 0 {
-		add(-1, -1, "no states")
+		add("states", -1, -1, "no states")
 	}
 	if len(p.Choices) != n {
-		add(-1, -1, "%d choice lists for %d states", len(p.Choices), n)
+		add("choices", -1, -1, "%d choice lists for %d states", len(p.Choices), n)
 	}
-	if discounted && !(p.Discount > 0 && p.Discount < 1) {
-		add(-1, -1, "discount factor %v is not in (0, 1)", p.Discount)
+	if discounted {
+		if err := checkDiscount(p.Discount); err != nil {
+			errs = append(errs, err)
+		}
 	}
 	for s, cs := range p.Choices {
 		if len(cs) == 0 {
-			add(s, -1, "no admissible action")
+			add("choices", s, -1, "no admissible action")
 		}
 		prev := -1
 		for _, c := range cs {
 			if c.Action <= prev || c.Action >= len(p.Actions) {
-				add(s, c.Action, "action index out of range or out of order")
+				add("action", s, c.Action, "action index out of range or out of order")
 			}
 			prev = c.Action
-			if math.IsNaN(c.Cost) || math.IsInf(c.Cost, 0) {
-				add(s, c.Action, "cost is %v", c.Cost)
+			if !(math.Abs(c.Cost) <= MaxChoiceCost) {
+				add("cost", s, c.Action, "cost %v is not a finite number within ±%g", c.Cost, MaxChoiceCost)
 			}
 			sum := 0.0
 			for _, e := range c.Next {
 				if e.To < 0 || e.To >= n || !(e.P >= 0) || math.IsInf(e.P, 0) {
-					add(s, c.Action, "bad transition entry %+v", e)
+					add("row", s, c.Action, "bad transition entry %+v", e)
 					continue
 				}
 				sum += e.P
 			}
 			if math.Abs(sum-1) > condition.RowTolerance {
-				add(s, c.Action, "transition row sums to %v", sum)
+				add("row", s, c.Action, "transition row sums to %v", sum)
 			}
 		}
 	}
 	return errors.Join(errs...)
+}
+
+// checkDiscount returns a *ProblemError unless 0 < γ <= 1 -
+// costs.MinDiscountGap.
+func checkDiscount(g float64) error {
+	switch {
+	case !(g > 0 && g < 1):
+		return &ProblemError{Field: "discount", State: -1, Action: -1, Problem: fmt.Sprintf("discount factor %v is not in (0, 1)", g)}
+	case 1-g < costs.MinDiscountGap:
+		return &ProblemError{Field: "discount", State: -1, Action: -1,
+			Problem: fmt.Sprintf("discount factor %v is within %g of 1: no tolerance can be proven in float64 at such a factor; use the average criterion", g, costs.MinDiscountGap)}
+	}
+	return nil
 }
 
 // Find returns the position of action a among the choices of state s, or -1.

@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"context"
 	"fmt"
 	"math"
 
@@ -27,13 +28,17 @@ type CostRange struct {
 // w = (I - γP_π)⁻¹ e_π, so each reduced cost δ(s,b) = Q(s,b) - v(s) moves
 // linearly too, with slope e(s,b) + γ P_b w - w(s); the range is the
 // ratio test of linear-programming ranging (Puterman 1994, §6.9; any LP
-// sensitivity text). Exact up to rounding; one LU and one solve per group.
-func CostRanges(p *Problem, r *Result, groups [][]Pair) ([]CostRange, error) {
+// sensitivity text). Exact up to rounding; one LU, then per group one
+// O(n²) solve and an O(nnz) scan, with ctx checked before each group.
+func CostRanges(ctx context.Context, p *Problem, r *Result, groups [][]Pair) ([]CostRange, error) {
 	n := len(p.States)
 	var lu mat.LU
 	lu.Factorize(policyMatrix(p, r.Policy, p.Discount))
 	out := make([]CostRange, len(groups))
 	for gi, group := range groups {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		in := make(map[Pair]bool, len(group))
 		for _, pr := range group {
 			if p.Find(pr.State, pr.Action) < 0 {

@@ -47,7 +47,7 @@ func TestCostRangesAgainstResolves(t *testing.T) {
 		if len(group) == 0 {
 			continue
 		}
-		ranges, err := CostRanges(p, r, [][]Pair{group})
+		ranges, err := CostRanges(context.Background(), p, r, [][]Pair{group})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -92,7 +92,7 @@ func TestCostRangeClosedForm(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	ranges, err := CostRanges(p, r, [][]Pair{{{0, 1}}})
+	ranges, err := CostRanges(context.Background(), p, r, [][]Pair{{{0, 1}}})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -17,7 +17,7 @@ const (
 	// PolicyIteration is Howard's policy iteration with exact evaluation.
 	PolicyIteration
 	// LinearProgram solves the occupation-measure linear program with
-	// gonum's simplex method.
+	// a dense simplex method that cannot cycle.
 	LinearProgram
 )
 
@@ -53,7 +53,8 @@ const (
 	// DefaultPolicySteps is the default step cap of policy iteration.
 	DefaultPolicySteps = 1000
 	// DefaultTieTol is the default relative tie tolerance: two actions tie
-	// when their Q-values differ by at most DefaultTieTol * max(1, max|v|).
+	// when their Q-values differ by at most DefaultTieTol·max(1, max|v|),
+	// within the cap and floor described at Settings.TieTol.
 	DefaultTieTol = 1e-9
 )
 
@@ -65,14 +66,19 @@ type Settings struct {
 	// policy's expected cost exceeds the optimum by at most Tol in every
 	// state. Zero means DefaultTol.
 	Tol float64
-	// MaxIterations caps the sweeps of value iteration or the improvement
-	// steps of policy iteration. Zero means DefaultValueSweeps or
-	// DefaultPolicySteps.
+	// MaxIterations caps the sweeps of value iteration, the improvement
+	// steps of policy iteration or the pivots of the simplex method. Zero
+	// means DefaultValueSweeps, DefaultPolicySteps or 50·(states +
+	// choices) pivots.
 	MaxIterations int
 	// TieTol is the absolute tie tolerance in currency units: actions whose
 	// Q-values are within TieTol of the best are tied, and the tie is
 	// resolved in favour of the lowest action index. Zero means
-	// DefaultTieTol * max(1, max|v|).
+	// DefaultTieTol·max(1, max|v|), capped at (1-γ)·Tol/2 (Tol/4 for the
+	// average criterion) so that the tie rule never costs more than half
+	// the tolerance, and floored at the rounding of one Q-value. An
+	// explicit TieTol is used as given; if its loss breaks the
+	// certificate, the result's Shortfall is TieLoss.
 	TieTol float64
 	// Progress, if not nil, is called after every sweep or step.
 	Progress func(Progress)

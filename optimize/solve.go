@@ -13,8 +13,8 @@ type Status int
 const (
 	// Certified: the proven gap is at most the tolerance.
 	Certified Status = iota
-	// NotCertified: the iteration cap was reached, or rounding kept the gap
-	// above the tolerance; the bounds are the best found.
+	// NotCertified: the gap stayed above the tolerance; Result.Shortfall
+	// says why, and the bounds are the best found.
 	NotCertified
 )
 
@@ -25,15 +25,61 @@ func (s Status) String() string {
 	return "not certified"
 }
 
+// Shortfall says why a result is not certified, so that a caller can name
+// the remedy that fits.
+type Shortfall int
+
+const (
+	// NoShortfall: the result is certified.
+	NoShortfall Shortfall = iota
+	// IterationCap: the method stopped at Settings.MaxIterations (sweeps of
+	// value iteration, steps of policy iteration, pivots of the simplex
+	// method) before its own stopping rule held. Remedy: raise the cap, or
+	// use policy iteration.
+	IterationCap
+	// RoundingFloor: the method's stopping rule held, but the allowance
+	// for floating-point rounding at these values and this discount factor
+	// (Result.Rounding, about ε·(max|c| + max|v|)/(1-γ)) keeps the gap above
+	// the tolerance: a tolerance below about 2·Rounding cannot be proven in
+	// float64. Remedy: loosen the tolerance, or state the costs in larger
+	// units; raising the cap or changing the method does not help.
+	RoundingFloor
+	// TieLoss: an explicit Settings.TieTol let the tie rule choose actions
+	// that lose more than the tolerance allows (a tie tolerance τ can cost
+	// up to τ/(1-γ)). Remedy: lower TieTol or leave it at its default,
+	// which never does this.
+	TieLoss
+	// MethodAccuracy: the simplex method stopped at its reduced-cost
+	// tolerance with a policy whose exact evaluation misses the
+	// tolerance by more than rounding explains. Remedy: use policy
+	// iteration.
+	MethodAccuracy
+)
+
+var shortfallNames = [...]string{NoShortfall: "none", IterationCap: "iteration cap",
+	RoundingFloor: "rounding floor", TieLoss: "tie loss", MethodAccuracy: "method accuracy"}
+
+func (s Shortfall) String() string {
+	if s >= 0 && int(s) < len(shortfallNames) {
+		return shortfallNames[s]
+	}
+	return fmt.Sprintf("Shortfall(%d)", int(s))
+}
+
 // Result is the answer of Solve with its certificate.
 type Result struct {
 	Method Method
 	Status Status
+	// Shortfall says why Status is NotCertified (NoShortfall when
+	// certified).
+	Shortfall Shortfall
 	// Tol is the tolerance the result was asked to meet.
 	Tol float64
 	// Iterations counts value-iteration sweeps, policy-iteration steps or
-	// simplex solves (1) of the method that ran.
+	// simplex solves (1) of the method that ran; Pivots counts the
+	// simplex pivots of the LP method (0 for the others).
 	Iterations int
+	Pivots     int
 	// Policy[s] is the advised action index in state s.
 	Policy []int
 	// Value[s] is the exact expected discounted cost of Policy from s,
@@ -60,7 +106,8 @@ type Result struct {
 	// is -1.
 	Margin []float64
 	// Ties lists the states where several actions are within the tie
-	// tolerance of the best; TieTol is the tolerance used.
+	// tolerance of the best; TieTol is the tolerance used (see
+	// Settings.TieTol for its default and cap).
 	Ties   []Tie
 	TieTol float64
 }
@@ -92,15 +139,17 @@ func Solve(ctx context.Context, p *Problem, settings *Settings) (*Result, error)
 		policy       []int
 		lower, upper []float64
 		iters        int
+		pivots       int
+		capped       bool
 		err          error
 	)
 	switch s.Method {
 	case ValueIteration:
-		policy, lower, upper, iters, err = valueIteration(ctx, p, &s)
+		policy, lower, upper, iters, capped, err = valueIteration(ctx, p, &s)
 	case PolicyIteration:
-		policy, iters, err = policyIteration(ctx, p, &s)
+		policy, iters, capped, err = policyIteration(ctx, p, &s)
 	case LinearProgram:
-		policy, err = linearProgram(p)
+		policy, pivots, capped, err = linearProgram(ctx, p, &s)
 		iters = 1
 	default:
 		return nil, fmt.Errorf("optimize: unknown method %v", s.Method)
@@ -108,19 +157,27 @@ func Solve(ctx context.Context, p *Problem, settings *Settings) (*Result, error)
 	if err != nil {
 		return nil, err
 	}
-	r, err := certify(p, policy, lower, upper, &s)
+	r, err := certify(ctx, p, policy, lower, upper, &s, capped)
 	if err != nil {
 		return nil, err
 	}
-	r.Iterations = iters
+	r.Iterations, r.Pivots = iters, pivots
 	return r, nil
 }
 
 // certify evaluates policy exactly, resolves ties by the lowest action
 // index, and computes the bounds, gap, Q-values and runner-ups. lower and
 // upper, if not nil, are bounds already proven by the solver; the result
-// keeps the tighter of those and its own.
-func certify(p *Problem, policy []int, lower, upper []float64, s *Settings) (*Result, error) {
+// keeps the tighter of those and its own. capped says that the solver
+// stopped at its iteration cap before its own stopping rule held.
+//
+// Why a gap above Tol: the solvers stop when their own bound is within
+// Tol/2 (value iteration) or when no switch gains more than the tie
+// tolerance τ <= (1-γ)·Tol/2 (policy iteration), so without a cap the gap
+// is at most Tol/2 + Rounding + the rounding of d = Tv - v, itself at most
+// Rounding; a larger gap is put down to the simplex's reduced-cost
+// tolerance.
+func certify(ctx context.Context, p *Problem, policy []int, lower, upper []float64, s *Settings, capped bool) (*Result, error) {
 	n := len(p.States)
 	policy = slices.Clone(policy)
 	var (
@@ -133,12 +190,15 @@ func certify(p *Problem, policy []int, lower, upper []float64, s *Settings) (*Re
 	// tied actions changes values by at most TieTol/(1-γ), so this settles
 	// in a step or two.
 	for round := 0; ; round++ {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		v, err = Evaluate(p, policy)
 		if err != nil {
 			return nil, err
 		}
 		q = qValues(p, v)
-		tie = tieTol(s, v)
+		tie = tieTol(p, s, v, 1-p.Discount)
 		if round == 3 || !preferFirst(p, q, tie, policy) {
 			break
 		}
@@ -174,8 +234,22 @@ func certify(p *Problem, policy []int, lower, upper []float64, s *Settings) (*Re
 
 		r.RunnerUp[st], r.Margin[st], r.Ties = runnerUp(p, q, tie, st, policy[st], r.Ties)
 	}
-	r.Status = Certified
-	if !(r.Gap <= s.Tol) {
+	// The tie rule's own loss: the policy is at most -lo worse than greedy
+	// in one step, so at most -lo/(1-γ) in value.
+	tieLoss := -lo / (1 - g)
+	r.Status, r.Shortfall = Certified, NoShortfall
+	switch {
+	case r.Gap <= s.Tol:
+	case capped:
+		r.Shortfall = IterationCap
+	case s.TieTol > 0 && tieLoss > s.Tol/2 && -lo <= tie:
+		r.Shortfall = TieLoss
+	case r.Gap <= s.Tol/2+4*round:
+		r.Shortfall = RoundingFloor
+	default:
+		r.Shortfall = MethodAccuracy
+	}
+	if r.Shortfall != NoShortfall {
 		r.Status = NotCertified
 	}
 	return r, nil
@@ -193,7 +267,22 @@ func qValues(p *Problem, v []float64) [][]float64 {
 	return q
 }
 
-func tieTol(s *Settings, v []float64) float64 {
+// tieTol returns the tie tolerance τ at values v, for a criterion whose
+// value loss per unit of one-step loss is 1/weight (weight = 1-γ when
+// discounted, 1 for the average criterion). An explicit Settings.TieTol is
+// used as given. The default is DefaultTieTol·max(1, max|v|), capped at
+// weight·Tol/2 and floored at the rounding bound of one Q-value,
+// roundingError(p, v).
+//
+// The cap: a policy that in each state takes an action within τ of the
+// best Q-value has d = Tv - v_π >= -τ, so by the bound of Solve it loses at
+// most τ + γτ/(1-γ) = τ/(1-γ) against the optimum; τ <= (1-γ)·Tol/2 keeps
+// that within half the tolerance, and the advice is never worse than the
+// runner-up by more than the stated gap (its margin is >= -τ). The floor:
+// Q-values closer than their rounding cannot be told apart, and a tie
+// rule below that would let the method decide; its loss is then within
+// Result.Rounding.
+func tieTol(p *Problem, s *Settings, v []float64, weight float64) float64 {
 	if s.TieTol > 0 {
 		return s.TieTol
 	}
@@ -201,7 +290,7 @@ func tieTol(s *Settings, v []float64) float64 {
 	for _, x := range v {
 		scale = max(scale, math.Abs(x))
 	}
-	return DefaultTieTol * scale
+	return max(roundingError(p, v), min(DefaultTieTol*scale, weight*s.Tol/2))
 }
 
 // preferFirst applies the tie rule of every method: where the action of

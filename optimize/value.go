@@ -15,10 +15,12 @@ import (
 // γ/(1-γ)·(max d - min d) against the optimum. It stops when that span
 // bound is at most Tol/2 (the other half is room for the rounding of the
 // final exact evaluation) or after MaxIterations sweeps. One sweep costs
-// O(nnz), the number of non-zero transition entries over all choices.
+// O(nnz), the number of non-zero transition entries over all choices; ctx
+// is checked before each.
 //
-// It returns the greedy policy of the last iterate and the bounds.
-func valueIteration(ctx context.Context, p *Problem, s *Settings) (policy []int, lower, upper []float64, sweeps int, err error) {
+// It returns the greedy policy of the last iterate and the bounds; capped
+// says that it stopped at MaxIterations with the span bound above Tol/2.
+func valueIteration(ctx context.Context, p *Problem, s *Settings) (policy []int, lower, upper []float64, sweeps int, capped bool, err error) {
 	n := len(p.States)
 	g := p.Discount
 	v := make([]float64, n)
@@ -26,10 +28,8 @@ func valueIteration(ctx context.Context, p *Problem, s *Settings) (policy []int,
 	policy = make([]int, n)
 	lower, upper = make([]float64, n), make([]float64, n)
 	for sweeps = 1; ; sweeps++ {
-		if sweeps%64 == 1 {
-			if err := ctx.Err(); err != nil {
-				return nil, nil, nil, sweeps, err
-			}
+		if err := ctx.Err(); err != nil {
+			return nil, nil, nil, sweeps, false, err
 		}
 		greedy(p, v, policy, tv)
 		lo, hi := math.Inf(1), math.Inf(-1)
@@ -39,7 +39,7 @@ func valueIteration(ctx context.Context, p *Problem, s *Settings) (policy []int,
 		}
 		gap := g / (1 - g) * (hi - lo)
 		if math.IsNaN(gap) || math.IsInf(gap, 0) {
-			return nil, nil, nil, sweeps, errNonFinite
+			return nil, nil, nil, sweeps, false, errNonFinite
 		}
 		s.progress(ValueIteration, sweeps, gap)
 		if gap <= s.Tol/2 || sweeps >= s.MaxIterations {
@@ -47,7 +47,7 @@ func valueIteration(ctx context.Context, p *Problem, s *Settings) (policy []int,
 				lower[st] = tv[st] + g/(1-g)*lo
 				upper[st] = tv[st] + g/(1-g)*hi
 			}
-			return policy, lower, upper, sweeps, nil
+			return policy, lower, upper, sweeps, gap > s.Tol/2, nil
 		}
 		v, tv = tv, v
 	}

@@ -42,7 +42,11 @@ func Money(x float64, decimals int) string {
 // Percent formats a fraction as a percentage with the given decimals:
 // Percent(0.035, 2) is "3.50%".
 func Percent(x float64, decimals int) string {
-	return strconv.FormatFloat(100*x, 'f', decimals, 64) + "%"
+	s := strconv.FormatFloat(100*x, 'f', decimals, 64)
+	if strings.Trim(s, "-0.") == "" {
+		s = strings.TrimPrefix(s, "-") // no "-0.000%"
+	}
+	return s + "%"
 }
 
 // Fixed formats x with the given number of decimals and no grouping.

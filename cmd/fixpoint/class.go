@@ -70,26 +70,17 @@ func override(p costs.Period, o settings.Override) (costs.Discount, error) {
 	if o.HasRate {
 		d, err := costs.Rate(o.Rate, p)
 		if err != nil {
-			return d, usagef("setting rate: %v", trimLib(err))
+			return d, usagef("setting rate: %v", modelfile.Plain(err))
 		}
 		return d, nil
 	}
 	d, err := costs.Factor(o.Factor, p)
 	if err != nil {
-		return d, usagef("setting factor: %v", trimLib(err))
+		return d, usagef("setting factor: %v", modelfile.Plain(err))
 	}
 	return d, nil
 }
 
-// trimLib drops the "costs: " prefix from a library message shown as a
-// setting's problem.
-func trimLib(err error) string {
-	s := err.Error()
-	if len(s) > 7 && s[:7] == "costs: " {
-		return s[7:]
-	}
-	return s
-}
 
 // classFile returns the class of a loaded file for a command that takes
 // class configs only.
@@ -138,8 +129,16 @@ func (a *app) advise(cmd *cobra.Command, r *classRun, s optimize.Settings, targe
 	if err != nil {
 		return nil, err
 	}
+	warnings := a.safetyWarnings(r, res.Policy)
+	for _, err := range []error{l.PolicyErr, l.PassiveErr} {
+		if err != nil {
+			w := "Life figures: " + modelfile.Plain(err) + "; those figures are shown as n/a."
+			a.warn(w)
+			warnings = append(warnings, w)
+		}
+	}
 	return &reports.Advice{Header: header(r.Class), Passive: r.Model.Passive(), Problem: r.Problem, Result: res, Life: l,
-		Warnings: a.safetyWarnings(r, res.Policy)}, nil
+		Warnings: warnings}, nil
 }
 
 // safetyWarnings warns, on stderr and in the returned lines for the
@@ -167,21 +166,32 @@ func (a *app) safetyWarnings(r *classRun, policy []int) []string {
 }
 
 // uncertified returns the exit-3 error for a result whose gap is above
-// its tolerance, and nil for a certified one.
+// its tolerance, with the remedy that fits why, and nil for a certified
+// one.
 func uncertified(r *optimize.Result) error {
 	if r.Status == optimize.Certified {
 		return nil
 	}
-	if r.Gap < 4*r.Rounding {
-		return &uncertifiedError{fmt.Sprintf(
-			"the answer is not certified: proven gap %.3g is above the tolerance %.3g, and %.3g of it is the allowance for floating-point rounding at these values and this discount factor; a tolerance below that cannot be proven in float64: loosen --tol",
-			r.Gap, r.Tol, r.Rounding)}
+	head := fmt.Sprintf("the answer is not certified: proven gap %.3g is above the tolerance %.3g", r.Gap, r.Tol)
+	switch r.Shortfall {
+	case optimize.RoundingFloor:
+		return &uncertifiedError{fmt.Sprintf("%s, and %.3g of it is the allowance for floating-point rounding at these values and this discount factor; "+
+			"a tolerance below about %.3g cannot be proven in float64: loosen --tol, or state the costs in larger units", head, r.Rounding, 2*r.Rounding)}
+	case optimize.MethodAccuracy:
+		return &uncertifiedError{head + ": the simplex method's own tolerance leaves the gap above --tol: use --method policy"}
+	case optimize.TieLoss:
+		return &uncertifiedError{head + ": the tie tolerance costs more than the tolerance allows; lower the tie tolerance"}
 	}
-	remedy := "raise --max-iterations, loosen --tol or use --method policy"
-	if r.Method == optimize.PolicyIteration {
-		remedy = "raise --max-iterations or loosen --tol"
+	n, unit := r.Iterations, "steps"
+	switch r.Method {
+	case optimize.ValueIteration:
+		unit = "sweeps"
+	case optimize.LinearProgram:
+		n, unit = r.Pivots, "pivots"
 	}
-	return &uncertifiedError{fmt.Sprintf(
-		"the answer is not certified: proven gap %.3g is above the tolerance %.3g after %d iterations; %s",
-		r.Gap, r.Tol, r.Iterations, remedy)}
+	remedy := "raise --max-iterations"
+	if r.Method != optimize.PolicyIteration {
+		remedy += " or use --method policy"
+	}
+	return &uncertifiedError{fmt.Sprintf("%s: the solver stopped at its cap of %d %s; %s", head, n, unit, remedy)}
 }

@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"math"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -314,5 +315,45 @@ func TestOutputToDevice(t *testing.T) {
 	}
 	if info, err := os.Lstat("/dev/null"); err != nil || info.Mode()&os.ModeDevice == 0 {
 		t.Fatalf("/dev/null is no longer a device: %v", err)
+	}
+}
+
+// Figures that were wrong or lost: the tie rule keeps the cheaper action
+// (0.50 apart at 10^9), the LP finishes on tied degenerate models, a
+// multichain model with one gain is answered, a 1e-17 probability keeps
+// the certified advice.
+func TestSolverEdges(t *testing.T) {
+	dir := filepath.Join("testdata", "edges")
+	var tie struct {
+		States []struct {
+			Action string   `json:"action"`
+			Margin *float64 `json:"margin"`
+		} `json:"states"`
+	}
+	runJSON(t, &tie, "solve", filepath.Join(dir, "neartie.yaml"), "--format", "json")
+	for _, s := range tie.States {
+		if s.Action != "y" || s.Margin == nil || *s.Margin < 0 {
+			t.Errorf("neartie: advice %s margin %v, want y with margin >= 0", s.Action, s.Margin)
+		}
+	}
+	for _, method := range []string{"lp", "value", "policy"} {
+		if code, _, stderr := runCLI(t, "solve", filepath.Join(dir, "lp_hang5.yaml"), "--method", method); code != 0 {
+			t.Errorf("lp_hang5 --method %s: exit %d: %s", method, code, stderr)
+		}
+	}
+	var avg struct {
+		Gain   float64 `json:"gain_per_period"`
+		Status string  `json:"status"`
+	}
+	runJSON(t, &avg, "solve", filepath.Join(dir, "multi.yaml"), "--format", "json")
+	if avg.Status != "certified" || math.Abs(avg.Gain) > 1e-9 {
+		t.Errorf("multi: gain %g, %s; want 0, certified", avg.Gain, avg.Status)
+	}
+	if code, out, stderr := runCLI(t, "solve", filepath.Join(dir, "fp.yaml")); code != 0 || !strings.Contains(out, "certified") {
+		t.Errorf("fp: exit %d: %s", code, stderr)
+	}
+	code, _, stderr := runCLI(t, "solve", demo, "--rate", "1e-12")
+	if code != exitUsage || !strings.Contains(stderr, "use the average criterion") || strings.Contains(stderr, "--method policy") {
+		t.Errorf("rate 1e-12: exit %d, want a refusal suggesting the average criterion: %s", code, stderr)
 	}
 }

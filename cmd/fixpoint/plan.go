@@ -146,7 +146,7 @@ func (a *app) planRates(cmd *cobra.Command, ff *modelfile.Fleet, st settings.Pla
 		}
 		d, err := costs.Rate(r, period)
 		if err != nil {
-			return usagef("setting rates: %v", trimLib(err))
+			return usagef("setting rates: %v", modelfile.Plain(err))
 		}
 		f, p, err := a.fleetPlan(cmd, ff, st.Fleet, d)
 		if err != nil {

@@ -98,7 +98,7 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 		return err
 	}
 	figs, groups := costFigures(r.Class, r.Problem)
-	ranges, err := optimize.CostRanges(r.Problem, res, groups)
+	ranges, err := optimize.CostRanges(cmd.Context(), r.Problem, res, groups)
 	if err != nil {
 		return err
 	}

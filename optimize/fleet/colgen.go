@@ -7,6 +7,7 @@ import (
 	"slices"
 
 	"fixpoint/optimize"
+	"fixpoint/optimize/internal/simplex"
 )
 
 // solver holds what the linear programs of one plan share: the prepared
@@ -242,7 +243,7 @@ func (sv *solver) run(ctx context.Context, m *masterSpec, done func(value, lower
 				idx, cols = append(idx, seen), append(cols, sv.cols[seen])
 			}
 		}
-		mu, value, classDual, lambda, excess, err := solveMaster(cols, len(sv.classes), m)
+		mu, value, classDual, lambda, excess, err := solveMaster(ctx, cols, len(sv.classes), m)
 		if err != nil {
 			return nil, err
 		}
@@ -340,7 +341,7 @@ func (sv *solver) excess(ctx context.Context) (short []bool, excess []float64, g
 // solveMaster solves the restricted master m over cols. It returns the
 // column weights μ, the optimum, the duals of the class rows, the year
 // prices λ_y (0 for years without a row) and the excesses e_y.
-func solveMaster(cols []*column, nClasses int, m *masterSpec) (mu []float64, value float64, classDual, lambda, excess []float64, err error) {
+func solveMaster(ctx context.Context, cols []*column, nClasses int, m *masterSpec) (mu []float64, value float64, classDual, lambda, excess []float64, err error) {
 	Y := len(m.mode)
 	rowOf := make([]int, Y)
 	rows, extra := nClasses, 0
@@ -389,7 +390,7 @@ func solveMaster(cols []*column, nClasses int, m *masterSpec) (mu []float64, val
 			v++
 		}
 	}
-	x, obj, dual, err := denseLP(c, a, b)
+	x, obj, dual, err := simplex.Dense(ctx, c, a, b)
 	if err != nil {
 		return nil, 0, nil, nil, nil, fmt.Errorf("fleet: plan master: %w", err)
 	}

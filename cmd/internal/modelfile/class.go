@@ -356,7 +356,7 @@ func (c *Class) rowLabel(a, s int) string {
 func (c *Class) locate(d *doc, err error) {
 	var f *condition.Fault
 	if !errors.As(err, &f) {
-		d.fault(c.loc.root, c.prefix, "%s", trimPkg(err))
+		d.fault(c.loc.root, c.prefix, "%s", Plain(err))
 		return
 	}
 	l := &c.loc
@@ -420,7 +420,7 @@ func (c *Class) locate(d *doc, err error) {
 func (c *Class) locateCost(d *doc, err error) {
 	var f *costs.Fault
 	if !errors.As(err, &f) {
-		d.fault(c.loc.root, c.prefix, "%s", trimPkg(err))
+		d.fault(c.loc.root, c.prefix, "%s", Plain(err))
 		return
 	}
 	switch {

@@ -120,7 +120,7 @@ func (h *Header) decodeDiscount(d *doc, n *yaml.Node) {
 		if v, ok := d.rate(rate.value, "discount.rate"); ok && h.Period.Valid() {
 			disc, err := costs.Rate(v, h.Period)
 			if err != nil {
-				d.fault(rate.value, "discount.rate", "%s%s", trimPkg(err), averageHint(v))
+				d.fault(rate.value, "discount.rate", "%s%s", Plain(err), averageHint(v))
 			}
 			h.Discount = disc
 		}
@@ -128,7 +128,7 @@ func (h *Header) decodeDiscount(d *doc, n *yaml.Node) {
 		if v, ok := d.number(factor.value, "discount.factor"); ok && h.Period.Valid() {
 			disc, err := costs.Factor(v, h.Period)
 			if err != nil {
-				d.fault(factor.value, "discount.factor", "%s", trimPkg(err))
+				d.fault(factor.value, "discount.factor", "%s", Plain(err))
 			}
 			h.Discount = disc
 		}
@@ -143,9 +143,9 @@ func averageHint(rate float64) string {
 }
 
 // trimPkg drops a library's package prefix from its message.
-func trimPkg(err error) string {
+func Plain(err error) string {
 	s := err.Error()
-	for _, p := range []string{"costs: ", "condition: ", "optimize: ", "system: ", "fleet: "} {
+	for _, p := range []string{"costs: ", "condition: ", "optimize: ", "system: ", "fleet: ", "robust: ", "inspect: "} {
 		if len(s) > len(p) && s[:len(p)] == p {
 			return s[len(p):]
 		}

@@ -102,7 +102,7 @@ func (s *System) Machine() (*system.Machine, error) {
 		m.Components = append(m.Components, system.Component{Name: c.Name, Model: c.Model, Costs: c.Costs})
 	}
 	if err := m.Validate(); err != nil {
-		return nil, &Fault{File: s.Path, Msg: trimPkg(err)}
+		return nil, &Fault{File: s.Path, Msg: Plain(err)}
 	}
 	return m, nil
 }
