@@ -81,7 +81,6 @@ func override(p costs.Period, o settings.Override) (costs.Discount, error) {
 	return d, nil
 }
 
-
 // classFile returns the class of a loaded file for a command that takes
 // class configs only.
 func (a *app) class(cmd *cobra.Command, path string) (*modelfile.Class, error) {
