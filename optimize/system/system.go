@@ -51,34 +51,138 @@ func (sys *Machine) Size() (states, actions float64) {
 	return states, actions
 }
 
-// Validate checks every component (condition model, costs, a passive
-// action), unique component names, finite shared costs and the discount.
+// MaxJointActions is the largest number of joint actions Solve accepts:
+// joint actions are stored as int32 indices in the policy and runner-up
+// arrays.
+const MaxJointActions = math.MaxInt32
+
+// MaxJointStates is the largest number of joint states Solve accepts
+// (2^40: index arithmetic stays exact, and one value vector of that many
+// float64 is 8 TiB, far beyond any machine the estimate admits).
+const MaxJointStates = 1 << 40
+
+// Fault is one problem found in a machine. Component is the index of the
+// component concerned, or -1 when the fault is about the machine as a
+// whole. Field names what is wrong: "components", "name", "model",
+// "costs", "passive", "period", "shutdown", "down", "discount" or "size".
+// Err, when not nil, is the underlying fault (a *condition.Fault or a
+// *costs.Fault for Field "model" or "costs").
+type Fault struct {
+	Component int
+	// Name is the component's name when Component >= 0.
+	Name    string
+	Field   string
+	Problem string
+	Err     error
+}
+
+func (f *Fault) Error() string {
+	var b strings.Builder
+	b.WriteString("system: ")
+	switch {
+	case f.Component >= 0 && f.Name != "":
+		fmt.Fprintf(&b, "component %d %q: ", f.Component, f.Name)
+	case f.Component >= 0:
+		fmt.Fprintf(&b, "component %d: ", f.Component)
+	}
+	b.WriteString(f.Problem)
+	if f.Err != nil {
+		if f.Problem != "" {
+			b.WriteString(": ")
+		}
+		b.WriteString(f.Err.Error())
+	}
+	return b.String()
+}
+
+// Unwrap returns the underlying fault, if any.
+func (f *Fault) Unwrap() error { return f.Err }
+
+// Validate reports every fault of the machine, joined by errors.Join; each
+// is a *Fault. A valid machine has at least one component; every component
+// has a non-empty name unique in the machine, a condition model and a cost
+// schedule that are valid and of matching sizes (their own faults are
+// wrapped one by one), a passive action, and the period of the machine's
+// discount; the shared shutdown and down costs are finite; the discount is
+// given; and there are at most MaxJointStates joint states and
+// MaxJointActions joint actions.
 func (sys *Machine) Validate() error {
 	var errs []error
-	if len(sys.Components) == 0 {
-		errs = append(errs, errors.New("system: the system has no components"))
-	}
-	seen := make(map[string]bool)
-	for i, c := range sys.Components {
-		if seen[c.Name] {
-			errs = append(errs, fmt.Errorf("system: component %d: duplicate name %q", i, c.Name))
+	add := func(i int, field, format string, args ...any) {
+		f := &Fault{Component: i, Field: field, Problem: fmt.Sprintf(format, args...)}
+		if i >= 0 {
+			f.Name = sys.Components[i].Name
 		}
-		seen[c.Name] = true
-		if err := errors.Join(c.Model.Validate(), c.Costs.Validate(len(c.Model.States), len(c.Model.Actions))); err != nil {
-			errs = append(errs, fmt.Errorf("system: component %q: %w", c.Name, err))
+		errs = append(errs, f)
+	}
+	wrap := func(i int, field string, err error) {
+		if err == nil {
+			return
+		}
+		list := []error{err}
+		if j, ok := err.(interface{ Unwrap() []error }); ok {
+			list = j.Unwrap()
+		}
+		for _, e := range list {
+			errs = append(errs, &Fault{Component: i, Name: sys.Components[i].Name, Field: field, Err: e})
+		}
+	}
+	if len(sys.Components) == 0 {
+		add(-1, "components", "the machine has no components")
+	}
+	period := math.NaN()
+	if !sys.Discount.IsZero() {
+		period = sys.Discount.Period().Years()
+	}
+	seen := make(map[string]int)
+	states, actions := 1.0, 1.0
+	for i, c := range sys.Components {
+		switch j, dup := seen[c.Name]; {
+		case c.Name == "":
+			add(i, "name", "the component has no name")
+		case dup:
+			add(i, "name", "duplicate name (also component %d)", j)
+		default:
+			seen[c.Name] = i
+		}
+		if c.Model == nil {
+			add(i, "model", "the component has no condition model")
+		}
+		if c.Costs == nil {
+			add(i, "costs", "the component has no cost schedule")
+		}
+		if c.Model == nil {
 			continue
 		}
+		states *= float64(len(c.Model.States))
+		actions *= float64(len(c.Model.Actions))
+		wrap(i, "model", c.Model.Validate())
+		if c.Costs != nil {
+			wrap(i, "costs", c.Costs.Validate(len(c.Model.States), len(c.Model.Actions)))
+		}
 		if c.Model.Passive() < 0 {
-			errs = append(errs, fmt.Errorf("system: component %q has no passive action", c.Name))
+			add(i, "passive", "no passive (leave-as-is) action")
+		}
+		if y := c.Model.PeriodYears; !math.IsNaN(period) && math.Abs(y-period) > 1e-9*period {
+			add(i, "period", "period of %g years, the machine's discount is per period of %g years", y, period)
 		}
 	}
-	for _, x := range []float64{sys.Shutdown, sys.Down} {
-		if math.IsNaN(x) || math.IsInf(x, 0) {
-			errs = append(errs, fmt.Errorf("system: shared cost %v is not finite", x))
+	for _, x := range []struct {
+		field string
+		v     float64
+	}{{"shutdown", sys.Shutdown}, {"down", sys.Down}} {
+		if math.IsNaN(x.v) || math.IsInf(x.v, 0) {
+			add(-1, x.field, "%s cost is %v, want a finite number", x.field, x.v)
 		}
 	}
 	if sys.Discount.IsZero() {
-		errs = append(errs, errors.New("system: the machine needs a discount"))
+		add(-1, "discount", "the machine needs a discount")
+	}
+	if states > MaxJointStates {
+		add(-1, "size", "%g joint states, more than %d", states, MaxJointStates)
+	}
+	if actions > MaxJointActions {
+		add(-1, "size", "%g joint actions, more than %d", actions, MaxJointActions)
 	}
 	return errors.Join(errs...)
 }
