@@ -59,7 +59,10 @@ func (a *app) solveSystem(cmd *cobra.Command, sf *systemFile, s *optimize.Settin
 	if err != nil {
 		return err
 	}
-	warm := sys.SeparateStart(sep)
+	warm, err := sys.SeparateStart(cmd.Context(), sep)
+	if err != nil {
+		return err
+	}
 	r, err := system.Solve(cmd.Context(), sys, &system.Settings{Tol: s.Tol, MaxSweeps: s.MaxIterations, Workers: workers, Start: warm})
 	if err != nil {
 		return err

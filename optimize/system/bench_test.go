@@ -29,7 +29,10 @@ func BenchmarkSolveSystem(b *testing.B) {
 				if err != nil {
 					b.Fatal(err)
 				}
-				start := sys.SeparateStart(sep)
+				start, err := sys.SeparateStart(context.Background(), sep)
+				if err != nil {
+					b.Fatal(err)
+				}
 				tol := 1e-6 * slices.Max(start)
 				r, err := Solve(context.Background(), sys, &Settings{Tol: tol, Start: start})
 				if err != nil {

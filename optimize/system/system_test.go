@@ -26,7 +26,7 @@ func TestSystemMatchesFlattened(t *testing.T) {
 	for trial := range 8 {
 		k := 2 + trial%2
 		sys := randomMachine(rng, k, 3+rng.IntN(2), 2+rng.IntN(2), 150, 300)
-		flat, err := sys.Flatten(1000)
+		flat, err := sys.Flatten(context.Background(), 1000)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -102,7 +102,11 @@ func TestSystemSavingOverSeparate(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	r, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6, Start: sys.SeparateStart(sep)})
+	start, err := sys.SeparateStart(context.Background(), sep)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6, Start: start})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -131,12 +135,19 @@ func TestSystemSavingOverSeparate(t *testing.T) {
 func TestSystemWarmStart(t *testing.T) {
 	rng := rand.New(rand.NewPCG(67, 68))
 	sys := randomMachine(rng, 3, 4, 3, 200, 500)
-	sep, _ := sys.Separate(context.Background())
+	sep, err := sys.Separate(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	start, err := sys.SeparateStart(context.Background(), sep)
+	if err != nil {
+		t.Fatal(err)
+	}
 	cold, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6})
 	if err != nil {
 		t.Fatal(err)
 	}
-	warm, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6, Start: sys.SeparateStart(sep), Workers: 1})
+	warm, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6, Start: start, Workers: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
