@@ -32,7 +32,11 @@ func (a *app) newCheck() *cobra.Command {
 					return err
 				}
 				n, acts := sys.Size()
-				bytes, _ := system.Cost(sys, 2)
+				est, err := sys.Estimate(&system.Settings{Workers: 2})
+				if err != nil {
+					return err
+				}
+				bytes := est.Bytes
 				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, about %s of memory to solve\n",
 					args[0], sf.Name, len(sf.Components), reports.Money(n, 0), reports.Money(acts, 0), byteSizeText(bytes))
 				return nil

@@ -11,27 +11,23 @@ import (
 	"fixpoint/reports"
 )
 
-// systemOpsPerSecond is a conservative rate of the structured sweep's
-// arithmetic on one core of the development machine, used only to
-// estimate solve times for the size guard (measured by
-// BenchmarkSolveSystem).
-const systemOpsPerSecond = 3e8
-
 // sizeGuard estimates memory and time of a joint solve and refuses
 // systems whose memory exceeds the limit, with the numbers and how to
 // shrink the model.
-func (a *app) sizeGuard(sf *systemFile, sys *system.Machine, workers int) error {
+func (a *app) sizeGuard(sf *systemFile, sys *system.Machine, set *system.Settings) error {
 	limit, err := a.number("max-memory-gib")
 	if err != nil {
 		return err
 	}
-	n, acts := sys.Size()
-	bytes, ops := system.Cost(sys, workers)
+	est, err := sys.Estimate(set)
+	if err != nil {
+		return &inputError{File: sf.Path, Msg: err.Error()}
+	}
+	n, acts, bytes := est.States, est.Actions, est.Bytes
 	if bytes <= limit*(1<<30) && n <= 5e7 && acts <= 1e6 {
 		return nil
 	}
-	// Time at 100 sweeps, a typical count with a warm start.
-	hours := 100 * ops / systemOpsPerSecond / float64(max(workers, 1)) / 3600
+	hours := est.Seconds / 3600
 	return &inputError{File: sf.Path, Path: "components", Msg: fmt.Sprintf(
 		"the joint model is too large: %s joint states and %s joint actions need about %s of memory (limit %s GiB, --max-memory-gib) and about %.1f hours per certified solve; "+
 			"shrink it: fewer components in one system (solve weakly coupled ones apart), coarser condition scales (merge neighbouring states), or fewer actions per component",
@@ -52,7 +48,7 @@ func (a *app) solveSystem(cmd *cobra.Command, sf *systemFile, s *optimize.Settin
 	if err != nil {
 		return err
 	}
-	if err := a.sizeGuard(sf, sys, workers); err != nil {
+	if err := a.sizeGuard(sf, sys, &system.Settings{Tol: s.Tol, MaxSweeps: s.MaxIterations, Workers: workers}); err != nil {
 		return err
 	}
 	sep, err := sys.Separate(cmd.Context())

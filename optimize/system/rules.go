@@ -318,31 +318,3 @@ func (sys *Machine) Rules(policy []int32) ([]AloneRule, []GroupRule) {
 	}
 	return alone, groups
 }
-
-// Cost estimates what Solve needs: memory in bytes for the
-// given number of workers, and arithmetic operations per sweep.
-func Cost(sys *Machine, workers int) (bytes, opsPerSweep float64) {
-	n, acts := sys.Size()
-	k := float64(len(sys.Components))
-	// Per worker: K+1 product and K+1 cost buffers of n float64, best and
-	// second best (n float64 and n int32 each). Shared: v, the result's
-	// five n-vectors, two policies, the base costs.
-	perWorker := (2*(k+1)+2)*8*n + 2*4*n
-	bytes = float64(max(workers, 1))*perWorker + 8*8*n + 2*4*n
-	nodes, prefix := 0.0, 1.0
-	for _, c := range sys.Components {
-		nnz := 0
-		rows := 0
-		for _, a := range c.Model.Actions {
-			for _, r := range a.Rows {
-				nnz += len(r)
-				if r != nil {
-					rows++
-				}
-			}
-		}
-		prefix *= float64(len(c.Model.Actions))
-		nodes += prefix * (2 + float64(nnz)/float64(max(rows, 1)))
-	}
-	return bytes, n * (nodes + acts)
-}
