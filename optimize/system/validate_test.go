@@ -121,3 +121,30 @@ func TestSolveRefusesInvalidMachine(t *testing.T) {
 		t.Errorf("Solve(nil model) error %v, want a *Fault at model", err)
 	}
 }
+
+// Solve and EvaluateProduct refuse inputs of the wrong shape instead of
+// reading past them.
+func TestShapeErrors(t *testing.T) {
+	m := randomMachine(rand.New(rand.NewPCG(75, 76)), 2, 3, 2, 100, 200)
+	ctx := t.Context()
+	tests := []struct {
+		name string
+		call func() error
+	}{
+		{"Solve, short start", func() error { _, err := Solve(ctx, m, &Settings{Start: make([]float64, 8)}); return err }},
+		{"EvaluateProduct, one policy", func() error { _, err := m.EvaluateProduct(ctx, [][]int{{0, 0, 1}}, nil, 1); return err }},
+		{"EvaluateProduct, short policy", func() error { _, err := m.EvaluateProduct(ctx, [][]int{{0, 0, 1}, {0, 1}}, nil, 1); return err }},
+		{"EvaluateProduct, passive when unsafe", func() error { _, err := m.EvaluateProduct(ctx, [][]int{{0, 0, 0}, {0, 0, 1}}, nil, 1); return err }},
+		{"EvaluateProduct, action out of range", func() error { _, err := m.EvaluateProduct(ctx, [][]int{{0, 0, 7}, {0, 0, 1}}, nil, 1); return err }},
+		{"EvaluateProduct, short start", func() error {
+			_, err := m.EvaluateProduct(ctx, [][]int{{0, 0, 1}, {0, 0, 1}}, make([]float64, 3), 1)
+			return err
+		}},
+		{"SeparateStart, one result", func() error { _, err := m.SeparateStart(ctx, nil); return err }},
+	}
+	for _, tt := range tests {
+		if err := tt.call(); err == nil || err.Error()[:8] != "system: " {
+			t.Errorf("%s: error %v, want a \"system: \" error", tt.name, err)
+		}
+	}
+}
