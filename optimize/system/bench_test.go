@@ -29,14 +29,7 @@ func BenchmarkSolveSystem(b *testing.B) {
 			states, actions := sys.Size()
 			var sweeps int
 			for b.Loop() {
-				sep, err := sys.Separate(context.Background())
-				if err != nil {
-					b.Fatal(err)
-				}
-				start, err := sys.SeparateStart(context.Background(), sep)
-				if err != nil {
-					b.Fatal(err)
-				}
+				start := separate(b, sys).start
 				tol := 1e-6 * slices.Max(start)
 				r, err := Solve(context.Background(), sys, &Settings{Tol: tol, Start: start})
 				if err != nil {

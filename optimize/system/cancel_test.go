@@ -47,14 +47,8 @@ func pollMachine() *Machine {
 // once for a context cancelled before the call.
 func TestCancelledBeforeTheCall(t *testing.T) {
 	sys := pollMachine()
-	sep, err := sys.Separate(context.Background())
-	if err != nil {
-		t.Fatal(err)
-	}
-	pols := make([][]int, len(sep))
-	for i, r := range sep {
-		pols[i] = r.Policy
-	}
+	sp := separate(t, sys)
+	sep, pols := sp.sep, sp.pols
 	ctx, cancel := context.WithCancel(context.Background())
 	cancel()
 	calls := []struct {
@@ -123,14 +117,7 @@ func TestSweepLooksAtContextOften(t *testing.T) {
 // next look.
 func TestEvaluateProductCancelledMidway(t *testing.T) {
 	sys := pollMachine()
-	sep, err := sys.Separate(context.Background())
-	if err != nil {
-		t.Fatal(err)
-	}
-	pols := make([][]int, len(sep))
-	for i, r := range sep {
-		pols[i] = r.Policy
-	}
+	pols := separate(t, sys).pols
 	looks := newCountingContext(0)
 	ev, err := sys.EvaluateProduct(looks, pols, nil, 1e-9)
 	if err != nil {

@@ -27,15 +27,8 @@ func TestEstimateBoundsSweeps(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			sep, err := sys.Separate(ctx)
-			if err != nil {
-				t.Fatal(err)
-			}
-			start, err := sys.SeparateStart(ctx, sep)
-			if err != nil {
-				t.Fatal(err)
-			}
-			warm, err := Solve(ctx, sys, &Settings{Tol: tol, Workers: 2, Start: start})
+			sp := separate(t, sys)
+			warm, err := Solve(ctx, sys, &Settings{Tol: tol, Workers: 2, Start: sp.start})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -43,11 +36,7 @@ func TestEstimateBoundsSweeps(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			pols := make([][]int, len(sep))
-			for c, r := range sep {
-				pols[c] = r.Policy
-			}
-			ev, err := sys.EvaluateProduct(ctx, pols, start, tol)
+			ev, err := sys.EvaluateProduct(ctx, sp.pols, sp.start, tol)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -84,22 +73,11 @@ func TestEstimateBoundsMemory(t *testing.T) {
 		}
 		var before, after runtime.MemStats
 		runtime.ReadMemStats(&before)
-		sep, err := tt.sys.Separate(ctx)
-		if err != nil {
+		sp := separate(t, tt.sys)
+		if _, err := Solve(ctx, tt.sys, &Settings{Workers: tt.workers, Start: sp.start, MaxSweeps: 1}); err != nil {
 			t.Fatal(err)
 		}
-		start, err := tt.sys.SeparateStart(ctx, sep)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if _, err := Solve(ctx, tt.sys, &Settings{Workers: tt.workers, Start: start, MaxSweeps: 1}); err != nil {
-			t.Fatal(err)
-		}
-		pols := make([][]int, len(sep))
-		for c, r := range sep {
-			pols[c] = r.Policy
-		}
-		if _, err := tt.sys.EvaluateProduct(ctx, pols, start, 1); err != nil {
+		if _, err := tt.sys.EvaluateProduct(ctx, sp.pols, sp.start, 1); err != nil {
 			t.Fatal(err)
 		}
 		runtime.ReadMemStats(&after)
