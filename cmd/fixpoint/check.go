@@ -40,9 +40,13 @@ func (a *app) newCheck() *cobra.Command {
 					return err
 				}
 				n, acts := m.Size()
-				bytes, _ := system.Cost(m, 2)
-				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, about %s of memory to solve\n",
-					path, f.System.Name, len(f.System.Components), reports.Money(n, 0), reports.Money(acts, 0), byteSizeText(bytes))
+				est, err := m.Estimate(&system.Settings{})
+				if err != nil {
+					return &modelfile.Fault{File: path, Msg: modelfile.Plain(err)}
+				}
+				bytes := est.Bytes
+				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, up to %s of memory and about %s to solve (upper bounds)\n",
+					path, f.System.Name, len(f.System.Components), reports.Money(n, 0), reports.Money(acts, 0), byteSizeText(bytes), durationText(est.Seconds))
 			default:
 				c := f.Class
 				disc := "average criterion (no discounting)"

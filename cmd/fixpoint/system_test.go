@@ -120,3 +120,28 @@ func TestSystemSizeGuard(t *testing.T) {
 		}
 	}
 }
+
+// A model that fits in memory but whose solve may take hours is refused
+// too, unless the time limit is raised; the limits themselves must be
+// positive.
+func TestSystemTimeGuard(t *testing.T) {
+	data, _ := os.ReadFile(demoSystem)
+	text := string(data)
+	comp := text[strings.Index(text, "  - name: wire_rope"):strings.Index(text, "  - name: brake")]
+	var b strings.Builder
+	b.WriteString(text[:strings.Index(text, "components:")] + "components:\n")
+	for i := range 9 {
+		b.WriteString(strings.Replace(comp, "name: wire_rope", "name: rope"+string(rune('a'+i)), 1))
+	}
+	path := filepath.Join(t.TempDir(), "slow.yaml")
+	os.WriteFile(path, []byte(b.String()), 0o644)
+	code, _, stderr := runCLI(t, "solve", path, "--max-memory-gib", "64")
+	if code != exitInput || !strings.Contains(stderr, "over the time limit of 1.0 hours (--max-hours)") {
+		t.Errorf("exit %d, want the time limit: %s", code, stderr)
+	}
+	for _, bad := range [][]string{{"--max-memory-gib", "0"}, {"--max-memory-gib", "-1"}, {"--max-hours", "0"}} {
+		if code, _, stderr := runCLI(t, append([]string{"solve", demoSystem}, bad...)...); code != exitUsage {
+			t.Errorf("%v: exit %d, want 2: %s", bad, code, stderr)
+		}
+	}
+}

@@ -2,12 +2,16 @@ package system
 
 import (
 	"context"
-	"fixpoint/optimize"
-	"fixpoint/optimize/internal/mdptest"
 	"fmt"
 	"math/rand/v2"
+	"runtime"
 	"slices"
 	"testing"
+
+	"fixpoint/condition"
+	"fixpoint/costs"
+	"fixpoint/optimize"
+	"fixpoint/optimize/internal/mdptest"
 )
 
 // BenchmarkSolveSystem times a certified joint solve (gap at most 1e-6 of
@@ -25,11 +29,7 @@ func BenchmarkSolveSystem(b *testing.B) {
 			states, actions := sys.Size()
 			var sweeps int
 			for b.Loop() {
-				sep, err := sys.Separate(context.Background())
-				if err != nil {
-					b.Fatal(err)
-				}
-				start := sys.SeparateStart(sep)
+				start := separate(b, sys).start
 				tol := 1e-6 * slices.Max(start)
 				r, err := Solve(context.Background(), sys, &Settings{Tol: tol, Start: start})
 				if err != nil {
@@ -75,5 +75,79 @@ func BenchmarkMemoryBandwidth(b *testing.B) {
 	b.SetBytes(int64(2 * 8 * len(src)))
 	for b.Loop() {
 		copy(dst, src)
+	}
+}
+
+// stairMachine is an invented machine of k identical components with n
+// condition states (the last unsafe, running cost 10(x+1)^2) and m
+// actions: leave (passive: stay 0.7, one state worse 0.3) and a = 1..m-1
+// at cost 100a, moving a states better with probability 0.9; shutdown 500,
+// down 1000, 5% a year over one-year periods. It has the shape of the
+// system files of the size-guard study.
+func stairMachine(k, n, m int) *Machine {
+	sys := &Machine{Shutdown: 500, Down: 1000, DownOnUnsafe: true, Discount: mdptest.Rate(0.05, 1)}
+	for c := range k {
+		model := &condition.Model{PeriodYears: 1}
+		sched := &costs.Schedule{Running: make([]float64, n), Action: make([][]float64, m)}
+		for x := range n {
+			model.States = append(model.States, condition.State{Name: fmt.Sprint("s", x), Unsafe: x == n-1})
+			sched.Running[x] = 10 * float64((x+1)*(x+1))
+		}
+		for a := range m {
+			act := condition.Action{Name: fmt.Sprint("a", a), Passive: a == 0, Rows: make([][]condition.Entry, n)}
+			sched.Action[a] = make([]float64, n)
+			for x := range n {
+				switch to := max(0, x-a); {
+				case a == 0 && x == n-1:
+				case a == 0:
+					act.Rows[x] = []condition.Entry{{To: x, P: 0.7}, {To: x + 1, P: 0.3}}
+				case to == x:
+					act.Rows[x] = []condition.Entry{{To: x, P: 1}}
+				default:
+					act.Rows[x] = []condition.Entry{{To: to, P: 0.9}, {To: x, P: 0.1}}
+				}
+				sched.Action[a][x] = 100 * float64(a)
+			}
+			model.Actions = append(model.Actions, act)
+		}
+		sys.Components = append(sys.Components, Component{Name: fmt.Sprint("c", c), Model: model, Costs: sched})
+	}
+	return sys
+}
+
+// BenchmarkSweep times single sweeps of stair machines from cache-sized to
+// memory-sized joint models, on one worker and on all, and reports the
+// throughput in Estimate's element operations: the figures behind
+// SweepOpsPerSecond and ParallelEfficiency.
+func BenchmarkSweep(b *testing.B) {
+	for _, size := range []struct{ k, n, m int }{{4, 8, 2}, {6, 6, 2}, {5, 12, 2}, {8, 5, 2}, {10, 4, 2}, {6, 12, 2}} {
+		sys := stairMachine(size.k, size.n, size.m)
+		for _, workers := range []int{1, runtime.GOMAXPROCS(0)} {
+			b.Run(fmt.Sprintf("%dx%dx%d/workers=%d", size.k, size.n, size.m, workers), func(b *testing.B) {
+				est, err := sys.Estimate(&Settings{Workers: workers})
+				if err != nil {
+					b.Fatal(err)
+				}
+				j, err := newJoint(context.Background(), sys)
+				if err != nil {
+					b.Fatal(err)
+				}
+				states := make([]*sweepState, est.Workers)
+				for w := range states {
+					states[w] = j.newSweepState()
+				}
+				v := make([]float64, j.n)
+				b.ResetTimer()
+				for b.Loop() {
+					if err := j.sweep(context.Background(), v, states); err != nil {
+						b.Fatal(err)
+					}
+				}
+				sec := b.Elapsed().Seconds() / float64(b.N)
+				b.ReportMetric(est.States, "states")
+				b.ReportMetric(est.OpsPerSweep/sec/1e6, "Mops/s")
+				b.ReportMetric(est.OpsPerSweep/SweepOpsPerSecond/(1+float64(est.Workers-1)*ParallelEfficiency)/sec, "estimate/actual")
+			})
+		}
 	}
 }

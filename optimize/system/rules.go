@@ -35,12 +35,15 @@ func (sys *Machine) componentProblem(i int) *optimize.Problem {
 	return p
 }
 
-// Separate solves every component alone (see componentProblem) and
-// returns their results: the policies a planner would use without
-// grouping work.
+// Separate solves every component alone (see componentProblem) by policy
+// iteration and returns their results: the policies a planner would use
+// without grouping work.
 func (sys *Machine) Separate(ctx context.Context) ([]*optimize.Result, error) {
 	out := make([]*optimize.Result, len(sys.Components))
 	for i := range sys.Components {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		r, err := optimize.Solve(ctx, sys.componentProblem(i), &optimize.Settings{Method: optimize.PolicyIteration})
 		if err != nil {
 			return nil, fmt.Errorf("system: component %q alone: %w", sys.Components[i].Name, err)
@@ -50,17 +53,25 @@ func (sys *Machine) Separate(ctx context.Context) ([]*optimize.Result, error) {
 	return out, nil
 }
 
-// SeparateStart returns Σ_k v_k(x_k), the sum of the separate components'
-// values: a good first iterate for the joint value iteration.
-func (sys *Machine) SeparateStart(sep []*optimize.Result) []float64 {
+// SeparateStart returns v0(s) = Σ_k v_k(x_k), the sum of the separate
+// components' values (sep from Separate): a good first iterate for the
+// joint value iteration, within (K-1)·(Shutdown + Down) of its first
+// Bellman update (see Machine.Estimate). O(n·K), cancellable.
+func (sys *Machine) SeparateStart(ctx context.Context, sep []*optimize.Result) ([]float64, error) {
+	if len(sep) != len(sys.Components) {
+		return nil, fmt.Errorf("system: %d separate results for %d components", len(sep), len(sys.Components))
+	}
 	j := newJointLayout(sys)
 	v := make([]float64, j.n)
-	for s := range v {
+	err := j.eachState(ctx, func(s int, xs []int) {
 		for i, r := range sep {
-			v[s] += r.Value[j.coord(s, i)]
+			v[s] += r.Value[xs[i]]
 		}
+	})
+	if err != nil {
+		return nil, err
 	}
-	return v
+	return v, nil
 }
 
 // ProductEvaluation is the value of a product policy (each component's
@@ -73,17 +84,40 @@ type ProductEvaluation struct {
 
 // EvaluateProduct evaluates the product policy policies[k][x] in the joint
 // system (shutdown charged once per period with work, down cost once) by
-// iterative policy evaluation: its transition operator is the Kronecker
-// product of the component matrices, so one sweep is K mode products. It
-// stops when the MacQueen bracket is narrower than tol.
+// iterative policy evaluation from start (nil for zero): its transition
+// operator is the Kronecker product of the component matrices, so one
+// sweep is K mode products, O(n·Σ_k (1 + nnz_k/n_k)). It stops when the
+// MacQueen bracket γ/(1-γ)·span(T_π v - v) is at most tol, and looks at
+// ctx every few thousand joint states.
 func (sys *Machine) EvaluateProduct(ctx context.Context, policies [][]int, start []float64, tol float64) (*ProductEvaluation, error) {
-	j := newJoint(sys)
+	if err := sys.Validate(); err != nil {
+		return nil, err
+	}
+	j, err := newJoint(ctx, sys)
+	if err != nil {
+		return nil, err
+	}
+	if len(policies) != j.k {
+		return nil, fmt.Errorf("system: %d component policies for %d components", len(policies), j.k)
+	}
+	for i, pol := range policies {
+		if len(pol) != j.dims[i] {
+			return nil, fmt.Errorf("system: component %q: policy has %d actions, want one per state (%d)", sys.Components[i].Name, len(pol), j.dims[i])
+		}
+		for x, a := range pol {
+			if a < 0 || a >= j.acts[i] || j.rows[i][a][x] == nil {
+				return nil, fmt.Errorf("system: component %q: policy takes action %d, inadmissible in state %d", sys.Components[i].Name, a, x)
+			}
+		}
+	}
+	if start != nil && len(start) != j.n {
+		return nil, fmt.Errorf("system: start has %d values, want one per joint state (%d)", len(start), j.n)
+	}
 	c := make([]float64, j.n)
-	for s := range j.n {
+	err = j.eachState(ctx, func(s int, xs []int) {
 		c[s] = j.base[s]
 		worked := false
-		for i := range j.k {
-			x := j.coord(s, i)
+		for i, x := range xs {
 			a := policies[i][x]
 			c[s] += j.acost[i][a][x]
 			worked = worked || a != j.passive[i]
@@ -91,23 +125,28 @@ func (sys *Machine) EvaluateProduct(ctx context.Context, policies [][]int, start
 		if worked {
 			c[s] += sys.Shutdown
 		}
-		if math.IsInf(c[s], 0) {
-			return nil, fmt.Errorf("system: product policy takes an inadmissible action in joint state %d", s)
+	})
+	if err != nil {
+		return nil, err
+	}
+	rows := make([][][]condition.Entry, j.k)
+	for i, pol := range policies {
+		rows[i] = make([][]condition.Entry, j.dims[i])
+		for x, a := range pol {
+			rows[i][x] = j.rows[i][a][x]
 		}
 	}
 	v := make([]float64, j.n)
 	copy(v, start)
 	a, b := make([]float64, j.n), make([]float64, j.n)
 	g := sys.Discount.Factor()
+	p := &poll{ctx: ctx}
 	for sweep := 1; sweep <= optimize.DefaultValueSweeps; sweep++ {
-		if sweep%16 == 1 {
-			if err := ctx.Err(); err != nil {
-				return nil, err
-			}
-		}
 		copy(a, v)
 		for i := range j.k {
-			j.modeProductPolicy(b, a, i, policies[i])
+			if err := j.modeProduct(p, b, a, i, rows[i]); err != nil {
+				return nil, err
+			}
 			a, b = b, a
 		}
 		lo, hi := math.Inf(1), math.Inf(-1)
@@ -116,6 +155,12 @@ func (sys *Machine) EvaluateProduct(ctx context.Context, policies [][]int, start
 			d := tv - v[s]
 			lo, hi = min(lo, d), max(hi, d)
 			a[s] = tv
+		}
+		if math.IsNaN(hi-lo) || math.IsInf(hi-lo, 0) {
+			return nil, errNonFinite
+		}
+		if err := ctx.Err(); err != nil {
+			return nil, err
 		}
 		if g/(1-g)*(hi-lo) <= tol || sweep == optimize.DefaultValueSweeps {
 			out := &ProductEvaluation{Value: make([]float64, j.n), Lower: make([]float64, j.n), Upper: make([]float64, j.n), Sweeps: sweep}
@@ -131,34 +176,21 @@ func (sys *Machine) EvaluateProduct(ctx context.Context, policies [][]int, start
 	return nil, errNonFinite
 }
 
-// modeProductPolicy is modeProduct with the action chosen per condition of
-// component i by policy.
-func (j *joint) modeProductPolicy(out, in []float64, i int, policy []int) {
-	r := j.strides[i]
-	block := r * j.dims[i]
-	for l := 0; l < j.n; l += block {
-		for x := range j.dims[i] {
-			dst := out[l+x*r : l+x*r+r]
-			clear(dst)
-			for _, e := range j.rows[i][policy[x]][x] {
-				src := in[l+e.To*r : l+e.To*r+r]
-				for t := range dst {
-					dst[t] += e.P * src[t]
-				}
-			}
-		}
-	}
-}
-
 // Flatten returns the joint model as an explicit optimize.Problem (every joint
 // state and admissible joint action with its Kronecker row), for checking
 // the structured solver on small systems. It refuses more than maxStates
-// joint states.
-func (sys *Machine) Flatten(maxStates int) (*optimize.Problem, error) {
+// joint states, and looks at ctx once per joint state.
+func (sys *Machine) Flatten(ctx context.Context, maxStates int) (*optimize.Problem, error) {
 	if err := sys.Validate(); err != nil {
 		return nil, err
 	}
-	j := newJoint(sys)
+	if n, _ := sys.Size(); n > float64(maxStates) {
+		return nil, fmt.Errorf("system: %g joint states, more than %d to flatten", n, maxStates)
+	}
+	j, err := newJoint(ctx, sys)
+	if err != nil {
+		return nil, err
+	}
 	if j.n > maxStates {
 		return nil, fmt.Errorf("system: %d joint states, more than %d to flatten", j.n, maxStates)
 	}
@@ -170,6 +202,9 @@ func (sys *Machine) Flatten(maxStates int) (*optimize.Problem, error) {
 		p.Actions = append(p.Actions, sys.ActionName(a))
 	}
 	for s := range j.n {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		for a := range j.nActs {
 			cost := j.base[s]
 			row := []condition.Entry{{To: 0, P: 1}}
@@ -282,32 +317,4 @@ func (sys *Machine) Rules(policy []int32) ([]AloneRule, []GroupRule) {
 		}
 	}
 	return alone, groups
-}
-
-// Cost estimates what Solve needs: memory in bytes for the
-// given number of workers, and arithmetic operations per sweep.
-func Cost(sys *Machine, workers int) (bytes, opsPerSweep float64) {
-	n, acts := sys.Size()
-	k := float64(len(sys.Components))
-	// Per worker: K+1 product and K+1 cost buffers of n float64, best and
-	// second best (n float64 and n int32 each). Shared: v, the result's
-	// five n-vectors, two policies, the base costs.
-	perWorker := (2*(k+1)+2)*8*n + 2*4*n
-	bytes = float64(max(workers, 1))*perWorker + 8*8*n + 2*4*n
-	nodes, prefix := 0.0, 1.0
-	for _, c := range sys.Components {
-		nnz := 0
-		rows := 0
-		for _, a := range c.Model.Actions {
-			for _, r := range a.Rows {
-				nnz += len(r)
-				if r != nil {
-					rows++
-				}
-			}
-		}
-		prefix *= float64(len(c.Model.Actions))
-		nodes += prefix * (2 + float64(nnz)/float64(max(rows, 1)))
-	}
-	return bytes, n * (nodes + acts)
 }

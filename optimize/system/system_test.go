@@ -10,6 +10,31 @@ import (
 	"testing"
 )
 
+// separated is what the components alone give the joint solve: their
+// results, the warm start Σ_k v_k(x_k) and their policies.
+type separated struct {
+	sep   []*optimize.Result
+	start []float64
+	pols  [][]int
+}
+
+func separate(tb testing.TB, sys *Machine) separated {
+	tb.Helper()
+	sep, err := sys.Separate(context.Background())
+	if err != nil {
+		tb.Fatal(err)
+	}
+	start, err := sys.SeparateStart(context.Background(), sep)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	pols := make([][]int, len(sep))
+	for i, r := range sep {
+		pols[i] = r.Policy
+	}
+	return separated{sep, start, pols}
+}
+
 func randomMachine(rng *rand.Rand, k, n, m int, shutdown, down float64) *Machine {
 	sys := &Machine{Shutdown: shutdown, Down: down, DownOnUnsafe: down > 0, Discount: mdptest.Factor(0.95, 0.5)}
 	for i := range k {
@@ -26,7 +51,7 @@ func TestSystemMatchesFlattened(t *testing.T) {
 	for trial := range 8 {
 		k := 2 + trial%2
 		sys := randomMachine(rng, k, 3+rng.IntN(2), 2+rng.IntN(2), 150, 300)
-		flat, err := sys.Flatten(1000)
+		flat, err := sys.Flatten(context.Background(), 1000)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -98,19 +123,12 @@ func TestSystemDecomposesWithoutSharedCosts(t *testing.T) {
 func TestSystemSavingOverSeparate(t *testing.T) {
 	rng := rand.New(rand.NewPCG(65, 66))
 	sys := randomMachine(rng, 3, 4, 3, 400, 1000)
-	sep, err := sys.Separate(context.Background())
+	sp := separate(t, sys)
+	r, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6, Start: sp.start})
 	if err != nil {
 		t.Fatal(err)
 	}
-	r, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6, Start: sys.SeparateStart(sep)})
-	if err != nil {
-		t.Fatal(err)
-	}
-	pols := make([][]int, len(sep))
-	for i, s := range sep {
-		pols[i] = s.Policy
-	}
-	ev, err := sys.EvaluateProduct(context.Background(), pols, nil, 1e-6)
+	ev, err := sys.EvaluateProduct(context.Background(), sp.pols, nil, 1e-6)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -131,12 +149,12 @@ func TestSystemSavingOverSeparate(t *testing.T) {
 func TestSystemWarmStart(t *testing.T) {
 	rng := rand.New(rand.NewPCG(67, 68))
 	sys := randomMachine(rng, 3, 4, 3, 200, 500)
-	sep, _ := sys.Separate(context.Background())
+	start := separate(t, sys).start
 	cold, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6})
 	if err != nil {
 		t.Fatal(err)
 	}
-	warm, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6, Start: sys.SeparateStart(sep), Workers: 1})
+	warm, err := Solve(context.Background(), sys, &Settings{Tol: 1e-6, Start: start, Workers: 1})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -85,8 +85,9 @@ type Solve struct {
 	Criterion string // "", discounted or average
 	Target    string
 	Workers   int
-	// MaxMemoryGiB refuses joint models needing more memory.
-	MaxMemoryGiB float64
+	// MaxMemoryGiB and MaxHours refuse joint models needing more memory
+	// or (at most) more time.
+	MaxMemoryGiB, MaxHours float64
 }
 
 // AddCriterion declares --criterion.
@@ -103,6 +104,7 @@ func AddTarget(f *pflag.FlagSet) {
 func AddSystem(f *pflag.FlagSet) {
 	f.String("workers", "0", "goroutines for a system's joint solve; 0 = all cores (`n`)")
 	f.String("max-memory-gib", "4", "refuse joint models needing more memory than this (`GiB`)")
+	f.String("max-hours", "1", "refuse joint models whose solve may take longer than this (`hours`, an upper bound on the time)")
 }
 
 // Criterion reads --criterion.
@@ -138,6 +140,13 @@ func (s *Source) Solve() (st Solve, err error) {
 	}
 	if !(st.MaxMemoryGiB > 0) || st.MaxMemoryGiB > 1<<20 {
 		err = Errorf("%s: %g is not a memory limit in (0, 1048576] GiB", where("max-memory-gib"), st.MaxMemoryGiB)
+		return
+	}
+	if st.MaxHours, err = s.number("max-hours"); err != nil {
+		return
+	}
+	if !(st.MaxHours > 0) || st.MaxHours > 1e4 {
+		err = Errorf("%s: %g is not a time limit in (0, 10000] hours", where("max-hours"), st.MaxHours)
 	}
 	return
 }
