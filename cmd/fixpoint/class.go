@@ -169,19 +169,25 @@ func (a *app) safetyWarnings(r *classRun, policy []int) []string {
 // uncertified returns the exit-3 error for a result whose gap is above
 // its tolerance, and nil for a certified one.
 func uncertified(r *optimize.Result) error {
-	if r.Status == optimize.Certified {
+	return certified(r.Status, r.Gap, r.Tol, r.Rounding, r.Method, r.Iterations)
+}
+
+// certified is uncertified for any certified solve: its status, proven
+// gap, tolerance, rounding allowance, method and iterations.
+func certified(status optimize.Status, gap, tol, rounding float64, method optimize.Method, iterations int) error {
+	if status == optimize.Certified {
 		return nil
 	}
-	if r.Gap < 4*r.Rounding {
+	if gap < 4*rounding {
 		return &uncertifiedError{fmt.Sprintf(
 			"the answer is not certified: proven gap %.3g is above the tolerance %.3g, and %.3g of it is the allowance for floating-point rounding at these values and this discount factor; a tolerance below that cannot be proven in float64: loosen --tol",
-			r.Gap, r.Tol, r.Rounding)}
+			gap, tol, rounding)}
 	}
 	remedy := "raise --max-iterations, loosen --tol or use --method policy"
-	if r.Method == optimize.PolicyIteration {
+	if method == optimize.PolicyIteration {
 		remedy = "raise --max-iterations or loosen --tol"
 	}
 	return &uncertifiedError{fmt.Sprintf(
 		"the answer is not certified: proven gap %.3g is above the tolerance %.3g after %d iterations; %s",
-		r.Gap, r.Tol, r.Iterations, remedy)}
+		gap, tol, iterations, remedy)}
 }

@@ -92,6 +92,9 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
+	if f.Class.Inspection != nil {
+		return a.forecastInspection(cmd, f.Class, start, st)
+	}
 	years := st.Years
 	if years == 0 {
 		years = 10

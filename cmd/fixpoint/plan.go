@@ -100,6 +100,9 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 		return err
 	}
 	view := &reports.PlanReport{Header: fleetHeader(ff), Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Fleet.Gap, ff.Currency)}
+	if view.Inspections, err = a.fleetInspections(cmd.Context(), ff, len(f.Budget)); err != nil {
+		return err
+	}
 	if st.Simulate > 0 {
 		if view.Practice, err = fleet.Simulate(cmd.Context(), f, p, fleet.FollowPractice, st.Simulate, st.Seed, 0, nil); err != nil {
 			return err

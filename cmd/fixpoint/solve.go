@@ -84,6 +84,9 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 	if err := a.src.NotFor("a class config", " (they size the joint model of a system file)", "workers", "max-memory-gib"); err != nil {
 		return err
 	}
+	if f.Class.Inspection != nil {
+		return a.solveInspection(cmd, f.Class, st)
+	}
 	r, err := prepare(f.Class, st.Override, st.Criterion)
 	if err != nil {
 		return err
