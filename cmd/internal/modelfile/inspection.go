@@ -40,7 +40,7 @@ const (
 	maxInspectionEntries = 4e7
 	// maxInspectionWork bounds (admissible pairs)·K·(n + passive entries),
 	// the steps of the unseen walks.
-	maxInspectionWork = 4e9
+	maxInspectionWork = 1e9
 )
 
 var inspectionKeys = []string{"cost", "downtime_cost", "intervals", "hidden", "risk_cost", "max_interval_years"}
