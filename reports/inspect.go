@@ -340,21 +340,26 @@ type inspectChoiceJSON struct {
 	Q float64 `json:"q"`
 }
 
+// inspectAdviceJSON is the advice of one state with its value and bounds.
+type inspectAdviceJSON struct {
+	State             string  `json:"state"`
+	Unsafe            bool    `json:"unsafe"`
+	Hidden            bool    `json:"hidden"`
+	Action            string  `json:"action"`
+	InspectAfter      int     `json:"inspect_after"`
+	InspectAfterYears float64 `json:"inspect_after_years"`
+	Advice            string  `json:"advice"`
+	Value             float64 `json:"value"`
+	Lower             float64 `json:"lower"`
+	Upper             float64 `json:"upper"`
+}
+
 type inspectStateJSON struct {
-	State             string               `json:"state"`
-	Unsafe            bool                 `json:"unsafe"`
-	Hidden            bool                 `json:"hidden"`
-	Action            string               `json:"action"`
-	InspectAfter      int                  `json:"inspect_after"`
-	InspectAfterYears float64              `json:"inspect_after_years"`
-	Advice            string               `json:"advice"`
-	Value             float64              `json:"value"`
-	Lower             float64              `json:"lower"`
-	Upper             float64              `json:"upper"`
-	RunnerUp          *inspectDecisionJSON `json:"runner_up"`
-	Margin            *float64             `json:"margin"`
-	Decisions         []inspectChoiceJSON  `json:"decisions"`
-	Tied              []inspectChoiceJSON  `json:"tied,omitempty"`
+	inspectAdviceJSON
+	RunnerUp  *inspectDecisionJSON `json:"runner_up"`
+	Margin    *float64             `json:"margin"`
+	Decisions []inspectChoiceJSON  `json:"decisions"`
+	Tied      []inspectChoiceJSON  `json:"tied,omitempty"`
 }
 
 type inspectLongRunJSON struct {
@@ -467,10 +472,7 @@ func (v *InspectionAdvice) WriteJSON(w io.Writer) error {
 		tied[t.State] = t.Choices
 	}
 	for s := range p.States {
-		c := p.Choices[s][r.Policy[s]]
-		st := inspectStateJSON{State: p.States[s], Unsafe: p.Unsafe[s], Hidden: p.Hidden[s], Action: p.Actions[c.Action],
-			InspectAfter: c.Interval, InspectAfterYears: p.Years(c.Interval), Advice: Decision(p, c),
-			Value: r.Value[s], Lower: r.Lower[s], Upper: r.Upper[s], Margin: num(r.Margin[s])}
+		st := inspectStateJSON{inspectAdviceJSON: stateAdviceJSON(p, r, s), Margin: num(r.Margin[s])}
 		if i := r.RunnerUp[s]; i >= 0 {
 			d := v.decisionJSON(p.Choices[s][i])
 			st.RunnerUp = &d
@@ -655,13 +657,18 @@ func calendarYears(p *inspect.Problem, cal *inspect.Calendar) []calendarYearJSON
 	return out
 }
 
-func adviceJSONList(p *inspect.Problem, r *inspect.Result) []inspectStateJSON {
-	out := make([]inspectStateJSON, len(p.States))
+// stateAdviceJSON is the advice of state s.
+func stateAdviceJSON(p *inspect.Problem, r *inspect.Result, s int) inspectAdviceJSON {
+	c := p.Choices[s][r.Policy[s]]
+	return inspectAdviceJSON{State: p.States[s], Unsafe: p.Unsafe[s], Hidden: p.Hidden[s], Action: p.Actions[c.Action],
+		InspectAfter: c.Interval, InspectAfterYears: p.Years(c.Interval), Advice: Decision(p, c),
+		Value: r.Value[s], Lower: r.Lower[s], Upper: r.Upper[s]}
+}
+
+func adviceJSONList(p *inspect.Problem, r *inspect.Result) []inspectAdviceJSON {
+	out := make([]inspectAdviceJSON, len(p.States))
 	for s := range p.States {
-		c := p.Choices[s][r.Policy[s]]
-		out[s] = inspectStateJSON{State: p.States[s], Unsafe: p.Unsafe[s], Hidden: p.Hidden[s], Action: p.Actions[c.Action],
-			InspectAfter: c.Interval, InspectAfterYears: p.Years(c.Interval), Advice: Decision(p, c),
-			Value: r.Value[s], Lower: r.Lower[s], Upper: r.Upper[s], Margin: num(r.Margin[s])}
+		out[s] = stateAdviceJSON(p, r, s)
 	}
 	return out
 }
@@ -674,18 +681,18 @@ func (v *InspectionCalendar) WriteJSON(w io.Writer) error {
 		start[p.States[s]] = x
 	}
 	out := struct {
-		Model          string             `json:"model"`
-		Currency       string             `json:"currency"`
-		PeriodYears    float64            `json:"period_years"`
-		DiscountFactor float64            `json:"discount_factor"`
-		HorizonYears   int                `json:"horizon_years"`
-		Start          map[string]float64 `json:"start"`
-		Advice         []inspectStateJSON `json:"advice"`
-		Years          []calendarYearJSON `json:"years"`
-		PresentValue   float64            `json:"present_value"`
-		Statutory      string             `json:"statutory"`
-		Limit          string             `json:"limit"`
-		Caution        string             `json:"caution"`
+		Model          string              `json:"model"`
+		Currency       string              `json:"currency"`
+		PeriodYears    float64             `json:"period_years"`
+		DiscountFactor float64             `json:"discount_factor"`
+		HorizonYears   int                 `json:"horizon_years"`
+		Start          map[string]float64  `json:"start"`
+		Advice         []inspectAdviceJSON `json:"advice"`
+		Years          []calendarYearJSON  `json:"years"`
+		PresentValue   float64             `json:"present_value"`
+		Statutory      string              `json:"statutory"`
+		Limit          string              `json:"limit"`
+		Caution        string              `json:"caution"`
 	}{Model: v.Model, Currency: v.Currency, PeriodYears: v.periodYears(), DiscountFactor: p.Discount, HorizonYears: len(v.Calendar.Years),
 		Start: start, Advice: adviceJSONList(p, v.Result), Years: calendarYears(p, v.Calendar), PresentValue: v.Calendar.PresentValue,
 		Statutory: InspectionRule, Limit: LimitSentence(p), Caution: Caution}
@@ -788,10 +795,10 @@ func writeInspectionTable(w io.Writer, classes []ClassInspections, currency stri
 }
 
 type fleetInspectionJSON struct {
-	Class  string             `json:"class"`
-	Advice []inspectStateJSON `json:"advice"`
-	Limit  string             `json:"limit"`
-	Years  []calendarYearJSON `json:"years"`
+	Class  string              `json:"class"`
+	Advice []inspectAdviceJSON `json:"advice"`
+	Limit  string              `json:"limit"`
+	Years  []calendarYearJSON  `json:"years"`
 }
 
 type inspectionCalendarJSON struct {

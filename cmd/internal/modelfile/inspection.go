@@ -57,7 +57,9 @@ type inspectionNodes struct {
 
 // decodeInspection reads the inspection block of a class config, if any,
 // and validates it against the model when the model is sound (valid is
-// false when decoding the model found faults).
+// false when decoding the model found faults). Faults of the block's
+// values are reported with those of its meaning (package inspect's
+// Plan.Validate), except those that follow from a value already faulted.
 func (c *Class) decodeInspection(d *doc, top map[string]field, valid bool) {
 	f, ok := top["inspection"]
 	if !ok {
@@ -65,25 +67,30 @@ func (c *Class) decodeInspection(d *doc, top map[string]field, valid bool) {
 	}
 	in := &Inspection{Line: f.key.Line}
 	nodes := inspectionNodes{key: f.key, block: f.value, fields: d.mapping(f.value, "inspection", inspectionKeys), risk: map[int]*yaml.Node{}}
+	if d.resolve(f.value).Kind != yaml.MappingNode {
+		return
+	}
 	fields := nodes.fields
 	pl := &in.Plan
-	sound := true
-	number := func(key string, required bool, hint string) float64 {
+	// bad marks the fields (named as inspect.Fault names them) whose
+	// values could not be decoded.
+	bad := map[string]bool{}
+	number := func(key, field string, required bool, hint string) float64 {
 		fv, has := fields[key]
 		if !has {
-			if required && d.resolve(f.value).Kind == yaml.MappingNode {
+			if required {
 				d.fault(f.value, "inspection."+key, "missing required key %q%s", key, hint)
+				bad[field] = true
 			}
-			sound = sound && !required
 			return 0
 		}
 		v, good := d.number(fv.value, "inspection."+key)
-		sound = sound && good
+		bad[field] = bad[field] || !good
 		return v
 	}
-	pl.Cost = number("cost", true, " (the cost of one inspection; 0 if it costs nothing)")
-	pl.Downtime = number("downtime_cost", false, "")
-	pl.MaxIntervalYears = number("max_interval_years", true,
+	pl.Cost = number("cost", "cost", true, " (the cost of one inspection; 0 if it costs nothing)")
+	pl.Downtime = number("downtime_cost", "downtime", false, "")
+	pl.MaxIntervalYears = number("max_interval_years", "max_interval_years", true,
 		" (the longest interval, in years, that the statutory or written scheme of examination allows)")
 	if fv, has := fields["intervals"]; has {
 		nodes.intervals = d.sequence(fv.value, "inspection.intervals")
@@ -94,57 +101,74 @@ func (c *Class) decodeInspection(d *doc, top map[string]field, valid bool) {
 			d.fault(fv.value, "inspection.intervals", "%d intervals, over the limit of %d", len(nodes.intervals), MaxInspectionIntervals)
 			nodes.intervals = nil
 		}
-		sound = sound && len(nodes.intervals) > 0
+		bad["intervals"] = len(nodes.intervals) == 0
 		for i, it := range nodes.intervals {
 			k, good := d.integer(it, index("inspection.intervals", i))
-			sound = sound && good
+			bad["intervals"] = bad["intervals"] || !good
 			pl.Intervals = append(pl.Intervals, k)
 		}
-	} else if d.resolve(f.value).Kind == yaml.MappingNode {
+	} else {
 		d.fault(f.value, "inspection.intervals", "missing required key \"intervals\" (the allowed intervals between inspections, in periods)")
-		sound = false
+		bad["intervals"] = true
 	}
 	if fv, has := fields["hidden"]; has {
 		nodes.hidden = d.sequence(fv.value, "inspection.hidden")
-		sound = sound && d.resolve(fv.value).Kind == yaml.SequenceNode
+		bad["hidden"] = d.resolve(fv.value).Kind != yaml.SequenceNode
 		for i, it := range nodes.hidden {
 			path := index("inspection.hidden", i)
 			s := -1
 			if _, good := d.str(it, path); good {
 				s = c.stateRef(d, d.resolve(it), path)
 			}
-			sound = sound && s >= 0
+			bad["hidden"] = bad["hidden"] || s < 0
 			pl.Hidden = append(pl.Hidden, s)
 		}
 	}
 	if fv, has := fields["risk_cost"]; has {
 		risk := d.mapping(fv.value, "inspection.risk_cost", nil)
 		pl.RiskCost = make([]float64, len(c.Model.States))
+		bad["risk_cost"] = d.resolve(fv.value).Kind != yaml.MappingNode
 		for _, key := range sortedKeys(risk) {
 			rf := risk[key]
 			path := join("inspection.risk_cost", key)
 			s := c.stateRef(d, rf.key, path)
 			v, good := d.number(rf.value, path)
-			sound = sound && s >= 0 && good
+			bad["risk_cost"] = bad["risk_cost"] || s < 0 || !good
 			if s >= 0 {
 				pl.RiskCost[s] = v
 				nodes.risk[s] = rf.key
 			}
 		}
-		sound = sound && d.resolve(fv.value).Kind == yaml.MappingNode
 	}
-	if c.Criterion == Average {
+	sound := c.Criterion != Average
+	if !sound {
 		d.fault(f.key, "inspection", "the inspection model is solved under the discounted criterion; a class with an inspection block cannot ask for criterion: average")
-		sound = false
 	}
-	if !sound || !valid || d.cancelled() {
+	for _, b := range bad {
+		sound = sound && !b
+	}
+	if !valid || d.cancelled() {
 		return
+	}
+	// A fault that follows from a value already faulted is not repeated.
+	follows := func(field string) bool {
+		switch field {
+		case "passive", "max_interval_years":
+			return bad[field] || bad["intervals"]
+		case "risk_cost":
+			return bad[field] || bad["hidden"]
+		}
+		return bad[field]
 	}
 	errs := unjoin(pl.Validate(c.Model))
 	for _, err := range errs {
+		var lf *inspect.Fault
+		if errors.As(err, &lf) && follows(lf.Field) {
+			continue
+		}
 		c.locateInspection(d, &nodes, err)
 	}
-	if len(errs) == 0 && c.inspectionSize(d, &nodes, pl) {
+	if sound && len(errs) == 0 && c.inspectionSize(d, &nodes, pl) {
 		c.Inspection = in
 	}
 }
