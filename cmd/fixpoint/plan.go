@@ -26,7 +26,10 @@ work is charged to the calendar year in which it starts (running costs are not);
 period-k costs are discounted by γ^k, γ the factor per period; after the last
 period each unit is charged its unconstrained optimal value. Work in unsafe states
 is mandatory: where a year's budget cannot cover it, that year does mandatory
-work only, at least cost.`,
+work only, at least cost. For classes with an inspection block, the expected
+inspections and their cost per calendar year under each class's inspection
+advice are reported beside the plan, which assumes the condition known every
+period.`,
 		Example: `  fixpoint plan configs/east-zone.yaml
   fixpoint plan configs/east-zone.yaml --budget 45000 --years 15 -o plan.json`,
 		Args: exactArgs(1, "one fleet file"),
