@@ -6,14 +6,19 @@
 // Key types: Header (model, currency, period, discount, condition scale,
 // unsafe set, source), embedded in every view; the views Advice,
 // AverageAdvice, Comparison, Sensitivity, Forecast, SystemAdvice,
-// PlanReport, SimulationReport and FitReport, each with WriteTable,
-// WriteJSON and WriteCSV; Brief and FleetBrief with WritePDF.
+// PlanReport, SimulationReport, FitReport, InspectionAdvice and
+// InspectionCalendar, each with WriteTable, WriteJSON and WriteCSV; Brief
+// and FleetBrief with WritePDF. InspectionAdvice.LookAgain returns its
+// brief page as data (Page), for a PDF renderer to lay out.
 //
 // Conventions. Every output carries the Caution: tables print it below
 // the table, JSON under "caution", CSV as a leading comment line followed
 // by comment lines saying the model, currency, period, criterion and
 // discount. Advice that takes a unit out of service, and safety warnings,
-// are said in words in every output. Tables and briefs say "condition",
+// are said in words in every output. Every output of inspection advice
+// also says InspectionRule: the statutory interval and a competent
+// person's scheme of examination take precedence over the advised
+// interval. Tables and briefs say "condition",
 // JSON and CSV "state". Numbers in tables use fixed decimals with ","
 // between thousands and are right-aligned; JSON keeps full float64
 // precision; CSV has six decimals, and text cells that a spreadsheet would

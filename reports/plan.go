@@ -27,6 +27,9 @@ type PlanReport struct {
 	Practice *fleet.Simulation
 	Seed     uint64
 	Warnings []string
+	// Inspections is the inspection calendar of the classes with an
+	// inspection block (reports/inspect.go), printed beside the plan.
+	Inspections []ClassInspections
 }
 
 // amount formats a sum of money with its currency: no decimals from 100
@@ -312,6 +315,9 @@ func (r *PlanReport) WriteTable(w io.Writer) error {
 	} else {
 		fmt.Fprintln(w, "\nThe plan's shares and expected units per class and period: --format json or csv.")
 	}
+	if err := writeInspectionTable(w, r.Inspections, cur); err != nil {
+		return err
+	}
 	var tail []string
 	if len(r.Warnings) > 0 {
 		tail = append(tail, "", "WARNINGS:")
@@ -428,31 +434,32 @@ func (r *PlanReport) WriteJSON(w io.Writer) error {
 		Cost quantJSON `json:"cost"`
 	}
 	out := struct {
-		Model          string       `json:"model"`
-		Currency       string       `json:"currency"`
-		HorizonYears   int          `json:"horizon_years"`
-		PeriodYears    float64      `json:"period_years"`
-		DiscountFactor float64      `json:"discount_factor"`
-		Problem        problem      `json:"problem"`
-		LowerBound     float64      `json:"lower_bound"`
-		FluidCost      float64      `json:"fluid_cost"`
-		Gap            float64      `json:"gap"`
-		Unconstrained  float64      `json:"unconstrained_cost"`
-		CostOfBudget   float64      `json:"cost_of_budget"`
-		CostAtLeast    float64      `json:"cost_of_budget_at_least"`
-		Rounds         int          `json:"rounds"`
-		Programs       int          `json:"programs"`
-		Years          []planYear   `json:"years"`
-		WorkList       workList     `json:"work_list"`
-		Periods        []planPeriod `json:"periods"`
-		Practice       *practice    `json:"simulated_practice,omitempty"`
-		Warnings       []string     `json:"warnings"`
-		Caution        string       `json:"caution"`
+		Model          string                  `json:"model"`
+		Currency       string                  `json:"currency"`
+		HorizonYears   int                     `json:"horizon_years"`
+		PeriodYears    float64                 `json:"period_years"`
+		DiscountFactor float64                 `json:"discount_factor"`
+		Problem        problem                 `json:"problem"`
+		LowerBound     float64                 `json:"lower_bound"`
+		FluidCost      float64                 `json:"fluid_cost"`
+		Gap            float64                 `json:"gap"`
+		Unconstrained  float64                 `json:"unconstrained_cost"`
+		CostOfBudget   float64                 `json:"cost_of_budget"`
+		CostAtLeast    float64                 `json:"cost_of_budget_at_least"`
+		Rounds         int                     `json:"rounds"`
+		Programs       int                     `json:"programs"`
+		Years          []planYear              `json:"years"`
+		WorkList       workList                `json:"work_list"`
+		Periods        []planPeriod            `json:"periods"`
+		Practice       *practice               `json:"simulated_practice,omitempty"`
+		Inspections    *inspectionCalendarJSON `json:"inspection_calendar,omitempty"`
+		Warnings       []string                `json:"warnings"`
+		Caution        string                  `json:"caution"`
 	}{Model: r.Model, Currency: r.Currency, HorizonYears: len(f.Budget), PeriodYears: p.Period.Years(), DiscountFactor: f.Discount.Factor(),
 		Problem:    problem{Kind: p.Statement.Kind.String(), Statement: PlanStatement(f, p, r.Currency), Short: []int{}, Excess: p.Statement.Excess, ExcessGap: p.Statement.ExcessGap},
 		LowerBound: p.Lower, FluidCost: p.Fluid, Gap: p.Gap, Unconstrained: p.Unconstrained,
 		CostOfBudget: p.Fluid - p.Unconstrained, CostAtLeast: p.Lower - p.Unconstrained, Rounds: p.Iterations, Programs: p.Programs,
-		Warnings: append([]string{}, r.Warnings...), Caution: Caution}
+		Inspections: inspectionJSON(r.Inspections), Warnings: append([]string{}, r.Warnings...), Caution: Caution}
 	starts := periodStarts(p)
 	periodsOf := make([][]int, len(f.Budget))
 	for k, y := range p.PeriodYear {
@@ -514,15 +521,28 @@ func (r *PlanReport) WriteJSON(w io.Writer) error {
 // condition and action that the plan uses or the work list lists:
 // period, year, class, condition, action, share, expected_units,
 // work_list_units (period 1 only), year_budget, year_rule,
-// year_planned_spend.
+// year_planned_spend; with an inspection calendar also
+// class_year_inspections and class_year_inspection_cost (that class's
+// expected inspections and their cost in that calendar year, repeated on
+// each of its rows of the year; empty for a class without an inspection
+// block), and the assumption and statutory rule as comment lines.
 func (r *PlanReport) WriteCSV(w io.Writer) error {
 	p, f := r.Plan, r.Fleet
 	if err := r.writeCSVPreamble(w, "expected present cost of the fleet (fluid plan)"); err != nil {
 		return err
 	}
+	if len(r.Inspections) > 0 {
+		if _, err := fmt.Fprintf(w, "# inspections: %s\n# statutory: %s\n", PlanInspectionAssumption, InspectionRule); err != nil {
+			return err
+		}
+	}
 	starts := periodStarts(p)
 	cw := newCSV(w)
-	cw.Write([]string{"period", "year", "class", "state", "action", "share", "expected_units", "work_list_units", "year_budget", "year_rule", "year_planned_spend"})
+	header := []string{"period", "year", "class", "state", "action", "share", "expected_units", "work_list_units", "year_budget", "year_rule", "year_planned_spend"}
+	if len(r.Inspections) > 0 {
+		header = append(header, "class_year_inspections", "class_year_inspection_cost")
+	}
+	cw.Write(header)
 	for k, y := range p.PeriodYear {
 		for c, fc := range f.Classes {
 			for s, sh := range p.Shares[c][k] {
@@ -534,9 +554,13 @@ func (r *PlanReport) WriteCSV(w io.Writer) error {
 					if x == 0 && (k != 0 || p.First.Units[c][s][a] == 0) {
 						continue
 					}
-					cw.Write([]string{strconv.Itoa(k + 1), strconv.Itoa(y + 1), fc.Name, r.stateName(c, s), r.actionName(c, a),
+					row := []string{strconv.Itoa(k + 1), strconv.Itoa(y + 1), fc.Name, r.stateName(c, s), r.actionName(c, a),
 						Fixed(x, 6), Fixed(p.Expected[c][k][s]*x, 6), units, Fixed(f.Budget[y], 2),
-						strings.ReplaceAll(r.yearRule(y, starts), " ", "_"), Fixed(p.Spend[y], 2)})
+						strings.ReplaceAll(r.yearRule(y, starts), " ", "_"), Fixed(p.Spend[y], 2)}
+					if len(r.Inspections) > 0 {
+						row = append(row, inspectionCells(r.Inspections, fc.Name, y)...)
+					}
+					cw.Write(row)
 				}
 			}
 		}

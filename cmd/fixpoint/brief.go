@@ -78,6 +78,7 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	if err := a.src.NotFor("a class config", " (they apply to fleet files)", "budget", "gap"); err != nil {
 		return err
 	}
+	a.inspectionUnused(cmd, f.Class)
 	r, err := prepare(f.Class, st.Override, "")
 	if err != nil {
 		return err

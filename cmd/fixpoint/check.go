@@ -34,6 +34,11 @@ func (a *app) newCheck() *cobra.Command {
 				ff := f.Fleet
 				fmt.Fprintf(a.stdout, "%s: ok: fleet %q, %s, %s, %s of budget, periods of %s\n",
 					path, ff.Name, count(len(ff.Classes), "class", "classes"), count(ff.Units, "unit", "units"), count(ff.Years, "year", "years"), ff.Classes[0].Period)
+				for _, c := range ff.Classes {
+					if err := a.checkInspection(cmd, c.Path, c); err != nil {
+						return err
+					}
+				}
 			case f.System != nil:
 				m, err := f.System.Machine()
 				if err != nil {
@@ -57,6 +62,9 @@ func (a *app) newCheck() *cobra.Command {
 					}
 				}
 				fmt.Fprintf(a.stdout, "%s: ok: %q, %d states, %d actions, %s\n", path, c.Name, len(c.Model.States), len(c.Model.Actions), disc)
+				if err := a.checkInspection(cmd, path, c); err != nil {
+					return err
+				}
 			}
 			return nil
 		},

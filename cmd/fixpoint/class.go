@@ -168,28 +168,52 @@ func (a *app) safetyWarnings(r *classRun, policy []int) []string {
 // its tolerance, with the remedy that fits why, and nil for a certified
 // one.
 func uncertified(r *optimize.Result) error {
-	if r.Status == optimize.Certified {
+	return certificate{r.Status, r.Shortfall, r.Gap, r.Tol, r.Rounding, r.Method, r.Iterations, r.Pivots}.err()
+}
+
+// certificate is what any certified solve says about itself.
+type certificate struct {
+	status             optimize.Status
+	shortfall          optimize.Shortfall
+	gap, tol, rounding float64
+	method             optimize.Method
+	iterations, pivots int
+}
+
+// err is the exit-3 error of a certificate that is short, with the remedy
+// that fits why; a solver that does not say why is taken to have hit
+// the rounding floor when its gap is within four rounding allowances,
+// its iteration cap otherwise.
+func (c certificate) err() error {
+	if c.status == optimize.Certified {
 		return nil
 	}
-	head := fmt.Sprintf("the answer is not certified: proven gap %.3g is above the tolerance %.3g", r.Gap, r.Tol)
-	switch r.Shortfall {
+	why := c.shortfall
+	if why == optimize.NoShortfall {
+		why = optimize.IterationCap
+		if c.gap < 4*c.rounding {
+			why = optimize.RoundingFloor
+		}
+	}
+	head := fmt.Sprintf("the answer is not certified: proven gap %.3g is above the tolerance %.3g", c.gap, c.tol)
+	switch why {
 	case optimize.RoundingFloor:
 		return &uncertifiedError{fmt.Sprintf("%s, and %.3g of it is the allowance for floating-point rounding at these values and this discount factor; "+
-			"a tolerance below about %.3g cannot be proven in float64: loosen --tol, or state the costs in larger units", head, r.Rounding, 2*r.Rounding)}
+			"a tolerance below about %.3g cannot be proven in float64: loosen --tol, or state the costs in larger units", head, c.rounding, 2*c.rounding)}
 	case optimize.MethodAccuracy:
 		return &uncertifiedError{head + ": the simplex method's own tolerance leaves the gap above --tol: use --method policy"}
 	case optimize.TieLoss:
 		return &uncertifiedError{head + ": the tie tolerance costs more than the tolerance allows; lower the tie tolerance"}
 	}
-	n, unit := r.Iterations, "steps"
-	switch r.Method {
+	n, unit := c.iterations, "steps"
+	switch c.method {
 	case optimize.ValueIteration:
 		unit = "sweeps"
 	case optimize.LinearProgram:
-		n, unit = r.Pivots, "pivots"
+		n, unit = c.pivots, "pivots"
 	}
 	remedy := "raise --max-iterations"
-	if r.Method != optimize.PolicyIteration {
+	if c.method != optimize.PolicyIteration {
 		remedy += " or use --method policy"
 	}
 	return &uncertifiedError{fmt.Sprintf("%s: the solver stopped at its cap of %d %s; %s", head, n, unit, remedy)}

@@ -97,6 +97,7 @@ func (a *app) compare(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
+	a.inspectionUnused(cmd, c)
 	if err := a.target(st.Output).Check(); err != nil {
 		return err
 	}

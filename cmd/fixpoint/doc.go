@@ -21,6 +21,17 @@
 // A file of a kind a command does not take is refused in one line that
 // names the commands that take it.
 //
+// Inspection intervals. A class config with an inspection block decides
+// the next inspection with the action (inspect.go): solve prints per
+// condition the action and the interval, the cost of each fixed interval
+// and the hidden-failure figures (--criterion and --target do not apply);
+// forecast counts inspections per calendar year; plan reports each such
+// class's inspection calendar beside the budget plan, which itself assumes
+// the condition known every period; check says the block is valid;
+// compare, sensitivity and brief note that they do not use it. Every
+// output says that the statutory interval and a competent person's scheme
+// of examination take precedence over the advised interval.
+//
 // Layers. main is wiring only: cmd/internal/modelfile reads model files
 // (class, system, fleet) once, strictly, with located faults;
 // cmd/internal/settings reads one typed settings struct per command;

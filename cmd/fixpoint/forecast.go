@@ -19,6 +19,8 @@ func (a *app) newForecast() *cobra.Command {
 advice: the expected number of units in each condition per period and the
 expected spend per period split by action, with its present value. Give the
 starting population with --mix (counts or shares per condition) or --from.
+For a class with an inspection block, it counts instead the inspections and
+their cost per calendar year (every unit inspected at the start).
 
 For a fleet file, --simulate N runs the budget plan (or, with --follow advice,
 the unconstrained advice) N times on whole units and reports percentile bands.`,
@@ -91,6 +93,9 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	start, err := st.Start.Counts(r.Model)
 	if err != nil {
 		return err
+	}
+	if f.Class.Inspection != nil {
+		return a.forecastInspection(cmd, f.Class, start, st)
 	}
 	years := st.Years
 	if years == 0 {

@@ -27,7 +27,10 @@ work is charged to the calendar year in which it starts (running costs are not);
 period-k costs are discounted by γ^k, γ the factor per period; after the last
 period each unit is charged its unconstrained optimal value. Work in unsafe states
 is mandatory: where a year's budget cannot cover it, that year does mandatory
-work only, at least cost.`,
+work only, at least cost. For classes with an inspection block, the expected
+inspections and their cost per calendar year under each class's inspection
+advice are reported beside the plan, which assumes the condition known every
+period.`,
 		Example: `  fixpoint plan configs/east-zone.yaml
   fixpoint plan configs/east-zone.yaml --budget 45000 --years 15 -o plan.json`,
 		Args: exactArgs(1, "one fleet file"),
@@ -122,6 +125,9 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 	h := fleetHeader(ff)
 	h.Discount = f.Discount
 	view := &reports.PlanReport{Header: h, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Fleet.Gap, ff.Currency)}
+	if view.Inspections, err = a.fleetInspections(cmd.Context(), ff, len(f.Budget)); err != nil {
+		return err
+	}
 	if st.Simulate > 0 {
 		if view.Practice, err = fleet.Simulate(cmd.Context(), f, p, fleet.FollowPractice, st.Simulate, st.Seed, 0, nil); err != nil {
 			return err

@@ -25,6 +25,12 @@ prints, for every condition, the advised action, its expected present-value
 cost, proven lower and upper bounds on the optimal cost, the runner-up action
 and its margin, then the threshold rule and the certificate.
 
+With an inspection block in the class config, solve decides the next inspection
+with the action: per condition "overhaul, then inspect again in 6 months", the
+cost of each allowed fixed interval against that advice, and how long hidden
+failures stay in service. The statutory interval and a competent person's
+scheme of examination take precedence over the advised interval.
+
 Exit status 3 means the answer was written but its proven gap is above --tol.`,
 		Example: `  fixpoint solve configs/pumps.yaml
   fixpoint solve configs/pumps.yaml --rate 3.5% --format json -o advice.json
@@ -83,6 +89,9 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 	}
 	if err := a.src.NotFor("a class config", " (they size the joint model of a system file)", "workers", "max-memory-gib", "max-hours"); err != nil {
 		return err
+	}
+	if f.Class.Inspection != nil {
+		return a.solveInspection(cmd, f.Class, st)
 	}
 	r, err := prepare(f.Class, st.Override, st.Criterion)
 	if err != nil {

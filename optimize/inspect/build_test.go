@@ -58,7 +58,7 @@ func TestBuildFaults(t *testing.T) {
 			[]loc{{"risk_cost", -1, 1}, {"risk_cost", -1, 3}, {"risk_cost", -1, 4}}},
 		{"no passive row in a safe state", func(c *class) { c.m.Actions[0].Rows[2] = nil }, 0, []loc{{"passive", -1, 2}}},
 		{"discount", nil, 1, []loc{{"discount", -1, -1}}},
-		{"limit below every interval", func(c *class) { c.plan.MaxIntervalYears = 0.1 }, 0, []loc{{"intervals", 0, -1}}},
+		{"limit below every interval", func(c *class) { c.plan.MaxIntervalYears = 0.1 }, 0, []loc{{"max_interval_years", -1, -1}}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			cl := reliefValves()

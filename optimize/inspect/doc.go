@@ -122,7 +122,7 @@
 // indices; names live in Problem.States and Problem.Actions. Build reports
 // every fault of the model, the schedule and the plan at once
 // (*condition.Fault, *costs.Fault, *Fault with field, index and state);
-// reaching an iteration cap is a Status, not an error. Messages are
+// Plan.Validate reports the plan's alone, without building; reaching an iteration cap is a Status, not an error. Messages are
 // prefixed "inspect:".
 //
 // # References

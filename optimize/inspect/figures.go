@@ -82,6 +82,9 @@ type LongRun struct {
 	// EpochsPerYear·Σ ν(s)·(1 - P(τ<k|s)); the rest are call-outs after a
 	// self-announcing failure.
 	InspectionsPerYear float64
+	// CallOutsPerYear is EpochsPerYear·Σ ν(s)·P(τ<k|s), the epochs that a
+	// self-announcing failure brings forward.
+	CallOutsPerYear float64
 	// UnsafeAtEpoch is Σ_{s unsafe} ν(s), the probability that an epoch
 	// (inspection or call-out) finds the unit unsafe.
 	UnsafeAtEpoch float64
@@ -137,6 +140,7 @@ func (p *Problem) LongRun(policy []int) (*LongRun, error) {
 	}
 	l.EpochsPerYear = 1 / (l.PeriodsBetween * p.PeriodYears)
 	l.InspectionsPerYear = l.EpochsPerYear * scheduled
+	l.CallOutsPerYear = l.EpochsPerYear * max(0, 1-scheduled)
 	l.UnsafeAtInspection, l.HiddenAtInspection = math.NaN(), math.NaN()
 	if scheduled > 0 {
 		l.UnsafeAtInspection = unsafe / scheduled

@@ -1,6 +1,7 @@
 package inspect
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -19,6 +20,12 @@ const MaxPeriods = 10000
 // k·PeriodYears <= MaxIntervalYears·(1 + LimitTolerance), so that 6 periods
 // of 1/12 year meet a limit of 0.5 years whatever the rounding of 1/12.
 const LimitTolerance = 1e-9
+
+// admissible reports whether an interval of k periods of periodYears is
+// within the limit of maxYears, up to LimitTolerance.
+func admissible(k int, periodYears, maxYears float64) bool {
+	return float64(k)*periodYears <= maxYears*(1+LimitTolerance)
+}
 
 // Plan is the inspection side of one class of equipment. States are
 // indices into the condition model's scale.
@@ -87,17 +94,25 @@ const (
 	announced             // unsafe, ends the interval when entered
 )
 
-// check returns every fault of the plan against model m (already valid)
-// and discount factor gamma, and the kind of every state.
-func (pl *Plan) check(m *condition.Model, gamma float64) ([]error, []kind) {
+// Validate reports every fault of the plan against the condition model m,
+// which must be valid (condition.Model.Validate), joined; each is a *Fault
+// with its field, list position and state, as Build reports them. Among
+// them is the fault that no allowed interval is within the limit (Field
+// "max_interval_years"). It lets a reader of configs check a plan without
+// building the problem.
+func (pl *Plan) Validate(m *condition.Model) error {
+	errs, _ := pl.check(m)
+	return errors.Join(errs...)
+}
+
+// check returns every fault of the plan against model m (already valid),
+// and the kind of every state.
+func (pl *Plan) check(m *condition.Model) ([]error, []kind) {
 	var errs []error
 	add := func(field string, index, state int, format string, args ...any) {
 		errs = append(errs, &Fault{Field: field, Index: index, State: state, Problem: fmt.Sprintf(format, args...)})
 	}
 	n := len(m.States)
-	if !(gamma > 0 && gamma < 1) {
-		add("discount", -1, -1, "discount factor per period %v is not in (0, 1)", gamma)
-	}
 	if !(pl.Cost >= 0) || math.IsInf(pl.Cost, 0) {
 		add("cost", -1, -1, "inspection cost %v is not a finite number >= 0", pl.Cost)
 	}
@@ -110,13 +125,20 @@ func (pl *Plan) check(m *condition.Model, gamma float64) ([]error, []kind) {
 	if len(pl.Intervals) == 0 {
 		add("intervals", -1, -1, "no interval is allowed")
 	}
+	sound := len(pl.Intervals) > 0
 	for i, k := range pl.Intervals {
 		switch {
 		case k < 1 || k > MaxPeriods:
 			add("intervals", i, -1, "interval of %d periods is outside 1..%d", k, MaxPeriods)
+			sound = false
 		case i > 0 && k <= pl.Intervals[i-1]:
 			add("intervals", i, -1, "interval of %d periods does not exceed the one before (%d); list intervals in increasing order, each once", k, pl.Intervals[i-1])
+			sound = false
 		}
+	}
+	if k := slices.Min(append([]int{MaxPeriods}, pl.Intervals...)); sound && pl.MaxIntervalYears > 0 && !admissible(k, m.PeriodYears, pl.MaxIntervalYears) {
+		add("max_interval_years", -1, -1, "the shortest allowed interval, %d periods (%g years), exceeds the limit of %g years; no interval is admissible",
+			k, float64(k)*m.PeriodYears, pl.MaxIntervalYears)
 	}
 	kinds := make([]kind, n)
 	for s, st := range m.States {

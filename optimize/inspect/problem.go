@@ -89,8 +89,9 @@ func (p *Problem) Years(k int) float64 { return float64(k) * p.PeriodYears }
 // Build makes the inspection problem of class (m, c) with discount factor
 // gamma per period and inspection plan pl. The model, the schedule and the
 // plan are validated first and every fault of any is returned, joined
-// (*condition.Fault, *costs.Fault, *Fault). Intervals above the plan's
-// limit are dropped into Excluded; no admissible interval is a fault.
+// (*condition.Fault, *costs.Fault, *Fault; see Plan.Validate). Intervals
+// above the plan's limit are dropped into Excluded; no admissible interval
+// is a fault.
 //
 // For every state s, admissible action a and admissible interval k it
 // computes Choice (cost, discounted kernel, exit distribution, mean
@@ -99,7 +100,12 @@ func (p *Problem) Years(k int) float64 { return float64(k) * p.PeriodYears }
 // entries of the passive rows, and O(n) per interval to store the result.
 // It checks ctx between states.
 func Build(ctx context.Context, m *condition.Model, c *costs.Schedule, gamma float64, pl *Plan) (*Problem, error) {
-	planErrs, kinds := pl.check(m, gamma)
+	var planErrs []error
+	if !(gamma > 0 && gamma < 1) {
+		planErrs = append(planErrs, &Fault{Field: "discount", Index: -1, State: -1, Problem: fmt.Sprintf("discount factor per period %v is not in (0, 1)", gamma)})
+	}
+	errs, kinds := pl.check(m)
+	planErrs = append(planErrs, errs...)
 	if err := errors.Join(append([]error{m.Validate(), c.Validate(len(m.States), len(m.Actions))}, planErrs...)...); err != nil {
 		return nil, err
 	}
@@ -125,16 +131,11 @@ func Build(ctx context.Context, m *condition.Model, c *costs.Schedule, gamma flo
 		p.Hidden[s] = kinds[s] == hidden
 	}
 	for _, k := range pl.Intervals {
-		if float64(k)*m.PeriodYears <= pl.MaxIntervalYears*(1+LimitTolerance) {
+		if admissible(k, m.PeriodYears, pl.MaxIntervalYears) {
 			p.Intervals = append(p.Intervals, k)
 		} else {
 			p.Excluded = append(p.Excluded, k)
 		}
-	}
-	if len(p.Intervals) == 0 {
-		return nil, &Fault{Field: "intervals", Index: 0, State: -1, Problem: fmt.Sprintf(
-			"the shortest allowed interval, %d periods (%g years), exceeds the limit of %g years; no interval is admissible",
-			pl.Intervals[0], p.Years(pl.Intervals[0]), pl.MaxIntervalYears)}
 	}
 	p.walk = newWalker(p, m.Passive(), kinds)
 	var acc cycle

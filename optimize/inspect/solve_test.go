@@ -247,8 +247,8 @@ func TestLimit(t *testing.T) {
 	cl.plan.MaxIntervalYears = 0.2
 	_, err = Build(context.Background(), cl.m, cl.c, cl.gamma, &cl.plan)
 	var f *Fault
-	if !errors.As(err, &f) || f.Field != "intervals" {
-		t.Errorf("Build with a limit below every interval: %v, want an intervals fault", err)
+	if !errors.As(err, &f) || f.Field != "max_interval_years" {
+		t.Errorf("Build with a limit below every interval: %v, want a max_interval_years fault", err)
 	}
 }
 

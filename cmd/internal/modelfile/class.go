@@ -26,6 +26,8 @@ type Class struct {
 	// CostScalar[a] is true when action a's cost is one number for every
 	// state (or omitted), false when it is a map by state.
 	CostScalar []bool
+	// Inspection is the inspection block (inspection.go), or nil.
+	Inspection *Inspection
 
 	loc classLocator
 	// prefix is the field path of the model inside its file: "" for a
@@ -62,7 +64,7 @@ type classLocator struct {
 	broken [][]bool
 }
 
-var classKeys = []string{"version", "kind", "name", "currency", "period_years", "criterion", "discount", "states", "actions"}
+var classKeys = []string{"version", "kind", "name", "currency", "period_years", "criterion", "discount", "states", "actions", "inspection"}
 
 func (c *Class) decode(d *doc, root *yaml.Node) {
 	c.loc.root = root
@@ -71,7 +73,8 @@ func (c *Class) decode(d *doc, root *yaml.Node) {
 	c.Model = &condition.Model{PeriodYears: c.Period.Years()}
 	c.Costs = &costs.Schedule{Currency: c.Currency}
 	c.loc.period = c.periodNode
-	c.decodeBody(d, root, top)
+	sound := c.decodeBody(d, root, top)
+	c.decodeInspection(d, top, sound && c.Period.Valid() && c.Model.Validate() == nil)
 }
 
 // required returns the value of a required top-level key, recording a

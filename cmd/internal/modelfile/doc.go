@@ -11,8 +11,14 @@
 // a *Fault with the file, line and field path, and names the action and
 // the row in words where it is about a transition row.
 //
-// Semantics stay in the libraries: condition.Model.Validate and
-// costs.Schedule.Validate find the faults, this package locates them.
+// A class config may carry an inspection block (Inspection, in
+// inspection.go): the inspection cost, the allowed intervals, the hidden
+// failures and their risk cost, and the statutory limit; its faults are
+// located like the model's, and blocks too large to build are refused.
+//
+// Semantics stay in the libraries: condition.Model.Validate,
+// costs.Schedule.Validate and inspect.Plan.Validate find the faults, this
+// package locates them.
 // The decoded Header carries the file's period as a costs.Period and its
 // rate or factor as a costs.Discount, built once.
 //
