@@ -38,6 +38,7 @@ Exit status 3 means the answer was written but its proven gap is above --tol.`,
 	settings.AddCriterion(f)
 	settings.AddTarget(f)
 	settings.AddSystem(f)
+	settings.AddRobust(f)
 	settings.AddOutput(f, "table", "json", "csv")
 	return cmd
 }
@@ -79,6 +80,9 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 			"method", "criterion", "target"); err != nil {
 			return err
 		}
+		if err := a.robustNotFor(st.Robust.On, "a system file", " (robust advice is for class configs: see the README)"); err != nil {
+			return err
+		}
 		return a.solveSystem(cmd, f.System, st)
 	}
 	if err := a.src.NotFor("a class config", " (they size the joint model of a system file)", "workers", "max-memory-gib"); err != nil {
@@ -92,7 +96,13 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 		if err := a.src.NotFor("the average criterion", " (it has no discounting)", "rate", "factor", "target"); err != nil {
 			return err
 		}
+		if err := a.robustNotFor(st.Robust.On, "the average criterion", " (robust advice is for the discounted criterion)"); err != nil {
+			return err
+		}
 		return a.solveAverage(cmd, r, st)
+	}
+	if st.Robust.On {
+		return a.solveRobust(cmd, f.Class, r, st)
 	}
 	adv, err := a.advise(cmd, r, st.Solver, st.Target)
 	if err != nil {

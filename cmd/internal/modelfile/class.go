@@ -26,6 +26,8 @@ type Class struct {
 	// CostScalar[a] is true when action a's cost is one number for every
 	// state (or omitted), false when it is a map by state.
 	CostScalar []bool
+	// Uncertainty is the uncertainty: block (robust advice), nil without.
+	Uncertainty *Uncertainty
 
 	loc classLocator
 	// prefix is the field path of the model inside its file: "" for a
@@ -62,7 +64,7 @@ type classLocator struct {
 	broken [][]bool
 }
 
-var classKeys = []string{"version", "kind", "name", "currency", "period_years", "criterion", "discount", "states", "actions"}
+var classKeys = []string{"version", "kind", "name", "currency", "period_years", "criterion", "discount", "states", "actions", "uncertainty"}
 
 func (c *Class) decode(d *doc, root *yaml.Node) {
 	c.loc.root = root
@@ -72,6 +74,7 @@ func (c *Class) decode(d *doc, root *yaml.Node) {
 	c.Costs = &costs.Schedule{Currency: c.Currency}
 	c.loc.period = c.periodNode
 	c.decodeBody(d, root, top)
+	c.decodeUncertainty(d, top)
 }
 
 // required returns the value of a required top-level key, recording a

@@ -87,6 +87,7 @@ type Solve struct {
 	Workers   int
 	// MaxMemoryGiB refuses joint models needing more memory.
 	MaxMemoryGiB float64
+	Robust       Robust
 }
 
 // AddCriterion declares --criterion.
@@ -138,7 +139,9 @@ func (s *Source) Solve() (st Solve, err error) {
 	}
 	if !(st.MaxMemoryGiB > 0) || st.MaxMemoryGiB > 1<<20 {
 		err = Errorf("%s: %g is not a memory limit in (0, 1048576] GiB", where("max-memory-gib"), st.MaxMemoryGiB)
+		return
 	}
+	st.Robust, err = s.Robust()
 	return
 }
 
