@@ -55,7 +55,8 @@ type Uncertainty struct {
 	// observations (no_data: whole_simplex, the default, or refuse).
 	NoData robust.NoData
 
-	node      *yaml.Node
+	// line is the line of the block's key; keyNode the value of each key.
+	line      int
 	keyNode   map[string]*yaml.Node
 	rowNode   map[rowKey]*yaml.Node
 	rowsGiven map[rowKey]bool
@@ -82,7 +83,7 @@ func (c *Class) decodeUncertainty(d *doc, top map[string]field) {
 		return
 	}
 	const path = "uncertainty"
-	u := &Uncertainty{node: f.value, keyNode: map[string]*yaml.Node{}, rowNode: map[rowKey]*yaml.Node{}, rowsGiven: map[rowKey]bool{}}
+	u := &Uncertainty{line: f.key.Line, keyNode: map[string]*yaml.Node{}, rowNode: map[rowKey]*yaml.Node{}, rowsGiven: map[rowKey]bool{}}
 	fields := d.mapping(f.value, path, uncertaintyKeys)
 	if d.resolve(f.value).Kind == yaml.MappingNode && len(fields) == 0 && len(d.resolve(f.value).Content) == 0 {
 		d.fault(f.value, path, "the block is empty; give a radius, or a confidence with observations (or remove the block)")
@@ -336,9 +337,13 @@ func (c *Class) decodeObservations(d *doc, u *Uncertainty, n *yaml.Node, path st
 // UncertaintyFault returns a fault at key of the uncertainty block (the
 // block itself for "", the file when the class has no block).
 func (c *Class) UncertaintyFault(key, format string, args ...any) error {
-	e := &Fault{File: c.Path, Path: join("uncertainty", key), Msg: fmt.Sprintf(format, args...)}
+	path := "uncertainty"
+	if key != "" {
+		path = join(path, key)
+	}
+	e := &Fault{File: c.Path, Path: path, Msg: fmt.Sprintf(format, args...)}
 	if u := c.Uncertainty; u != nil {
-		e.Line = u.node.Line
+		e.Line = u.line
 		if n := u.keyNode[key]; n != nil {
 			e.Line = n.Line
 		}
