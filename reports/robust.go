@@ -503,7 +503,8 @@ func (r *RobustAdvice) Page() RobustPage {
 	pg.Intro = []string{
 		"The advice on the first page is certified for the transition matrices in the config. Those matrices are estimates; " +
 			"this page gives the advice that holds for every matrix the data allow, and what it would cost.",
-		r.sets().Statement,
+		// The brief's embedded Go fonts have no "‖" (U+2016).
+		strings.ReplaceAll(r.sets().Statement, "‖", "||"),
 		r.differsSentence() + " " + r.priceSentence(),
 	}
 	header, numeric, rows := r.adviceTable()

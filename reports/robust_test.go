@@ -50,7 +50,7 @@ func robustView(t *testing.T, sets func(p *optimize.Problem) (*robust.Sets, erro
 func TestRobustPage(t *testing.T) {
 	v := robustView(t, func(p *optimize.Problem) (*robust.Sets, error) { return robust.Uniform(p, robust.L1, 0.3, nil) })
 	pg := v.Page()
-	if pg.Title == "" || len(pg.Intro) < 2 || pg.Intro[1] != v.Analysis.Sets.Statement {
+	if pg.Title == "" || len(pg.Intro) < 2 || pg.Intro[1] != strings.ReplaceAll(v.Analysis.Sets.Statement, "‖", "||") {
 		t.Errorf("page intro %q, want the sets' statement second", pg.Intro)
 	}
 	if len(pg.Advice.Rows) != 3 || len(pg.Advice.Header) != len(pg.Advice.Right) || len(pg.Advice.Rows[0]) != len(pg.Advice.Header) {

@@ -1,8 +1,10 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"encoding/json"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -544,5 +546,30 @@ func TestStarterUncertainty(t *testing.T) {
 		if g.MaxChange < -1e-6 {
 			t.Errorf("starter: more data on %s in %s raises the worst case by %g", g.Action, g.State, -g.MaxChange)
 		}
+	}
+}
+
+// BenchmarkSolveRobustCLI times the whole command in-process (read,
+// validate, solve, write JSON) for the demo: nominal, and robust at L1
+// radius 0.1 and from the demo's fit at 90%, whose analysis adds the
+// nominal solve, the nominal advice's worst case and one warm-started
+// robust solve per row for the settle ranking.
+func BenchmarkSolveRobustCLI(b *testing.B) {
+	for _, tc := range []struct {
+		name string
+		args []string
+	}{
+		{"nominal", []string{"solve", demo, "--format", "json"}},
+		{"robust-radius", []string{"solve", demo, "--robust-radius", "0.1", "--format", "json"}},
+		{"robust-fitted", []string{"solve", fittedDemo, "--robust-confidence", "0.9", "--format", "json"}},
+	} {
+		b.Run(tc.name, func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if code := run(tc.args, bytes.NewReader(nil), io.Discard, io.Discard); code != 0 {
+					b.Fatalf("exit %d", code)
+				}
+			}
+		})
 	}
 }

@@ -25,10 +25,17 @@ prints, for every condition, the advised action, its expected present-value
 cost, proven lower and upper bounds on the optimal cost, the runner-up action
 and its margin, then the threshold rule and the certificate.
 
+--robust gives, for a class config, the advice that is best for the worst
+transition matrices its uncertainty block allows (--robust-set, --robust-confidence
+override the block; --robust-radius R puts one radius on every row), with the
+nominal advice beside it, the price of robustness, the confidence statement and
+which rows more data would settle.
+
 Exit status 3 means the answer was written but its proven gap is above --tol.`,
 		Example: `  fixpoint solve configs/pumps.yaml
   fixpoint solve configs/pumps.yaml --rate 3.5% --format json -o advice.json
-  fixpoint solve configs/crane.yaml --workers 2`,
+  fixpoint solve configs/crane.yaml --workers 2
+  fixpoint solve configs/pumps.yaml --robust-radius 0.1`,
 		Args: exactArgs(1, "one class config or system file"),
 		RunE: func(cmd *cobra.Command, args []string) error { return a.solve(cmd, args[0]) },
 	}

@@ -11,6 +11,13 @@
 // a *Fault with the file, line and field path, and names the action and
 // the row in words where it is about a transition row.
 //
+// A class config may carry an uncertainty: block (Uncertainty): the kind
+// of ambiguity set, a radius (one, or per action and state) or a
+// confidence with the observed transitions per row, widened supports and
+// the rule for rows without observations; solve --robust builds the
+// sets of package optimize/robust from it, and LocateUncertainty locates
+// the faults that library finds.
+//
 // Semantics stay in the libraries: condition.Model.Validate and
 // costs.Schedule.Validate find the faults, this package locates them.
 // The decoded Header carries the file's period as a costs.Period and its
