@@ -80,38 +80,17 @@ func (r *RobustAdvice) priceSentence() string {
 // solverLines describe the robust and the nominal certificates.
 func (r *RobustAdvice) solverLines() []string {
 	rob, nom := r.Analysis.Robust, r.Analysis.Nominal
-	unit := "step"
-	if rob.Method == optimize.ValueIteration {
-		unit = "sweep"
-	}
-	if rob.Iterations != 1 {
-		unit += "s"
-	}
 	evals := "evaluations"
 	if rob.Evaluations == 1 {
 		evals = "evaluation"
 	}
-	rl := fmt.Sprintf("Robust solver: %s, %d %s, %d exact %s of the adversary's chain; proven gap %s %s (tolerance %s), robust Bellman residual %s: %s.",
-		methodTitles[rob.Method], rob.Iterations, unit, rob.Evaluations, evals, sci(rob.Gap), r.Currency, sci(rob.Tol), sci(rob.Residual), rob.Status)
+	rl := fmt.Sprintf("Robust solver: %s, %s, %d exact %s of the adversary's chain; proven gap %s %s (tolerance %s), robust Bellman residual %s: %s.",
+		methodTitles[rob.Method], iterationText(rob.Method, rob.Iterations), rob.Evaluations, evals, sci(rob.Gap), r.Currency, sci(rob.Tol), sci(rob.Residual), rob.Status)
 	if rob.InnerTol > 0 {
 		rl += fmt.Sprintf(" Each KL inner problem was solved to %s %s; the bounds account for it.", sci(rob.InnerTol), r.Currency)
 	}
 	nl := fmt.Sprintf("Nominal solver: %s; proven gap %s %s: %s.", methodTitles[nom.Method], sci(nom.Gap), r.Currency, nom.Status)
 	return []string{rl, nl}
-}
-
-func (r *RobustAdvice) tieLines() []string {
-	rob := r.Analysis.Robust
-	var lines []string
-	for _, t := range rob.Ties {
-		names := make([]string, len(t.Actions))
-		for i, act := range t.Actions {
-			names[i] = r.Problem.Actions[act]
-		}
-		lines = append(lines, fmt.Sprintf("Tie in %s: %s have worst cases equal within %s %s; the advice is the first listed in the config.",
-			r.Problem.States[t.State], joinAnd(names), sci(rob.TieTol), r.Currency))
-	}
-	return lines
 }
 
 // settleRule says what "four times the observations" does to a radius.
@@ -181,7 +160,20 @@ func (r *RobustAdvice) adviceTable() ([]string, []bool, [][]string) {
 	return header, numeric, rows
 }
 
-var settleHeader = []string{"rank", "row", "observations", "radius", "with 4× data", "worst case falls by", "most in", "advice would change in"}
+var (
+	settleHeader  = []string{"rank", "row", "observations", "radius", "with 4× data", "worst case falls by", "most in", "advice would change in"}
+	settleNumeric = []bool{true, false, true, true, true, true, false, false}
+)
+
+// settleRows are the first settleShown rows of the settle ranking.
+func (r *RobustAdvice) settleRows() [][]string {
+	gains := r.Analysis.Settle
+	rows := make([][]string, 0, min(len(gains), settleShown))
+	for i, g := range gains[:min(len(gains), settleShown)] {
+		rows = append(rows, r.gainCells(i+1, g))
+	}
+	return rows
+}
 
 // WriteTable writes the robust advice per condition, the sentences on
 // where it differs, its price and the sets' statement, the certificates,
@@ -205,7 +197,7 @@ func (r *RobustAdvice) WriteTable(w io.Writer) error {
 		r.discountLine(),
 	}
 	lines = append(lines, r.solverLines()...)
-	lines = append(lines, r.tieLines()...)
+	lines = append(lines, tieLines(r.Problem, a.Robust.Ties, a.Robust.TieTol, r.Currency)...)
 	for _, n := range r.notes() {
 		lines = append(lines, "Note: "+n)
 	}
@@ -227,11 +219,7 @@ func (r *RobustAdvice) writeSettleTable(w io.Writer) error {
 	if err := writeLines(w, intro); err != nil {
 		return err
 	}
-	var rows [][]string
-	for i, g := range gains[:min(len(gains), settleShown)] {
-		rows = append(rows, r.gainCells(i+1, g))
-	}
-	if err := table(w, settleHeader, []bool{true, false, true, true, true, true, false, false}, rows); err != nil {
+	if err := table(w, settleHeader, settleNumeric, r.settleRows()); err != nil {
 		return err
 	}
 	var after []string
@@ -360,24 +348,13 @@ func (r *RobustAdvice) json() robustJSON {
 	if rate, ok := r.rate(); ok {
 		out.DiscountRate = &rate
 	}
-	tied := make(map[int][]string)
-	for _, t := range rob.Ties {
-		for _, act := range t.Actions {
-			tied[t.State] = append(tied[t.State], p.Actions[act])
-		}
-	}
+	tied := tiedActions(p, rob.Ties)
 	for s := range rob.Policy {
 		st := robustStateJSON{State: p.States[s], Unsafe: r.unsafe(s), Action: p.Actions[rob.Policy[s]],
 			WorstCase: rob.WorstCase[s], Lower: rob.Lower[s], Upper: rob.Upper[s],
 			Nominal: a.NominalCost[s], NominalAction: p.Actions[nom.Policy[s]], NominalValue: nom.Value[s],
-			NominalWorstCase: a.NominalWorstCase[s], Price: a.Price[s], Q: map[string]float64{}, Tied: tied[s]}
-		for k, c := range p.Choices[s] {
-			st.Q[p.Actions[c.Action]] = rob.Q[s][k]
-		}
-		if rob.RunnerUp[s] >= 0 {
-			name, margin := p.Actions[rob.RunnerUp[s]], rob.Margin[s]
-			st.RunnerUp, st.Margin = &name, &margin
-		}
+			NominalWorstCase: a.NominalWorstCase[s], Price: a.Price[s], Tied: tied[s]}
+		st.Q, st.RunnerUp, st.Margin = choiceJSON(p, s, rob.Q, rob.RunnerUp, rob.Margin)
 		out.States = append(out.States, st)
 	}
 	for _, rows := range sets.Rows {
@@ -515,11 +492,7 @@ func (r *RobustAdvice) Page() RobustPage {
 	} else {
 		pg.SettleIntro = fmt.Sprintf("Which data would settle it: how much the worst-case cost falls if one row had four times the observations (%s), largest first. "+
 			"Inspect the conditions at the top of this list more closely before the next review.", r.settleRule())
-		var srows [][]string
-		for i, g := range a.Settle[:min(len(a.Settle), settleShown)] {
-			srows = append(srows, r.gainCells(i+1, g))
-		}
-		pg.Settle = PageTable{Header: settleHeader, Right: []bool{true, false, true, true, true, true, false, false}, Rows: srows}
+		pg.Settle = PageTable{Header: settleHeader, Right: settleNumeric, Rows: r.settleRows()}
 	}
 	pg.Closing = append(r.solverLines(), r.notes()...)
 	return pg

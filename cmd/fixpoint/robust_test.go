@@ -288,6 +288,18 @@ func TestSolveRobustMonotoneInRadius(t *testing.T) {
 		}
 		last = d
 	}
+	p := demoProblem(t)
+	v := vertexWorstCase(p)
+	for i, s := range last.States {
+		if math.Abs(s.WorstCase-v[i]) > tol {
+			t.Errorf("radius 2: state %s: worst case %.6f, want the closed form %.6f (tol %g)", s.State, s.WorstCase, v[i], tol)
+		}
+	}
+}
+
+// demoProblem is the demo config's Problem.
+func demoProblem(t *testing.T) *optimize.Problem {
+	t.Helper()
 	f, err := modelfile.Load(context.Background(), demo, modelfile.Options{})
 	if err != nil {
 		t.Fatal(err)
@@ -296,12 +308,7 @@ func TestSolveRobustMonotoneInRadius(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	v := vertexWorstCase(p)
-	for i, s := range last.States {
-		if math.Abs(s.WorstCase-v[i]) > tol {
-			t.Errorf("radius 2: state %s: worst case %.6f, want the closed form %.6f (tol %g)", s.State, s.WorstCase, v[i], tol)
-		}
-	}
+	return p
 }
 
 // vertexWorstCase iterates v <- min_a [c + γ·max_{j∈support} v(j)] to
@@ -337,14 +344,7 @@ func vertexWorstCase(p *optimize.Problem) []float64 {
 // factorisation, independent of optimize.Evaluate.
 func TestSolveRobustNominalCost(t *testing.T) {
 	d := solveRobustJSON(t, demo, "--robust-radius", "0.5")
-	f, err := modelfile.Load(context.Background(), demo, modelfile.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	p, err := optimize.Build(f.Class.Model, f.Class.Costs, f.Class.Discount.Factor())
-	if err != nil {
-		t.Fatal(err)
-	}
+	p := demoProblem(t)
 	n := len(p.States)
 	a := mat.NewDense(n, n, nil)
 	c := mat.NewVecDense(n, nil)
