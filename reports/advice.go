@@ -112,16 +112,48 @@ func iterationText(m optimize.Method, n int) string {
 }
 
 func (a *Advice) tieLines() []string {
+	return tieLines(a.Problem, a.Result.Ties, a.Result.TieTol, a.Currency)
+}
+
+// tieLines says, for each tie, which actions are equally good and which
+// one the tie rule advises.
+func tieLines(p *optimize.Problem, ties []optimize.Tie, tol float64, currency string) []string {
 	var lines []string
-	for _, t := range a.Result.Ties {
+	for _, t := range ties {
 		names := make([]string, len(t.Actions))
 		for i, act := range t.Actions {
-			names[i] = a.Problem.Actions[act]
+			names[i] = p.Actions[act]
 		}
 		lines = append(lines, fmt.Sprintf("Tie in %s: %s are equally good within %s %s; the advice is the first listed in the config.",
-			a.Problem.States[t.State], joinAnd(names), sci(a.Result.TieTol), a.Currency))
+			p.States[t.State], joinAnd(names), sci(tol), currency))
 	}
 	return lines
+}
+
+// tiedActions lists the tied actions' names by state.
+func tiedActions(p *optimize.Problem, ties []optimize.Tie) map[int][]string {
+	tied := make(map[int][]string)
+	for _, t := range ties {
+		for _, act := range t.Actions {
+			tied[t.State] = append(tied[t.State], p.Actions[act])
+		}
+	}
+	return tied
+}
+
+// choiceJSON returns the JSON fields of state s's choices: the Q-value of
+// each admissible action by name, and the runner-up and its margin (nil
+// without one).
+func choiceJSON(p *optimize.Problem, s int, q [][]float64, runnerUp []int, margin []float64) (map[string]float64, *string, *float64) {
+	qs := make(map[string]float64, len(p.Choices[s]))
+	for k, c := range p.Choices[s] {
+		qs[p.Actions[c.Action]] = q[s][k]
+	}
+	if runnerUp[s] < 0 {
+		return qs, nil, nil
+	}
+	name, m := p.Actions[runnerUp[s]], margin[s]
+	return qs, &name, &m
 }
 
 func joinAnd(names []string) string {
@@ -232,22 +264,11 @@ func (a *Advice) json() adviceJSON {
 	if rate, ok := a.rate(); ok {
 		out.DiscountRate = &rate
 	}
-	tied := make(map[int][]string)
-	for _, t := range r.Ties {
-		for _, act := range t.Actions {
-			tied[t.State] = append(tied[t.State], p.Actions[act])
-		}
-	}
+	tied := tiedActions(p, r.Ties)
 	for s := range r.Policy {
 		st := adviceState{State: p.States[s], Unsafe: a.Unsafe[s], Action: p.Actions[r.Policy[s]],
-			Value: r.Value[s], Lower: r.Lower[s], Upper: r.Upper[s], Q: make(map[string]float64), Tied: tied[s]}
-		for k, c := range p.Choices[s] {
-			st.Q[p.Actions[c.Action]] = r.Q[s][k]
-		}
-		if r.RunnerUp[s] >= 0 {
-			name, margin := p.Actions[r.RunnerUp[s]], r.Margin[s]
-			st.RunnerUp, st.Margin = &name, &margin
-		}
+			Value: r.Value[s], Lower: r.Lower[s], Upper: r.Upper[s], Tied: tied[s]}
+		st.Q, st.RunnerUp, st.Margin = choiceJSON(p, s, r.Q, r.RunnerUp, r.Margin)
 		out.States = append(out.States, st)
 	}
 	return out

@@ -423,7 +423,9 @@ func (f *FitReport) RowComment(a, s int) string {
 
 // WriteYAML writes, for each action with records, a transitions: block in
 // map form ready to paste into a class config, with counts and interval
-// widths as comments.
+// widths as comments; then, for the counting estimator, an uncertainty:
+// block with the number of transitions behind each row written
+// (observations, for solve --robust).
 func (f *FitReport) WriteYAML(w io.Writer) error {
 	var b strings.Builder
 	for _, line := range f.header() {
@@ -457,6 +459,7 @@ func (f *FitReport) WriteYAML(w io.Writer) error {
 			fmt.Fprintf(&b, "\n# action %s: no data (no transitions recorded with it); no row estimated\n", f.Fit.Actions[a])
 		}
 	}
+	f.writeObservations(&b)
 	if warn := f.warnings(); len(warn) > 0 {
 		fmt.Fprintf(&b, "\n# Data problems (%d):\n", len(warn))
 		for _, wn := range warn {
@@ -465,4 +468,37 @@ func (f *FitReport) WriteYAML(w io.Writer) error {
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
+}
+
+// writeObservations writes the uncertainty: block of the rows written by
+// WriteYAML: the transitions behind each, which size robust advice's
+// ambiguity sets. Only counting estimates are counts of one-period
+// transitions; for a generator fit it says why there is no block.
+func (f *FitReport) writeObservations(b *strings.Builder) {
+	if f.Fit.Method != condition.Counting {
+		b.WriteString("\n# no uncertainty.observations: a generator estimate is not a count of one-period transitions,\n" +
+			"# so the confidence bounds of solve --robust do not apply to it\n")
+		return
+	}
+	var lines []string
+	for a, rows := range f.Fit.Rows {
+		var parts []string
+		for s, r := range rows {
+			if r != nil && f.Writable(a, s) {
+				parts = append(parts, fmt.Sprintf("%s: %d", YAMLKey(f.States[s]), r.N))
+			}
+		}
+		if len(parts) > 0 {
+			lines = append(lines, fmt.Sprintf("    %s: {%s}\n", YAMLKey(f.Fit.Actions[a]), strings.Join(parts, ", ")))
+		}
+	}
+	if len(lines) == 0 {
+		return
+	}
+	b.WriteString("\n# transitions behind each row above (n), for solve --robust: paste at the top level of the config\n" +
+		"# and add confidence: 0.9 (or run solve --robust-confidence 0.9) to size each row's ambiguity set from them\n")
+	b.WriteString("uncertainty:\n  observations:\n")
+	for _, l := range lines {
+		b.WriteString(l)
+	}
 }

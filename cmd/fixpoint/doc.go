@@ -7,7 +7,8 @@
 //
 // Commands, and the kinds of file each takes:
 //
-//	fixpoint solve FILE        class, system  the certified advice per condition (table, json, csv)
+//	fixpoint solve FILE        class, system  the certified advice per condition (table, json, csv);
+//	                                          --robust: advice for the worst matrices the data allow (class)
 //	fixpoint check FILE        class, system, fleet  validate, listing every problem
 //	fixpoint compare FILE      class          the advice across discount rates, every switch point
 //	fixpoint sensitivity FILE  class          how far each cost can move before the advice changes

@@ -43,7 +43,9 @@ interval is within 10% of the period.
 
 --format yaml prints transitions: blocks ready to paste into a class config;
 --merge writes the estimated rows into a copy of --config at -o FILE (never
-over the input).`,
+over the input). With the counting estimator both also write the number of
+transitions behind each row (uncertainty.observations), from which
+solve --robust-confidence sizes each row's ambiguity set.`,
 		Example: `  fixpoint fit configs/pump-inspections.csv --config configs/pumps.yaml
   fixpoint fit records.csv --states good,fair,poor,failed --period-years 1 --format json
   fixpoint fit configs/pump-inspections.csv --config configs/pumps.yaml --merge -o pumps-fitted.yaml`,

@@ -31,10 +31,17 @@ cost of each allowed fixed interval against that advice, and how long hidden
 failures stay in service. The statutory interval and a competent person's
 scheme of examination take precedence over the advised interval.
 
+--robust gives, for a class config, the advice that is best for the worst
+transition matrices its uncertainty block allows (--robust-set, --robust-confidence
+override the block; --robust-radius R puts one radius on every row), with the
+nominal advice beside it, the price of robustness, the confidence statement and
+which rows more data would settle.
+
 Exit status 3 means the answer was written but its proven gap is above --tol.`,
 		Example: `  fixpoint solve configs/pumps.yaml
   fixpoint solve configs/pumps.yaml --rate 3.5% --format json -o advice.json
-  fixpoint solve configs/crane.yaml --workers 2`,
+  fixpoint solve configs/crane.yaml --workers 2
+  fixpoint solve configs/pumps.yaml --robust-radius 0.1`,
 		Args: exactArgs(1, "one class config or system file"),
 		RunE: func(cmd *cobra.Command, args []string) error { return a.solve(cmd, args[0]) },
 	}
@@ -44,6 +51,7 @@ Exit status 3 means the answer was written but its proven gap is above --tol.`,
 	settings.AddCriterion(f)
 	settings.AddTarget(f)
 	settings.AddSystem(f)
+	settings.AddRobust(f)
 	settings.AddOutput(f, "table", "json", "csv")
 	return cmd
 }
@@ -85,6 +93,9 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 			"method", "criterion", "target"); err != nil {
 			return err
 		}
+		if err := a.robustNotFor(st.Robust.On, "a system file", " (robust advice is for class configs: see the README)"); err != nil {
+			return err
+		}
 		return a.solveSystem(cmd, f.System, st)
 	}
 	if err := a.src.NotFor("a class config", " (they size the joint model of a system file)", "workers", "max-memory-gib", "max-hours"); err != nil {
@@ -101,7 +112,13 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 		if err := a.src.NotFor("the average criterion", " (it has no discounting)", "rate", "factor", "target"); err != nil {
 			return err
 		}
+		if err := a.robustNotFor(st.Robust.On, "the average criterion", " (robust advice is for the discounted criterion)"); err != nil {
+			return err
+		}
 		return a.solveAverage(cmd, r, st)
+	}
+	if st.Robust.On {
+		return a.solveRobust(cmd, f.Class, r, st)
 	}
 	adv, err := a.advise(cmd, r, st.Solver, st.Target)
 	if err != nil {

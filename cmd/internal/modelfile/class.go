@@ -28,6 +28,8 @@ type Class struct {
 	CostScalar []bool
 	// Inspection is the inspection block (inspection.go), or nil.
 	Inspection *Inspection
+	// Uncertainty is the uncertainty: block (robust advice), nil without.
+	Uncertainty *Uncertainty
 
 	loc classLocator
 	// prefix is the field path of the model inside its file: "" for a
@@ -64,7 +66,7 @@ type classLocator struct {
 	broken [][]bool
 }
 
-var classKeys = []string{"version", "kind", "name", "currency", "period_years", "criterion", "discount", "states", "actions", "inspection"}
+var classKeys = []string{"version", "kind", "name", "currency", "period_years", "criterion", "discount", "states", "actions", "inspection", "uncertainty"}
 
 func (c *Class) decode(d *doc, root *yaml.Node) {
 	c.loc.root = root
@@ -75,6 +77,7 @@ func (c *Class) decode(d *doc, root *yaml.Node) {
 	c.loc.period = c.periodNode
 	sound := c.decodeBody(d, root, top)
 	c.decodeInspection(d, top, sound && c.Period.Valid() && c.Model.Validate() == nil)
+	c.decodeUncertainty(d, top)
 }
 
 // required returns the value of a required top-level key, recording a

@@ -19,6 +19,15 @@
 // Semantics stay in the libraries: condition.Model.Validate,
 // costs.Schedule.Validate and inspect.Plan.Validate find the faults, this
 // package locates them.
+// A class config may carry an uncertainty: block (Uncertainty): the kind
+// of ambiguity set, a radius (one, or per action and state) or a
+// confidence with the observed transitions per row, widened supports and
+// the rule for rows without observations; solve --robust builds the
+// sets of package optimize/robust from it, and LocateUncertainty locates
+// the faults that library finds.
+//
+// Semantics stay in the libraries: condition.Model.Validate and
+// costs.Schedule.Validate find the faults, this package locates them.
 // The decoded Header carries the file's period as a costs.Period and its
 // rate or factor as a costs.Discount, built once.
 //

@@ -8,7 +8,30 @@ import (
 	"testing"
 
 	"fixpoint/optimize"
+	"fixpoint/optimize/robust"
 )
+
+// uncertaintySeed is a small class config to which the seeds of the
+// uncertainty block are appended.
+const uncertaintySeed = `version: 1
+name: seed
+currency: EUR
+period_years: 1
+discount: {rate: 0.05}
+states:
+  - good
+  - worn
+  - {name: failed, unsafe: true}
+actions:
+  - name: leave
+    passive: true
+    transitions:
+      good: {good: 0.8, worn: 0.2}
+      worn: {worn: 0.7, failed: 0.3}
+  - name: replace
+    cost: 1000
+    matrix: [[1, 0, 0], [1, 0, 0], [1, 0, 0]]
+`
 
 const (
 	demo       = "../../../configs/pumps.yaml"
@@ -31,6 +54,11 @@ func FuzzDecodeClass(f *testing.F) {
 	seedFiles(f, demo, "../../fixpoint/starters/class.yaml", "../../fixpoint/starters/system.yaml", "testdata/accents.yaml")
 	f.Add([]byte("version: 1\nstates: &a [*a]\n"))
 	f.Add([]byte("a: &x [1,2]\nb: [*x, *x, *x]\n"))
+	// The uncertainty block: observations with a confidence and widened
+	// rows, and radii per row.
+	f.Add([]byte(uncertaintySeed + "uncertainty:\n  set: kl\n  confidence: 90%\n  no_data: refuse\n  observations:\n    leave: {good: 50, worn: 30}\n" +
+		"  widen:\n    leave: {good: [failed]}\n"))
+	f.Add([]byte(uncertaintySeed + "uncertainty:\n  radius: {leave: {good: 0.1, worn: 2}, replace: 0}\n  widen: {replace: {worn: [worn, good]}}\n"))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		file, err := Decode(context.Background(), "fuzz.yaml", data, Options{})
 		if err != nil || file.Class == nil {
@@ -43,6 +71,26 @@ func FuzzDecodeClass(f *testing.F) {
 		}
 		if err := p.Validate(c.Criterion != Average); err != nil {
 			t.Fatalf("built problem is invalid: %v", err)
+		}
+		// A decoded uncertainty block always gives valid sets (a row
+		// without observations is refused only when no_data says so).
+		u := c.Uncertainty
+		if u == nil || c.Criterion == Average {
+			return
+		}
+		switch {
+		case u.HasConfidence:
+			_, err = robust.FromCounts(p, u.Set, u.Confidence, u.Observations, u.Options())
+			if u.NoData == robust.Refuse {
+				err = nil
+			}
+		case u.HasRadius:
+			_, err = robust.Uniform(p, u.Set, u.Radius, u.Options())
+		case u.Radii != nil:
+			_, err = robust.PerRow(p, u.Set, u.Radii, u.Options())
+		}
+		if err != nil {
+			t.Fatalf("decoded uncertainty block gives no sets: %v", err)
 		}
 	})
 }

@@ -3,13 +3,15 @@ package modelfile
 import (
 	"bytes"
 	"context"
-	"fixpoint/reports"
 	"fmt"
 	"os"
 	"strconv"
 	"strings"
 
 	"go.yaml.in/yaml/v3"
+
+	"fixpoint/condition"
+	"fixpoint/reports"
 )
 
 // MergeFitted writes the estimated rows into a copy of the class config's
@@ -17,7 +19,10 @@ import (
 // entry set, a matrix-form row replaced. Rows on fewer than minN
 // transitions, rows where the config does not admit the action, and
 // passive rows of unsafe states are not merged (notes say so). The result
-// is validated before it is returned.
+// is validated before it is returned. With the counting estimator, the
+// number of transitions behind each merged row is written under
+// uncertainty.observations (added or updated), so that solve --robust can
+// size the row's ambiguity set from it; rows kept keep their count.
 func MergeFitted(c *Class, rep *reports.FitReport, minN int) ([]byte, []string, error) {
 	data, err := os.ReadFile(c.Path)
 	if err != nil {
@@ -30,6 +35,7 @@ func MergeFitted(c *Class, rep *reports.FitReport, minN int) ([]byte, []string, 
 	doc := root.Content[0]
 	actionsNode := lookup(doc, "actions")
 	var notes []string
+	var counted []observed
 	for a, rows := range rep.Fit.Rows {
 		ai := c.Model.ActionIndex(rep.Fit.Actions[a])
 		if ai < 0 || actionsNode == nil || ai >= len(actionsNode.Content) {
@@ -58,8 +64,12 @@ func MergeFitted(c *Class, rep *reports.FitReport, minN int) ([]byte, []string, 
 			} else if m := lookup(act, "matrix"); m != nil && s < len(m.Content) {
 				m.Content[s] = flowSeq(r.P, comment)
 			}
+			if rep.Fit.Method == condition.Counting {
+				counted = append(counted, observed{rep.Fit.Actions[a], name, r.N})
+			}
 		}
 	}
+	setObservations(doc, counted)
 	root.HeadComment = strings.TrimSpace(root.HeadComment + "\n# Transition rows merged by fixpoint fit from " + rep.Source + "; check them before use.")
 	var buf bytes.Buffer
 	enc := yaml.NewEncoder(&buf)
@@ -71,6 +81,40 @@ func MergeFitted(c *Class, rep *reports.FitReport, minN int) ([]byte, []string, 
 		return nil, nil, fmt.Errorf("the merged config would not be valid (%v); nothing written", err)
 	}
 	return buf.Bytes(), notes, nil
+}
+
+// observed is the number of transitions behind one merged row.
+type observed struct {
+	action, state string
+	n             int
+}
+
+// setObservations writes the counts of the merged rows under
+// uncertainty.observations, adding the block and the action's map where
+// missing.
+func setObservations(doc *yaml.Node, counted []observed) {
+	if len(counted) == 0 {
+		return
+	}
+	u := lookup(doc, "uncertainty")
+	if u == nil || u.Kind != yaml.MappingNode {
+		u = &yaml.Node{Kind: yaml.MappingNode}
+		setKey(doc, "uncertainty", u)
+		doc.Content[len(doc.Content)-2].HeadComment = "Transitions observed per row (fit's n), for solve --robust: add confidence: 0.9 (or --robust-confidence 0.9)\nto size each row's ambiguity set from them."
+	}
+	obs := lookup(u, "observations")
+	if obs == nil || obs.Kind != yaml.MappingNode {
+		obs = &yaml.Node{Kind: yaml.MappingNode}
+		setKey(u, "observations", obs)
+	}
+	for _, c := range counted {
+		act := lookup(obs, c.action)
+		if act == nil || act.Kind != yaml.MappingNode {
+			act = &yaml.Node{Kind: yaml.MappingNode, Style: yaml.FlowStyle}
+			setKey(obs, c.action, act)
+		}
+		setKey(act, c.state, &yaml.Node{Kind: yaml.ScalarNode, Tag: "!!int", Value: strconv.Itoa(c.n)})
+	}
 }
 
 func lookup(m *yaml.Node, key string) *yaml.Node {

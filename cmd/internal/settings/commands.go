@@ -88,6 +88,7 @@ type Solve struct {
 	// MaxMemoryGiB and MaxHours refuse joint models needing more memory
 	// or (at most) more time.
 	MaxMemoryGiB, MaxHours float64
+	Robust                 Robust
 }
 
 // AddCriterion declares --criterion.
@@ -147,7 +148,9 @@ func (s *Source) Solve() (st Solve, err error) {
 	}
 	if !(st.MaxHours > 0) || st.MaxHours > 1e4 {
 		err = Errorf("%s: %g is not a time limit in (0, 10000] hours", where("max-hours"), st.MaxHours)
+		return
 	}
+	st.Robust, err = s.Robust()
 	return
 }
 

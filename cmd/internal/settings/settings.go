@@ -9,7 +9,6 @@ package settings
 
 import (
 	"bytes"
-	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -198,5 +197,3 @@ func (s *Source) NotFor(what, why string, keys ...string) error {
 	}
 	return Errorf("%s %s not apply to %s%s", strings.Join(bad, ", "), verb, what, why)
 }
-
-var errBoth = errors.New("both")
