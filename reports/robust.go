@@ -451,7 +451,6 @@ func (r *RobustAdvice) WriteCSV(w io.Writer) error {
 	return cw.Error()
 }
 
-
 // RobustPage is the content of a brief's "how sure are we" page, as text
 // ready to lay out: a title, the paragraphs before the advice table, the
 // advice table, the paragraph before the settle ranking, the ranking (its
