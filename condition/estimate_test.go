@@ -197,7 +197,11 @@ func TestBootstrapCoverage(t *testing.T) {
 		{"generator", Generator, func(r *rand.Rand) int { return 200 + r.IntN(400) }},
 	} {
 		covered, total := 0, 0
-		for rep := range 16 {
+		reps := 16
+		if raceEnabled && tc.method == Generator {
+			reps = 2 // the race detector checks the code paths; the coverage is checked without it
+		}
+		for rep := range reps {
 			rng := rand.New(rand.NewPCG(9, uint64(rep)))
 			p := simulatePanel(rng, trueQ, 300, 5, func() int { return tc.gap(rng) })
 			o := genOpts(4, 100)
@@ -220,6 +224,9 @@ func TestBootstrapCoverage(t *testing.T) {
 		}
 		share := float64(covered) / float64(total)
 		t.Logf("%s: 90%% intervals covered %d of %d true entries (%.0f%%)", tc.name, covered, total, 100*share)
+		if reps < 16 {
+			continue
+		}
 		if share < 0.75 || share > 0.99 {
 			t.Errorf("%s: coverage %.0f%%, want about 90%%", tc.name, 100*share)
 		}

@@ -1,0 +1,5 @@
+//go:build !race
+
+package condition
+
+const raceEnabled = false
