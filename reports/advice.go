@@ -90,8 +90,9 @@ func (a *Advice) solverLine() string {
 }
 
 // iterationText counts the iterations in the method's own unit: "2 steps".
-func (a *Advice) iterationText() string {
-	r := a.Result
+func (a *Advice) iterationText() string { return iterationText(a.Result) }
+
+func iterationText(r *optimize.Result) string {
 	unit := "step"
 	if r.Method == optimize.ValueIteration {
 		unit = "sweep"
