@@ -1,11 +1,14 @@
 package reports
 
 import (
+	"archive/zip"
 	"fmt"
 	"io"
 	"math"
+	"sort"
 	"strconv"
 	"strings"
+	"time"
 	"unicode/utf8"
 
 	"github.com/xuri/excelize/v2"
@@ -27,11 +30,22 @@ import (
 // text is written as text, never as a formula. Errors are sticky: the
 // first one stops the building and write returns it.
 
-// workbookDate is the created and modified date of every workbook: the
-// earliest date a ZIP entry can carry (the entries themselves carry none),
+// workbookDate is the created and modified date of every workbook and of
+// every entry of its ZIP archive: the earliest date a ZIP entry can carry,
 // so that the same inputs give the same bytes; the Assumptions sheet names
 // the fixpoint version and the config's SHA-256 instead of a date.
 const workbookDate = "1980-01-01T00:00:00Z"
+
+var workbookTime = time.Date(1980, 1, 1, 0, 0, 0, 0, time.UTC)
+
+// datedZip writes the archive of a workbook with every entry dated
+// workbookTime (excelize's own writer leaves the date out, which strict
+// readers take for an invalid date).
+type datedZip struct{ *zip.Writer }
+
+func (z datedZip) Create(name string) (io.Writer, error) {
+	return z.CreateHeader(&zip.FileHeader{Name: name, Method: zip.Deflate, Modified: workbookTime})
+}
 
 // cellKind says how a number is shown (its number format) and how wide
 // its column must be.
@@ -181,6 +195,7 @@ type workbook struct {
 // the view in the document properties ("advice per condition").
 func newWorkbook(h *Header, what string) *workbook {
 	f := excelize.NewFile()
+	f.SetZipWriter(func(w io.Writer) excelize.ZipWriter { return datedZip{zip.NewWriter(w)} })
 	b := &workbook{f: f, h: h, money: currencyDecimals(h.Currency)}
 	b.try(f.SetDocProps(&excelize.DocProperties{
 		Title: h.Model + ": " + what, Subject: what, Creator: "fixpoint", LastModifiedBy: "fixpoint",
@@ -384,9 +399,10 @@ func (s *sheet) add(vals ...any) int {
 }
 
 // note writes a line of text below the table, merged across the sheet and
-// wrapped; the first note is preceded by an empty row.
+// wrapped; the first note is preceded by an empty row, which ends the
+// table for a reader.
 func (s *sheet) note(text string) {
-	if len(s.notes) == 0 && s.next > s.data {
+	if len(s.notes) == 0 {
 		s.next++
 	}
 	s.text(1, s.next, text, s.b.wrapped)
@@ -538,6 +554,13 @@ func (b *workbook) write(w io.Writer) error {
 		return b.err
 	}
 	b.f.SetActiveSheet(0)
+	// excelize adds the image types of a drawing's content types in map
+	// order (AddChart, v2.11.1): sort them, so that a workbook with charts
+	// has the same bytes every time.
+	if ct := b.f.ContentTypes; ct != nil {
+		d := ct.Defaults
+		sort.Slice(d, func(i, j int) bool { return d[i].Extension < d[j].Extension })
+	}
 	if err := b.f.Write(w); err != nil {
 		return fmt.Errorf("reports: workbook: %w", err)
 	}

@@ -159,8 +159,9 @@ func (c *Comparison) curveSheet(b *workbook, advice *sheet) {
 	}
 	ymin := niceFloor(lo - 0.05*(hi-lo))
 	s.note("The curve samples the EAC at evenly spaced rates; the dots are the rates compared. Between switch points the advice is fixed.")
+	vary := false
 	s.chart(4, firstDataRow, &excelize.Chart{
-		Type: excelize.Scatter,
+		Type: excelize.Scatter, VaryColors: &vary,
 		Series: []excelize.ChartSeries{
 			{Name: s.cellRef(2, headRow), Categories: s.ref(1, s.data, last), Values: s.ref(2, s.data, last),
 				Line:   excelize.LineOptions{Type: excelize.LineSolid, Width: 2, Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{hex(ink)}}},

@@ -105,9 +105,8 @@ func (f *Forecast) charts(b *workbook, units, spend, byYear *sheet, years int) {
 			Categories: mixSheet.ref(cat, mixSheet.data, last), Values: mixSheet.ref(stateCol+i, mixSheet.data, last),
 			Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{hex(c)}}})
 	}
-	gap := uint(40)
-	overlap := 100
-	s.chart(1, s.data, &excelize.Chart{Type: excelize.ColStacked, Series: mix, GapWidth: &gap, Overlap: &overlap,
+	gap, overlap, vary := uint(40), 100, false
+	s.chart(1, s.data, &excelize.Chart{Type: excelize.ColStacked, Series: mix, GapWidth: &gap, Overlap: &overlap, VaryColors: &vary,
 		Title:     chartTitle("Expected condition mix of the population (units at the start of each " + unit + ")"),
 		Legend:    excelize.ChartLegend{Position: "bottom"},
 		Dimension: excelize.ChartDimension{Width: 760, Height: 380},
@@ -130,7 +129,7 @@ func (f *Forecast) charts(b *workbook, units, spend, byYear *sheet, years int) {
 				Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{hex(colours[a])}}})
 		}
 	}
-	s.chart(1, s.data+21, &excelize.Chart{Type: excelize.ColStacked, Series: series, GapWidth: &gap, Overlap: &overlap,
+	s.chart(1, s.data+21, &excelize.Chart{Type: excelize.ColStacked, Series: series, GapWidth: &gap, Overlap: &overlap, VaryColors: &vary,
 		Title:     chartTitle("Expected spend per " + unit + " by action (" + f.Currency + ")"),
 		Legend:    excelize.ChartLegend{Position: "bottom"},
 		Dimension: excelize.ChartDimension{Width: 760, Height: 380},
