@@ -67,7 +67,7 @@ func qRow(p *optimize.Problem, s int, q []float64) []any {
 func resultFacts(r *optimize.Result, cur string) []fact {
 	return []fact{
 		{"solver", methodTitles[r.Method] + ", " + iterationText(r)},
-		{"certificate", r.Status.String() + " (the advice is proven within the gap of the optimum from every condition)"},
+		{"certificate", r.Status.String() + " (whether the proven gap is within the tolerance)"},
 		{"proven gap (" + cur + ")", cell{r.Gap, sciCell}},
 		{"tolerance (" + cur + ")", cell{r.Tol, sciCell}},
 		{"Bellman residual (" + cur + ")", cell{r.Residual, sciCell}},
@@ -182,7 +182,7 @@ func (a *AverageAdvice) WriteXLSX(w io.Writer) error {
 	b.assumptions([]fact{
 		{"criterion", "long-run average cost per period (undiscounted)"},
 		{"solver", fmt.Sprintf("%s, %d iterations; gain bounds min/max (Th - h) (Odoni 1969)", methodTitles[r.Method], r.Iterations)},
-		{"certificate", r.Status.String() + " (the optimal gain is proven within the bounds on the Summary sheet)"},
+		{"certificate", r.Status.String() + " (whether the proven bounds on the gain are within the tolerance)"},
 		{"proven gap of the gain per period (" + cur + ")", cell{r.GainUpper - r.GainLower, sciCell}},
 		{"tolerance (" + cur + ")", cell{r.Tol, sciCell}},
 		{"thresholds", a.Thresholds()},
@@ -275,7 +275,7 @@ func (s *SystemAdvice) WriteXLSX(w io.Writer) error {
 		fact{"shutdown cost per period with work (" + cur + ")", cell{sys.Shutdown, moneyCell}},
 		fact{"down cost per period with a component unsafe (" + cur + ")", cell{sys.Down, moneyCell}},
 		fact{"solver", fmt.Sprintf("structured value iteration (Kronecker mode products), %d sweeps", r.Sweeps)},
-		fact{"certificate", r.Status.String() + " (the advice is proven within the gap of the optimum from every joint state)"},
+		fact{"certificate", r.Status.String() + " (whether the proven gap is within the tolerance)"},
 		fact{"proven gap (" + cur + ")", cell{r.Gap, sciCell}},
 		fact{"tolerance (" + cur + ")", cell{r.Tol, sciCell}},
 		fact{"Bellman residual at the estimate (" + cur + ")", cell{r.Residual, sciCell}},

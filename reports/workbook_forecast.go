@@ -73,7 +73,7 @@ func (f *Forecast) WriteXLSX(w io.Writer) error {
 	case f.Result != nil:
 		facts = append(facts, resultFacts(f.Result, cur)...)
 	case f.Average != nil:
-		facts = append(facts, fact{"certificate", f.Average.Status.String() + " (the optimal gain is proven within the gap)"},
+		facts = append(facts, fact{"certificate", f.Average.Status.String() + " (whether the proven bounds on the gain are within the tolerance)"},
 			fact{"proven gap of the gain per period (" + cur + ")", cell{f.Average.GainUpper - f.Average.GainLower, sciCell}},
 			fact{"tolerance (" + cur + ")", cell{f.Average.Tol, sciCell}})
 	}

@@ -4,6 +4,7 @@ import (
 	"archive/zip"
 	"bytes"
 	"context"
+	"fmt"
 	"io"
 	"math"
 	"runtime"
@@ -269,4 +270,44 @@ func near(s string, x, tol float64) bool {
 		return false
 	}
 	return math.Abs(got-x) <= tol*math.Abs(x)
+}
+
+// BenchmarkWorkbook writes the advice workbook of a small class, and
+// sheets of n rows of 13 cells (the shape of a joint table of three
+// components), to size maxJointRows.
+func BenchmarkWorkbook(b *testing.B) {
+	t := &testing.T{}
+	a := smallAdvice(t, "Invented pumps", "EUR", []string{"good", "worn", "failed"}, []string{"leave", "renew"})
+	b.Run("advice", func(b *testing.B) {
+		b.ReportAllocs()
+		for b.Loop() {
+			if err := a.WriteXLSX(io.Discard); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+	for _, n := range []int{1000, maxJointRows} {
+		b.Run(fmt.Sprintf("rows=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				wb := newWorkbook(&Header{Model: "Invented", Currency: "EUR"}, "rows")
+				cols := make([]column, 13)
+				for i := range cols {
+					cols[i] = column{fmt.Sprintf("c%d", i), moneyCell}
+				}
+				for i := range 8 {
+					cols[i].kind = textCell
+				}
+				s := wb.sheet("Rows", "rows", cols...)
+				for r := range n {
+					s.add("a=good,b=worn,c=fair", "good", "worn", "fair", "a=leave,b=renew,c=leave", "leave", "renew", "leave",
+						float64(r)*1.5, float64(r)*1.4, float64(r)*1.6, "a=renew,b=renew,c=leave", 12.5)
+				}
+				if err := wb.write(io.Discard); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(n)*13/float64(b.Elapsed().Seconds())*float64(b.N), "cells/s")
+		})
+	}
 }

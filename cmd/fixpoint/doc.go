@@ -7,7 +7,7 @@
 //
 // Commands:
 //
-//	fixpoint solve FILE   the certified advice per condition (table, json, csv)
+//	fixpoint solve FILE   the certified advice per condition (table, json, csv, xlsx)
 //	fixpoint check FILE   validate a class config, listing every problem
 //	fixpoint init [PATH]  write a commented starter class config
 //
@@ -27,6 +27,9 @@
 //	2    usage: unknown command or flag, bad flag or setting value
 //	3    the answer was written but is not certified to the tolerance
 //	130  interrupted (SIGINT or SIGTERM); no output file is left behind
+//
+// Workbooks (--format xlsx, or -o FILE.xlsx) are written by solve,
+// compare, sensitivity and forecast, to a file only.
 //
 // Output files (-o) are written to a temporary file and renamed into place;
 // fixpoint refuses to write over an input and replaces an existing output
