@@ -241,17 +241,14 @@ func (s *SystemAdvice) WriteXLSX(w io.Writer) error {
 			Money(float64(len(r.Policy)), 0), Money(maxJointRows, 0)))
 	} else {
 		for st := range r.Policy {
-			row := []any{sys.StateName(st)}
-			for i, x := range sys.Coords(st) {
-				row = append(row, sys.Components[i].Model.States[x].Name)
-			}
-			row = append(row, sys.ActionName(int(r.Policy[st])))
-			for i, a := range sys.ActionCoords(int(r.Policy[st])) {
-				row = append(row, sys.Components[i].Model.Actions[a].Name)
+			names, runnerUp := s.jointNames(st)
+			row := make([]any, len(names))
+			for i, n := range names {
+				row[i] = n
 			}
 			var runner, margin any
-			if r.RunnerUp[st] >= 0 {
-				runner, margin = sys.ActionName(int(r.RunnerUp[st])), r.Margin[st]
+			if runnerUp != "" {
+				runner, margin = runnerUp, r.Margin[st]
 			}
 			sh.add(append(row, r.Value[st], r.Lower[st], r.Upper[st], runner, margin)...)
 		}

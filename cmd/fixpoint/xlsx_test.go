@@ -214,20 +214,32 @@ func headsAfter(head []string, i int, suffix string) []string {
 	return out
 }
 
-func checkAdvice(t *testing.T, f *excelize.File, js map[string]any) {
-	cur := str(js["currency"])
+// checkAdviceSheet checks the Advice sheet of a class: per state the
+// cells lead gives, then the Q-value of every action named in the
+// headings after them. It returns the actions.
+func checkAdviceSheet(t *testing.T, f *excelize.File, js map[string]any, lead func(st map[string]any) []any) []string {
+	t.Helper()
 	head, _ := sheetTable(t, f, "Advice")
-	actions := headsAfter(head, 8, " now, then the advice ("+cur+")")
+	states := arr(js["states"])
+	actions := headsAfter(head, len(lead(obj(states[0]))), " now, then the advice ("+str(js["currency"])+")")
 	var want [][]any
-	for _, s := range arr(js["states"]) {
+	for _, s := range states {
 		st := obj(s)
-		row := []any{st["state"], st["unsafe"], st["action"], st["value"], st["lower"], st["upper"], st["runner_up"], numOrNil(st["margin"])}
+		row := lead(st)
 		for _, a := range actions {
 			row = append(row, numOrNil(obj(st["q"])[a]))
 		}
 		want = append(want, row)
 	}
 	checkTable(t, f, "Advice", want)
+	return actions
+}
+
+func checkAdvice(t *testing.T, f *excelize.File, js map[string]any) {
+	cur := str(js["currency"])
+	actions := checkAdviceSheet(t, f, js, func(st map[string]any) []any {
+		return []any{st["state"], st["unsafe"], st["action"], st["value"], st["lower"], st["upper"], st["runner_up"], numOrNil(st["margin"])}
+	})
 
 	life := obj(js["life"])
 	states := arr(js["states"])
@@ -246,7 +258,7 @@ func checkAdvice(t *testing.T, f *excelize.File, js map[string]any) {
 	checkFacts(t, f, "Summary", facts)
 
 	py := js["period_years"].(float64)
-	want = nil
+	var want [][]any
 	for _, s := range states {
 		name := str(obj(s)["state"])
 		row := []any{name, passageCell(obj(life["periods_to_worst_passive"]), name), passageCell(obj(life["periods_to_worst_policy"]), name)}
@@ -279,18 +291,9 @@ func checkAdvice(t *testing.T, f *excelize.File, js map[string]any) {
 
 func checkAverage(t *testing.T, f *excelize.File, js map[string]any) {
 	cur := str(js["currency"])
-	head, _ := sheetTable(t, f, "Advice")
-	actions := headsAfter(head, 6, " now, then the advice ("+cur+")")
-	var want [][]any
-	for _, s := range arr(js["states"]) {
-		st := obj(s)
-		row := []any{st["state"], st["unsafe"], st["action"], st["bias"], st["runner_up"], numOrNil(st["margin"])}
-		for _, a := range actions {
-			row = append(row, numOrNil(obj(st["q"])[a]))
-		}
-		want = append(want, row)
-	}
-	checkTable(t, f, "Advice", want)
+	checkAdviceSheet(t, f, js, func(st map[string]any) []any {
+		return []any{st["state"], st["unsafe"], st["action"], st["bias"], st["runner_up"], numOrNil(st["margin"])}
+	})
 	checkFacts(t, f, "Summary", map[string]any{
 		"long-run average cost per year (" + cur + ")":   js["gain_per_year"],
 		"proven lower bound per year (" + cur + ")":      js["gain_lower_per_year"],
