@@ -85,24 +85,30 @@ func capitalize(s string) string {
 
 func (a *Advice) solverLine() string {
 	r := a.Result
+	return solverText(r.Method, r.Iterations, r.Gap, r.Tol, r.Residual, r.Status, a.Currency)
+}
+
+// solverText is the certificate in one sentence: method, iterations,
+// proven gap against the tolerance, Bellman residual and status.
+func solverText(m optimize.Method, iterations int, gap, tol, residual float64, status optimize.Status, currency string) string {
 	return fmt.Sprintf("Solver: %s, %s; proven gap %s %s (tolerance %s), Bellman residual %s: %s.",
-		methodTitles[r.Method], a.iterationText(), sci(r.Gap), a.Currency, sci(r.Tol), sci(r.Residual), r.Status)
+		methodTitles[m], iterationText(m, iterations), sci(gap), currency, sci(tol), sci(residual), status)
 }
 
 // iterationText counts the iterations in the method's own unit: "2 steps".
-func (a *Advice) iterationText() string { return iterationText(a.Result) }
+func (a *Advice) iterationText() string { return iterationText(a.Result.Method, a.Result.Iterations) }
 
-func iterationText(r *optimize.Result) string {
+func iterationText(m optimize.Method, n int) string {
 	unit := "step"
-	if r.Method == optimize.ValueIteration {
+	if m == optimize.ValueIteration {
 		unit = "sweep"
-	} else if r.Method == optimize.LinearProgram {
+	} else if m == optimize.LinearProgram {
 		unit = "simplex solve"
 	}
-	if r.Iterations != 1 {
+	if n != 1 {
 		unit += "s"
 	}
-	return fmt.Sprintf("%d %s", r.Iterations, unit)
+	return fmt.Sprintf("%d %s", n, unit)
 }
 
 func (a *Advice) tieLines() []string {

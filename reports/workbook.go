@@ -442,7 +442,11 @@ func (s *sheet) finish() {
 	b := s.b
 	widths := make([]float64, len(s.widths))
 	for i, w := range s.widths {
-		widths[i] = math.Min(math.Max(w+2, minWidth), s.widest)
+		pad := 2.0 // a digit's width each side
+		if s.cols[i].kind != textCell {
+			pad = 3 // a right-aligned number keeps clear of the text beside it
+		}
+		widths[i] = math.Min(math.Max(w+pad, minWidth), s.widest)
 		name, _ := excelize.ColumnNumberToName(i + 1)
 		b.try(b.f.SetColWidth(s.name, name, name, widths[i]))
 	}

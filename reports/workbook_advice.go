@@ -66,7 +66,7 @@ func qRow(p *optimize.Problem, s int, q []float64) []any {
 // resultFacts states how a discounted answer was found and certified.
 func resultFacts(r *optimize.Result, cur string) []fact {
 	return []fact{
-		{"solver", methodTitles[r.Method] + ", " + iterationText(r)},
+		{"solver", methodTitles[r.Method] + ", " + iterationText(r.Method, r.Iterations)},
 		{"certificate", r.Status.String() + " (whether the proven gap is within the tolerance)"},
 		{"proven gap (" + cur + ")", cell{r.Gap, sciCell}},
 		{"tolerance (" + cur + ")", cell{r.Tol, sciCell}},
