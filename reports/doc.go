@@ -1,6 +1,6 @@
 // Package reports presents fixpoint's results: terminal tables (via
-// tablewriter), CSV and JSON for other programs, and PDF briefs (via
-// gofpdf). It formats; the arithmetic (equivalent annual costs, yearly
+// tablewriter), CSV and JSON for other programs, spreadsheet workbooks
+// (via excelize) and PDF briefs (via gofpdf). It formats; the arithmetic (equivalent annual costs, yearly
 // sums, bounds) is done in costs and optimize.
 //
 // Key types: Header (model, currency, period, discount, condition scale,
@@ -9,7 +9,12 @@
 // PlanReport, SimulationReport, FitReport, InspectionAdvice and
 // InspectionCalendar, each with WriteTable, WriteJSON and WriteCSV; Brief
 // and FleetBrief with WritePDF. InspectionAdvice.LookAgain returns its
-// brief page as data (Page), for a PDF renderer to lay out.
+// brief page as data (Page), for a PDF renderer to lay out. The views of
+// tables also have WriteXLSX, a workbook built by one builder
+// (workbook.go): the caution on the first row of every sheet, frozen
+// headings, numbers as numbers with number formats (currency in its ISO
+// 4217 minor unit), native charts and an Assumptions sheet; workbooks
+// carry a fixed date, so that the same view gives the same bytes.
 //
 // Conventions. Every output carries the Caution: tables print it below
 // the table, JSON under "caution", CSV as a leading comment line followed

@@ -17,6 +17,11 @@ type Forecast struct {
 	// the average criterion: the total is then undiscounted).
 	Factor   float64
 	Forecast *optimize.Forecast
+	// Result or Average, when set, is the solve behind the advice
+	// (discounted or long-run average): the workbook states its
+	// certificate.
+	Result  *optimize.Result
+	Average *optimize.AverageResult
 }
 
 // criterion says what the present value of the forecast is.

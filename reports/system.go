@@ -219,20 +219,32 @@ func (s *SystemAdvice) WriteCSV(w io.Writer) error {
 	}
 	cw.Write(append(header, "value", "lower", "upper", "runner_up", "margin"))
 	for st := range r.Policy {
-		row := []string{sys.StateName(st)}
-		for i, x := range sys.Coords(st) {
-			row = append(row, sys.Components[i].Model.States[x].Name)
-		}
-		row = append(row, sys.ActionName(int(r.Policy[st])))
-		for i, a := range sys.ActionCoords(int(r.Policy[st])) {
-			row = append(row, sys.Components[i].Model.Actions[a].Name)
-		}
-		runner, margin := "", ""
-		if r.RunnerUp[st] >= 0 {
-			runner, margin = sys.ActionName(int(r.RunnerUp[st])), Fixed(r.Margin[st], 6)
+		row, runner := s.jointNames(st)
+		margin := ""
+		if runner != "" {
+			margin = Fixed(r.Margin[st], 6)
 		}
 		cw.Write(append(row, Fixed(r.Value[st], 6), Fixed(r.Lower[st], 6), Fixed(r.Upper[st], 6), runner, margin))
 	}
 	cw.Flush()
 	return cw.Error()
+}
+
+// jointNames names the row of joint state st in the full joint table: the
+// joint state, each component's condition, the joint action and each
+// component's action; and the runner-up ("" when there is none).
+func (s *SystemAdvice) jointNames(st int) (row []string, runner string) {
+	sys, r := s.System, s.Result
+	row = []string{sys.StateName(st)}
+	for i, x := range sys.Coords(st) {
+		row = append(row, sys.Components[i].Model.States[x].Name)
+	}
+	row = append(row, sys.ActionName(int(r.Policy[st])))
+	for i, a := range sys.ActionCoords(int(r.Policy[st])) {
+		row = append(row, sys.Components[i].Model.Actions[a].Name)
+	}
+	if r.RunnerUp[st] >= 0 {
+		runner = sys.ActionName(int(r.RunnerUp[st]))
+	}
+	return row, runner
 }

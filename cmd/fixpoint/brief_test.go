@@ -22,12 +22,20 @@ func poppler(t *testing.T, tool string) string {
 	t.Helper()
 	path, err := exec.LookPath(tool)
 	if err != nil {
-		if os.Getenv("CI") == "true" {
-			t.Fatalf("%s not found; CI must install poppler-utils", tool)
-		}
-		t.Skipf("%s not found (Debian package poppler-utils); skipping", tool)
+		missing(t, tool, "poppler-utils")
 	}
 	return path
+}
+
+// missing skips a test whose external reference tool is absent, except
+// under CI=true, where .ci/run installs the tool's Debian package and its
+// absence fails.
+func missing(t *testing.T, tool, pkg string) {
+	t.Helper()
+	if os.Getenv("CI") == "true" {
+		t.Fatalf("%s not found; CI must install %s", tool, pkg)
+	}
+	t.Skipf("%s not found (Debian package %s); skipping", tool, pkg)
 }
 
 func writeBrief(t *testing.T, config string, extra ...string) string {

@@ -37,7 +37,7 @@ Without --rates the config's discount.compare list is used.`,
 	f := cmd.Flags()
 	settings.AddSolver(f)
 	settings.AddRates(f, "annual `rates`: a list 2%,3.5%,0.05 or a range lo:hi[:step]")
-	settings.AddOutput(f, "table", "json", "csv")
+	settings.AddOutput(f, settings.Reports()...)
 	return cmd
 }
 

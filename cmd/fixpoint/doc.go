@@ -7,7 +7,7 @@
 //
 // Commands, and the kinds of file each takes:
 //
-//	fixpoint solve FILE        class, system  the certified advice per condition (table, json, csv);
+//	fixpoint solve FILE        class, system  the certified advice per condition (table, json, csv, xlsx);
 //	                                          --robust: advice for the worst matrices the data allow (class)
 //	fixpoint check FILE        class, system, fleet  validate, listing every problem
 //	fixpoint compare FILE      class          the advice across discount rates, every switch point
@@ -60,6 +60,9 @@
 //	2    usage: unknown command or flag, bad flag or setting value, an output path refused
 //	3    the answer was written but is not certified to the tolerance
 //	130  interrupted (SIGINT or SIGTERM); no output file is left behind
+//
+// Workbooks (--format xlsx, or -o FILE.xlsx) are written by solve,
+// compare, sensitivity and forecast, to a file only.
 //
 // Output files (-o) are written through a temporary file in the same
 // directory and renamed into place; fixpoint never writes a file it read

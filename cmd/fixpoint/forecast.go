@@ -37,28 +37,36 @@ the unconstrained advice) N times on whole units and reports percentile bands.`,
 	settings.AddYears(f, "horizon in `years` (default 10; for a fleet, the fleet file's)")
 	settings.AddSimulation(f)
 	settings.AddFleet(f)
-	settings.AddOutput(f, "table", "json", "csv")
+	settings.AddOutput(f, settings.Reports()...)
 	return cmd
 }
 
-// classPolicy solves a class under its criterion and returns the advice
-// with the discount factor its present values use (1 under the average
-// criterion: totals are then undiscounted).
-func (a *app) classPolicy(cmd *cobra.Command, r *classRun, s optimize.Settings) ([]int, float64, *optimize.Result, error) {
+// classAdvice is the advice of a class under its criterion: the policy,
+// the discount factor its present values use (1 under the average
+// criterion: totals are then undiscounted) and the solve behind it.
+type classAdvice struct {
+	Policy  []int
+	Factor  float64
+	Result  *optimize.Result
+	Average *optimize.AverageResult
+}
+
+// classPolicy solves a class under its criterion.
+func (a *app) classPolicy(cmd *cobra.Command, r *classRun, s optimize.Settings) (classAdvice, error) {
 	if r.Average {
 		res, err := optimize.SolveAverage(cmd.Context(), r.Problem, &s)
 		if err != nil {
-			return nil, 0, nil, err
+			return classAdvice{}, err
 		}
 		a.safetyWarnings(r, res.Policy)
-		return res.Policy, 1, nil, nil
+		return classAdvice{Policy: res.Policy, Factor: 1, Average: res}, nil
 	}
 	res, err := optimize.Solve(cmd.Context(), r.Problem, &s)
 	if err != nil {
-		return nil, 0, nil, err
+		return classAdvice{}, err
 	}
 	a.safetyWarnings(r, res.Policy)
-	return res.Policy, r.Discount.Factor(), res, nil
+	return classAdvice{Policy: res.Policy, Factor: r.Discount.Factor(), Result: res}, nil
 }
 
 func (a *app) forecast(cmd *cobra.Command, path string) error {
@@ -76,6 +84,9 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if f.Fleet != nil {
 		if st.Simulate == 0 {
 			return usagef("for a fleet file give --simulate N (or use fixpoint plan for the expected-count plan)")
+		}
+		if st.Output.Format == "xlsx" {
+			return usagef("forecast --simulate writes table, json or csv; workbooks (--format xlsx) are written for class configs")
 		}
 		if err := a.src.NotFor("a fleet file", " (the fleet's classes give the discount and the plan the policy)",
 			"method", "tol", "max-iterations", "rate", "factor", "mix", "from", "units"); err != nil {
@@ -101,20 +112,21 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if years == 0 {
 		years = 10
 	}
-	policy, gamma, res, err := a.classPolicy(cmd, r, st.Solver)
+	adv, err := a.classPolicy(cmd, r, st.Solver)
 	if err != nil {
 		return err
 	}
-	fc, err := optimize.NewForecast(r.Model, r.Costs, gamma, policy, start, r.Period.Count(years))
+	fc, err := optimize.NewForecast(r.Model, r.Costs, adv.Factor, adv.Policy, start, r.Period.Count(years))
 	if err != nil {
 		return err
 	}
-	view := &reports.Forecast{Header: header(r.Class), Actions: r.Problem.Actions, Factor: gamma, Forecast: fc}
+	view := &reports.Forecast{Header: header(r.Class), Actions: r.Problem.Actions, Factor: adv.Factor, Forecast: fc,
+		Result: adv.Result, Average: adv.Average}
 	if err := a.emit(cmd, st.Output, view); err != nil {
 		return err
 	}
-	if res != nil {
-		return uncertified(res)
+	if adv.Result != nil {
+		return uncertified(adv.Result)
 	}
 	return nil
 }

@@ -29,7 +29,7 @@ with the change that happens first beyond each end.`,
 	f := cmd.Flags()
 	settings.AddSolver(f)
 	settings.AddOverride(f)
-	settings.AddOutput(f, "table", "json", "csv")
+	settings.AddOutput(f, settings.Reports()...)
 	return cmd
 }
 

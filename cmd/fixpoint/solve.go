@@ -52,7 +52,7 @@ Exit status 3 means the answer was written but its proven gap is above --tol.`,
 	settings.AddTarget(f)
 	settings.AddSystem(f)
 	settings.AddRobust(f)
-	settings.AddOutput(f, "table", "json", "csv")
+	settings.AddOutput(f, settings.Reports()...)
 	return cmd
 }
 
@@ -63,14 +63,24 @@ type report interface {
 	WriteCSV(io.Writer) error
 }
 
-// emit writes r in the format of o.
+// workbook is a report that is also written as a spreadsheet workbook.
+type workbook interface{ WriteXLSX(io.Writer) error }
+
+// emit writes r in the format of o (xlsx only to a file: settings.Output
+// refuses it without one).
 func (a *app) emit(cmd *cobra.Command, o settings.Output, r report) error {
+	wb, isWorkbook := r.(workbook)
+	if o.Format == "xlsx" && !isWorkbook {
+		return usagef("this result has no workbook; use --format table, json or csv")
+	}
 	return a.target(o).Write(cmd.Context(), a.stdout, func(w io.Writer) error {
 		switch o.Format {
 		case "json":
 			return r.WriteJSON(w)
 		case "csv":
 			return r.WriteCSV(w)
+		case "xlsx":
+			return wb.WriteXLSX(w)
 		}
 		return r.WriteTable(w)
 	})
@@ -100,6 +110,9 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 	}
 	if err := a.src.NotFor("a class config", " (they size the joint model of a system file)", "workers", "max-memory-gib", "max-hours"); err != nil {
 		return err
+	}
+	if st.Output.Format == "xlsx" && (f.Class.Inspection != nil || st.Robust.On) {
+		return usagef("inspection and robust advice have no workbook yet; use --format table, json or csv")
 	}
 	if f.Class.Inspection != nil {
 		return a.solveInspection(cmd, f.Class, st)

@@ -120,7 +120,7 @@ func (s *Source) Criterion() (string, error) {
 
 // Solve reads the settings of solve.
 func (s *Source) Solve() (st Solve, err error) {
-	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
+	if st.Output, err = s.Output(Reports()...); err != nil {
 		return
 	}
 	if st.Solver, err = s.Solver(); err != nil {
@@ -173,7 +173,7 @@ type Compare struct {
 
 // Compare reads the settings of compare.
 func (s *Source) Compare() (st Compare, err error) {
-	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
+	if st.Output, err = s.Output(Reports()...); err != nil {
 		return
 	}
 	if st.Solver, err = s.Solver(); err != nil {
@@ -192,7 +192,7 @@ type Sensitivity struct {
 
 // Sensitivity reads the settings of sensitivity.
 func (s *Source) Sensitivity() (st Sensitivity, err error) {
-	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
+	if st.Output, err = s.Output(Reports()...); err != nil {
 		return
 	}
 	if st.Solver, err = s.Solver(); err != nil {
@@ -361,7 +361,7 @@ func AddSimulation(f *pflag.FlagSet) {
 
 // Forecast reads the settings of forecast.
 func (s *Source) Forecast() (st Forecast, err error) {
-	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
+	if st.Output, err = s.Output(Reports()...); err != nil {
 		return
 	}
 	if st.Solver, err = s.Solver(); err != nil {

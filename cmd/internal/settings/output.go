@@ -10,12 +10,17 @@ import (
 
 // Output is where and how a command writes its result.
 type Output struct {
-	// Format is table, json, csv, yaml or pdf.
+	// Format is table, json, csv, yaml, xlsx or pdf.
 	Format string
 	// Path is the output file, or "" for standard output.
 	Path  string
 	Force bool
 }
+
+// Reports are the formats of the commands whose results are tables
+// (solve, compare, sensitivity, forecast): a terminal table, JSON, CSV or
+// a spreadsheet workbook.
+func Reports() []string { return []string{"table", "json", "csv", "xlsx"} }
 
 // AddOutput declares --format (one of formats, the first the default),
 // --output and --force.
@@ -51,6 +56,9 @@ func (s *Source) Output(formats ...string) (Output, error) {
 		o.Format = implied
 	case implied != o.Format && implied != "table":
 		return o, Errorf("--format %s contradicts the output file %s (a %s file); drop --format or rename the file", o.Format, o.Path, implied)
+	}
+	if o.Format == "xlsx" && o.Path == "" {
+		return o, Errorf("--format xlsx writes a workbook, which goes to a file, not to standard output: give -o FILE.xlsx")
 	}
 	return o, nil
 }
