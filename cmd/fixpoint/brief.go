@@ -107,7 +107,7 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	b := &reports.Brief{
 		Advice:   adv,
 		Forecast: &reports.Forecast{Header: header(r.Class), Actions: r.Problem.Actions, Factor: r.Discount.Factor(), Forecast: fc},
-		Model:    r.Model, Costs: r.Costs, Date: st.Date,
+		Model:    r.Model, Costs: r.Costs, Imprint: reports.Imprint{Date: st.Date},
 	}
 	if len(st.Rates.List) > 0 || len(r.Compare) > 0 {
 		if b.Compare, err = comparison(cmd, st.Solver, r.Class, r.Problem, st.Rates); err != nil {
