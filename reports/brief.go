@@ -115,75 +115,92 @@ func (b *Brief) WritePDF(w io.Writer) error {
 	return d.output(w)
 }
 
-// front is what page 1 of every brief carries: a recommendation (with
-// its notes), a table, the key assumptions and the sign-off.
+// front is what page 1 of every brief carries: a recommendation, a
+// table, notes under a heading of their own, the key assumptions and the
+// sign-off.
 type front struct {
 	title, tableTitle, tableNote string
 	recommendation               []string
+	notesTitle                   string
 	notes                        []string
 	table                        pdfTable
 	assumptions                  []string
 }
 
+// minFrontRows is the fewest table rows page 1 shows; with less room the
+// whole table moves to page 2.
+const minFrontRows = 3
+
 // drawFront lays out page 1 so that the recommendation, the key
-// assumptions and the sign-off are always on it: the table takes the
-// room left between them, and the rows that do not fit (and, when the
-// notes would crowd the page, the notes) continue on page 2.
+// assumptions and the sign-off are always on it: the table and the notes
+// take the room left between them, and what does not fit (the rows that
+// overflow, the notes) continues on page 2 with a line saying so.
 func (d *doc) drawFront(h *Header, im Imprint, f front) {
 	d.pdf.AddPage()
 	d.titleBlock(f.title, h.Model, "", true)
 	d.traceBlock(traceOf(h, im), true)
-	const contNote = "The table continues on the next page."
-	tail := d.keyAssumptionsBlock(f.assumptions, false) + d.signOffBlock(false) +
-		d.paragraphBlock(f.tableNote, smallSize, muted, 3.8, false) + d.paragraphBlock(contNote, smallSize, muted, 3.8, false)
-	recH := d.headingBlock("Recommendation", false)
-	for _, r := range f.recommendation {
-		recH += d.paragraphBlock(r, bodySize, ink, lineH, false)
-	}
-	notesH := 0.0
-	for _, n := range f.notes {
-		notesH += d.paragraphBlock(n, bodySize, ink, lineH, false)
-	}
-	tableHead := d.headingBlock(f.tableTitle, false) + 2*(cellLH+2*cellPad)
-	deferNotes := d.y()+recH+notesH+tableHead+tail > contentBottom
+	const contNote = "Continued on the next page: the rest of the table and the notes on this advice."
+	tail := d.keyAssumptionsBlock(f.assumptions, false) + d.signOffBlock(false) + d.paragraphBlock(contNote, smallSize, muted, 3.8, false)
 	d.mark("recommendation")
 	d.headingBlock("Recommendation", true)
 	for _, r := range f.recommendation {
 		d.paragraph(r)
 	}
-	if deferNotes && len(f.notes) > 0 {
-		d.paragraph("The notes on this advice are on the next page; read them before acting.")
-	} else {
-		for _, n := range f.notes {
-			d.paragraph(n)
-		}
+	limit := contentBottom - tail
+	notesH := 0.0
+	if len(f.notes) > 0 {
+		notesH = d.headingBlock(f.notesTitle, false) + d.bullets(f.notes, false)
 	}
-	d.headingBlock(f.tableTitle, true)
-	next := d.tableUntil(&f.table, 0, contentBottom-tail, 1)
-	if next < len(f.table.rows) {
-		d.note(contNote)
-	} else {
+	tableH := d.headingBlock(f.tableTitle, false) + d.paragraphBlock(f.tableNote, smallSize, muted, 3.8, false) + 3
+	// Rows go on page 1 only when at least minFrontRows of them fit.
+	next := 0
+	if d.y()+tableH+d.tableHeight(&f.table, minFrontRows) <= limit {
+		d.headingBlock(f.tableTitle, true)
+		next = d.tableUntil(&f.table, 0, limit-tableH+d.headingBlock(f.tableTitle, false), min(minFrontRows, len(f.table.rows)))
 		d.setY(d.y() + 1)
+		d.note(f.tableNote)
 	}
-	d.note(f.tableNote)
+	notesHere := next == len(f.table.rows) && d.y()+notesH <= limit
+	if notesHere && len(f.notes) > 0 {
+		d.headingBlock(f.notesTitle, true)
+		d.bullets(f.notes, true)
+	}
+	var more []string
+	if next < len(f.table.rows) {
+		more = append(more, "the rest of the table")
+	}
+	if !notesHere && len(f.notes) > 0 {
+		more = append(more, strings.ToLower(f.notesTitle[:1])+f.notesTitle[1:])
+	}
+	rest := len(more) > 0
+	if rest {
+		d.note("Continued on the next page: " + joinAnd(more) + ".")
+	}
 	d.keyAssumptionsBlock(f.assumptions, true)
 	d.signOffBlock(true)
-	if next == len(f.table.rows) && !(deferNotes && len(f.notes) > 0) {
+	if !rest {
 		return
 	}
 	d.pdf.AddPage()
 	if next < len(f.table.rows) {
-		d.headingBlock(f.tableTitle+" (continued)", true)
+		title := f.tableTitle
+		if next > 0 {
+			title += " (continued)"
+		}
+		d.headingBlock(title, true)
 		cols := d.layoutColumns(&f.table)[0]
 		d.tablePart(&f.table, cols, next, contentBottom, 0)
-		d.setY(d.y() + 2)
-	}
-	if deferNotes && len(f.notes) > 0 {
-		d.heading("Notes on the advice", 20)
-		for _, n := range f.notes {
-			d.paragraph(n)
+		d.setY(d.y() + 1)
+		if next == 0 {
+			d.note(f.tableNote)
 		}
 	}
+	if len(f.notes) > 0 && !notesHere {
+		d.need(d.headingBlock(f.notesTitle, false) + 2*lineH)
+		d.headingBlock(f.notesTitle, true)
+		d.bullets(f.notes, true)
+	}
+	d.setY(d.y() + 4)
 }
 
 func (b *Brief) pageFront(d *doc) {
@@ -191,9 +208,10 @@ func (b *Brief) pageFront(d *doc) {
 	p := b.problem()
 	var notes []string
 	for _, n := range h.notes(b.policy(), p.Actions, b.warnings()) {
-		notes = append(notes, "Note: "+capitalize(n))
+		notes = append(notes, capitalize(n))
 	}
-	f := front{title: "Maintenance policy brief", tableTitle: "Advice per condition", notes: notes, assumptions: b.keyAssumptions()}
+	f := front{title: "Maintenance policy brief", tableTitle: "Advice per condition", notesTitle: "Notes on the advice",
+		notes: notes, assumptions: b.keyAssumptions()}
 	cur := h.Currency
 	if a := b.Average; a != nil {
 		r := a.Result
@@ -437,7 +455,7 @@ func (b *Brief) pageCharts(d *doc) {
 			spend = append(spend, series{name: name, color: acol[act], values: v})
 		}
 	}
-	d.stackedBars(marginX, d.y()+3, contentW, 60, "Expected spend on the same units per "+unit+" by action ("+h.Currency+")", "year", h.Currency, cats, spend,
+	d.stackedBars(marginX, d.y()+3, contentW, 60, "Expected spend per "+unit+" by action ("+h.Currency+"), for the same units", "year", h.Currency, cats, spend,
 		func(v float64) string { return Money(v, 0) })
 	if b.Advice == nil || b.Advice.Life == nil {
 		return

@@ -565,7 +565,7 @@ func (d *doc) traceBlock(t trace, draw bool) float64 {
 // competent person) and the approver, ruled lines for name, role,
 // signature and date; it returns the height.
 func (d *doc) signOffBlock(draw bool) float64 {
-	const rowH, gap = 7.5, 8.0
+	const rowH, gap = 6.8, 8.0
 	fields := []string{"Name", "Role", "Signature", "Date"}
 	h := d.headingBlock("Sign-off", false) + 4.5 + float64(len(fields))*rowH + 1
 	if !draw {
@@ -761,6 +761,18 @@ func (d *doc) table(t pdfTable) {
 		d.tablePart(&t, cols, 0, contentBottom, 0)
 	}
 	d.setY(d.y() + 2)
+}
+
+// tableHeight is the height of the header and the first n rows of t
+// (columns of the first part).
+func (d *doc) tableHeight(t *pdfTable, n int) float64 {
+	cols := d.layoutColumns(t)[0]
+	w := widthsOf(t, cols)
+	h := d.layRow(t, t.header, cols, w, true, -1).h
+	for i := range min(n, len(t.rows)) {
+		h += d.layRow(t, t.rows[i], cols, w, false, i).h
+	}
+	return h
 }
 
 // tableUntil draws the rows of t from row from that fit above limit on
