@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"strings"
 	"unicode"
+	"unicode/utf8"
 
 	"golang.org/x/image/font/gofont/gobold"
 	"golang.org/x/image/font/gofont/goregular"
@@ -79,7 +80,8 @@ func (fs *fontSet) faceOf(r rune) int {
 func (fs *fontSet) missing(s string) []rune {
 	var out []rune
 	for _, r := range s {
-		if r == ' ' || fs.faceOf(r) >= 0 {
+		// U+FFFD stands for bytes that are not UTF-8: never printable.
+		if r == ' ' || (r != utf8.RuneError && fs.faceOf(r) >= 0) {
 			continue
 		}
 		if !strings.ContainsRune(string(out), r) {
