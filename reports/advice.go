@@ -110,14 +110,19 @@ func (a *Advice) iterationText() string {
 }
 
 func (a *Advice) tieLines() []string {
+	return tieLines(a.Problem, a.Result.Ties, a.Result.TieTol, a.Currency)
+}
+
+// tieLines says each tie of an answer of p in words.
+func tieLines(p *optimize.Problem, ties []optimize.Tie, tol float64, currency string) []string {
 	var lines []string
-	for _, t := range a.Result.Ties {
+	for _, t := range ties {
 		names := make([]string, len(t.Actions))
 		for i, act := range t.Actions {
-			names[i] = a.Problem.Actions[act]
+			names[i] = p.Actions[act]
 		}
 		lines = append(lines, fmt.Sprintf("Tie in %s: %s are equally good within %s %s; the advice is the first listed in the config.",
-			a.Problem.States[t.State], joinAnd(names), sci(a.Result.TieTol), a.Currency))
+			p.States[t.State], joinAnd(names), sci(tol), currency))
 	}
 	return lines
 }

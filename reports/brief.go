@@ -213,37 +213,33 @@ func (b *Brief) pageFront(d *doc) {
 	f := front{title: "Maintenance policy brief", tableTitle: "Advice per condition", notesTitle: "Notes on the advice",
 		notes: notes, assumptions: b.keyAssumptions()}
 	cur := h.Currency
+	valueHead := "Expected cost, present value (" + cur + ")"
+	marginHead := "Margin (" + cur + ")"
+	var value []float64
+	var runnerUp []int
+	var margin []float64
 	if a := b.Average; a != nil {
 		r := a.Result
 		f.recommendation = a.recommendation()
-		f.table = pdfTable{
-			header: []string{"Condition", "Advice", "Relative value (" + cur + ")", "Runner-up", "Margin (" + cur + " per period)"},
-			widths: []float64{26, 22, 22, 22, 18}, right: []bool{false, false, true, false, true}}
-		for s := range r.Policy {
-			runner, margin := "none (only action)", "–"
-			if r.RunnerUp[s] >= 0 {
-				runner, margin = p.Actions[r.RunnerUp[s]], h.money(r.Margin[s])
-			}
-			f.table.rows = append(f.table.rows, []string{h.stateLabel(s), p.Actions[r.Policy[s]], h.money(r.Bias[s]), runner, margin})
-		}
+		valueHead, marginHead = "Relative value ("+cur+")", "Margin ("+cur+" per period)"
+		value, runnerUp, margin = r.Bias, r.RunnerUp, r.Margin
 		f.tableNote = fmt.Sprintf("Relative value: the extra total cost, over the long run, of a unit starting in that condition rather than in %s (0 there). "+
 			"Margin: how much the runner-up's cost in that condition must fall before it becomes the advice.", p.States[r.Ref])
 	} else {
-		a := b.Advice
-		r := a.Result
+		r := b.Advice.Result
 		f.recommendation = b.recommendation()
-		f.table = pdfTable{
-			header: []string{"Condition", "Advice", "Expected cost, present value (" + cur + ")", "Runner-up", "Margin (" + cur + ")"},
-			widths: []float64{26, 22, 24, 22, 18}, right: []bool{false, false, true, false, true}}
-		for s := range r.Policy {
-			runner, margin := "none (only action)", "–"
-			if r.RunnerUp[s] >= 0 {
-				runner, margin = p.Actions[r.RunnerUp[s]], h.money(r.Margin[s])
-			}
-			f.table.rows = append(f.table.rows, []string{h.stateLabel(s), p.Actions[r.Policy[s]], h.money(r.Value[s]), runner, margin})
-		}
+		value, runnerUp, margin = r.Value, r.RunnerUp, r.Margin
 		f.tableNote = "Margin: how much the runner-up's cost in that condition must fall before it becomes the advice. " +
 			"Present values are expected discounted costs from now on, for one unit starting in that condition."
+	}
+	f.table = pdfTable{header: []string{"Condition", "Advice", valueHead, "Runner-up", marginHead},
+		widths: []float64{26, 22, 24, 22, 18}, right: []bool{false, false, true, false, true}}
+	for s, act := range b.policy() {
+		runner, m := "none (only action)", "–"
+		if runnerUp[s] >= 0 {
+			runner, m = p.Actions[runnerUp[s]], h.money(margin[s])
+		}
+		f.table.rows = append(f.table.rows, []string{h.stateLabel(s), p.Actions[act], h.money(value[s]), runner, m})
 	}
 	d.drawFront(h, b.Imprint, f)
 }
@@ -689,7 +685,7 @@ func (b *Brief) pageInputs(d *doc) {
 			fmt.Sprintf("Gain of the advice %s %s per period; the optimal gain g* is proven to lie in [%s, %s] (width %s %s, tolerance %s): %s. "+
 				"The bounds min(Th − h) ≤ g* ≤ max(Th − h) hold for any h (Odoni 1969; Puterman 1994, §8.5.5).",
 				Fixed(r.Gain, 6), h.Currency, Fixed(r.GainLower, 6), Fixed(r.GainUpper, 6), sci(r.GainUpper-r.GainLower), h.Currency, sci(r.Tol), r.Status))
-		lines = append(lines, averageTieLines(a)...)
+		lines = append(lines, tieLines(a.Problem, r.Ties, r.TieTol, h.Currency)...)
 	} else {
 		a := b.Advice
 		r := a.Result
@@ -705,24 +701,4 @@ func (b *Brief) pageInputs(d *doc) {
 		d.paragraph(line)
 	}
 	d.modelTables(h, b.Model, b.Costs, "")
-}
-
-// averageTieLines says the ties of an average-criterion answer.
-func averageTieLines(a *AverageAdvice) []string {
-	var lines []string
-	for _, t := range a.Result.Ties {
-		names := make([]string, len(t.Actions))
-		for i, act := range t.Actions {
-			names[i] = a.Problem.Actions[act]
-		}
-		lines = append(lines, fmt.Sprintf("Tie in %s: %s are equally good within %s %s; the advice is the first listed in the config.",
-			a.Problem.States[t.State], joinAnd(names), sci(a.Result.TieTol), a.Currency))
-	}
-	return lines
-}
-
-func trimProb(p float64) string {
-	s := fmt.Sprintf("%.4f", p)
-	s = strings.TrimRight(strings.TrimRight(s, "0"), ".")
-	return s
 }

@@ -204,7 +204,7 @@ var hostile = []struct {
 	{"average", []string{"testdata/hostile/average.yaml"}, false},
 	{"machine6", []string{"testdata/hostile/machine6.yaml", "--prepared-for", "Kestrel Valley operations (invented)"}, false},
 	{"crane", []string{"../../configs/crane.yaml"}, false},
-	{"pumps", []string{demo, "--rates", "0:12%:1.5%"}, false},
+	{"pumps", []string{demo, "--rates", "0:12%:2%"}, false},
 }
 
 // haveCJKFont skips without the fallback font (Debian fonts-droid-fallback)
@@ -313,12 +313,14 @@ func TestBriefRefusesMissingGlyphs(t *testing.T) {
 // cores.
 func TestBriefDeterministicAcrossCores(t *testing.T) {
 	for _, tc := range hostile {
-		if tc.cjk {
+		// The class briefs' solvers run on one goroutine; the joint solve
+		// of a system splits its sweeps among the cores.
+		if tc.name != "long" && tc.name != "machine6" && tc.name != "crane" {
 			continue
 		}
 		t.Run(tc.name, func(t *testing.T) {
 			var got [][]byte
-			for _, procs := range []int{1, 2, 1} {
+			for _, procs := range []int{1, 2} {
 				prev := runtime.GOMAXPROCS(procs)
 				path := writeBrief(t, tc.args[0], tc.args[1:]...)
 				runtime.GOMAXPROCS(prev)
