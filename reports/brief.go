@@ -555,7 +555,7 @@ func (b *Brief) pageCompare(d *doc) {
 		t.rows = append(t.rows, last)
 		t.bold = append(t.bold, make([]bool, len(last)))
 		t.shade = make([]*rgb, len(t.rows))
-		t.shade[len(t.rows)-1] = &rgb{236, 236, 236}
+		t.shade[len(t.rows)-1] = &rgb{tableHeadShade, tableHeadShade, tableHeadShade}
 	}
 	d.table(t)
 	sw := c.SwitchSentences()

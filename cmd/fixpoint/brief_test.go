@@ -166,6 +166,10 @@ func TestBriefRefusals(t *testing.T) {
 		{"output is input", []string{"brief", cfg, "-o", cfg, "--force"}, exitUsage, "is the input file"},
 		{"bad date", []string{"brief", cfg, "-o", filepath.Join(dir, "x.pdf"), "--date", "1/12/2026"}, exitUsage, "is not a date YYYY-MM-DD"},
 		{"bad config", []string{"brief", filepath.Join(dir, "none.yaml"), "-o", filepath.Join(dir, "y.pdf")}, exitInput, "file not found"},
+		{"prepared-by on two lines", []string{"brief", cfg, "-o", filepath.Join(dir, "z.pdf"), "--prepared-by", "A. Example\nB. Example"}, exitUsage, "want one line"},
+		{"missing font", []string{"brief", cfg, "-o", filepath.Join(dir, "f.pdf"), "--font", filepath.Join(dir, "none.ttf")}, exitInput, "none.ttf: font: file not found"},
+		{"not a font", []string{"brief", cfg, "-o", filepath.Join(dir, "g.pdf"), "--font", cfg}, exitInput, "reports: font pumps.yaml"},
+		{"system flags on a class", []string{"brief", cfg, "-o", filepath.Join(dir, "h.pdf"), "--workers", "2"}, exitUsage, "--workers does not apply to a class config"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			code, _, stderr := runCLI(t, tc.args...)

@@ -9,6 +9,11 @@
 //
 //	fixpoint solve FILE   the certified advice per condition (table, json, csv)
 //	fixpoint check FILE   validate a class config, listing every problem
+//	fixpoint brief FILE -o BRIEF.pdf
+//	                      the signable PDF brief of a class config, a system
+//	                      file or a fleet plan (--prepared-for, --prepared-by;
+//	                      --font or Debian's fonts-droid-fallback for CJK names,
+//	                      a name no font prints is refused with exit 1)
 //	fixpoint init [PATH]  write a commented starter class config
 //
 // Settings. Run-time settings (method, tol, format, rate, factor,
