@@ -6,6 +6,8 @@ import (
 	"io"
 	"strconv"
 	"strings"
+	"unicode"
+	"unicode/utf8"
 
 	"fixpoint/optimize"
 )
@@ -76,11 +78,14 @@ func thresholds(states, actions []string, pol []int) string {
 	return capitalize(strings.Join(parts, "; ")) + "."
 }
 
+// capitalize upper-cases the first letter of s (a whole character, so
+// that names in any script survive).
 func capitalize(s string) string {
-	if s == "" {
+	r, n := utf8.DecodeRuneInString(s)
+	if n == 0 {
 		return s
 	}
-	return strings.ToUpper(s[:1]) + s[1:]
+	return string(unicode.ToUpper(r)) + s[n:]
 }
 
 func (a *Advice) solverLine() string {

@@ -2,35 +2,53 @@ package reports
 
 import (
 	"math"
+	"strconv"
 
 	"github.com/jung-kurt/gofpdf"
 )
 
-// The palettes are fixpoint's own. Condition states run from a pale cream
-// (best) through wheat, copper and mulberry to a near-black ink (worst);
-// actions from pale mint to deep slate. In both, relative luminance falls
-// strictly along the ramp, so a greyscale print keeps the order visible.
+// The palettes are fixpoint's own. Condition states run from sand (best)
+// through ochre, copper and mulberry to a near-black ink (worst); actions
+// from sea green to deep slate. Every colour is at least 15% grey (the
+// lightest tint office printers keep) and ramp spaces the colours evenly
+// in CIE lightness, so that neighbours stay apart in a greyscale print
+// even with 12 states.
 var (
-	stateRamp  = []rgb{{247, 240, 220}, {222, 184, 118}, {178, 103, 62}, {112, 52, 74}, {38, 30, 56}}
-	actionRamp = []rgb{{214, 236, 232}, {132, 190, 182}, {52, 118, 124}, {22, 52, 70}}
+	stateRamp  = []rgb{{232, 212, 170}, {214, 160, 92}, {170, 96, 58}, {110, 50, 72}, {38, 30, 56}}
+	actionRamp = []rgb{{178, 214, 204}, {110, 170, 160}, {52, 118, 124}, {22, 52, 70}}
 )
 
-// ramp returns n colours spread evenly along anchors.
+// ramp returns n colours along the path through anchors (straight lines
+// in sRGB between them), at CIE lightness L* evenly spaced from the first
+// anchor's to the last's. Lightness falls along the path, so the point of
+// each target lightness is found by bisection.
 func ramp(anchors []rgb, n int) []rgb {
-	out := make([]rgb, n)
-	for i := range out {
-		t := 0.0
-		if n > 1 {
-			t = float64(i) / float64(n-1) * float64(len(anchors)-1)
-		}
+	at := func(t float64) rgb {
+		t = math.Max(0, math.Min(1, t)) * float64(len(anchors)-1)
 		k := min(int(t), len(anchors)-2)
 		f := t - float64(k)
 		a, b := anchors[k], anchors[k+1]
-		out[i] = rgb{
-			R: int(math.Round(float64(a.R) + f*float64(b.R-a.R))),
-			G: int(math.Round(float64(a.G) + f*float64(b.G-a.G))),
-			B: int(math.Round(float64(a.B) + f*float64(b.B-a.B))),
+		mix := func(x, y int) int { return int(math.Round(float64(x) + f*float64(y-x))) }
+		return rgb{mix(a.R, b.R), mix(a.G, b.G), mix(a.B, b.B)}
+	}
+	out := make([]rgb, n)
+	l0, l1 := lightness(anchors[0]), lightness(anchors[len(anchors)-1])
+	for i := range out {
+		if n == 1 {
+			out[i] = anchors[0]
+			continue
 		}
+		target := l0 + (l1-l0)*float64(i)/float64(n-1)
+		lo, hi := 0.0, 1.0
+		for range 40 {
+			mid := (lo + hi) / 2
+			if lightness(at(mid)) > target {
+				lo = mid
+			} else {
+				hi = mid
+			}
+		}
+		out[i] = at((lo + hi) / 2)
 	}
 	return out
 }
@@ -45,6 +63,28 @@ func luminance(c rgb) float64 {
 		return math.Pow((x+0.055)/1.055, 2.4)
 	}
 	return 0.2126*lin(c.R) + 0.7152*lin(c.G) + 0.0722*lin(c.B)
+}
+
+// lightness is the CIE 1976 lightness L* (0 black to 100 white) of c,
+// from its relative luminance Y: L* = 116·Y^(1/3) − 16, or 903.3·Y for
+// Y ≤ 0.008856 (CIE 15:2004).
+func lightness(c rgb) float64 {
+	y := luminance(c)
+	if y <= 216.0/24389 {
+		return 24389.0 / 27 * y
+	}
+	return 116*math.Cbrt(y) - 16
+}
+
+// greyShare is how grey c prints: 1 minus the sRGB-encoded luminance, so
+// that the grey (217, 217, 217) is 15% grey.
+func greyShare(c rgb) float64 {
+	y := luminance(c)
+	enc := 12.92 * y
+	if y > 0.0031308 {
+		enc = 1.055*math.Pow(y, 1/2.4) - 0.055
+	}
+	return 1 - enc
 }
 
 // series is one named data series of a chart.
@@ -66,63 +106,194 @@ type frame struct {
 
 func (f frame) yAt(v float64) float64 { return f.y + f.h - (v-f.base)/(f.top-f.base)*f.h }
 
-// axes draws a titled chart box with a y axis from 0 to about maxV,
-// labelled by yFormat, and returns the plotting frame.
-func (d *doc) axes(x, y, w, h float64, title, yLabel string, maxV float64, yFormat func(float64) string) frame {
-	return d.axesRange(x, y, w, h, title, yLabel, 0, maxV, yFormat)
+// Chart text sizes and gaps, in points and millimetres.
+const (
+	tickSize   = 7.0
+	titleLH    = 4.6
+	legendLH   = 3.4
+	axisTitleW = 4.5 // room for the rotated y-axis title
+	xAxisRoom  = 9.5 // tick labels and the x-axis title under the plot
+)
+
+// chartBox is the measured layout of a chart: its wrapped title, its
+// legend rows and the heights that follow from them.
+type chartBox struct {
+	title  []string
+	legend [][]legendItem
+	plotH  float64
 }
 
-// axesRange is axes with the y axis from about minV (rounded down to a
-// tick) to about maxV.
-func (d *doc) axesRange(x, y, w, h float64, title, yLabel string, minV, maxV float64, yFormat func(float64) string) frame {
+type legendItem struct {
+	s     series
+	lines []string
+	x, w  float64
+}
+
+func (c chartBox) height() float64 {
+	return float64(len(c.title))*titleLH + 3 + c.plotH + xAxisRoom + legendHeight(c.legend)
+}
+
+func legendHeight(rows [][]legendItem) float64 {
+	h := 0.0
+	for _, r := range rows {
+		n := 1
+		for _, it := range r {
+			n = max(n, len(it.lines))
+		}
+		h += float64(n)*legendLH + 0.8
+	}
+	return h
+}
+
+// measureChart wraps the title to the chart width and lays out the legend
+// in rows; plotH is the height of the plotting area. Titles wrap rather
+// than being cut.
+func (d *doc) measureChart(w, plotH float64, title string, legend []series) chartBox {
+	d.font("B", bodySize, ink)
+	c := chartBox{title: d.wrap(title, w), plotH: plotH}
+	d.font("", tickSize, ink)
+	const swatch, gap = 6.0, 4.0
+	left, right := axisTitleW+6, w
+	var row []legendItem
+	cx := left
+	for _, s := range legend {
+		lines := d.wrap(s.name, right-left-swatch)
+		tw := 0.0
+		for _, l := range lines {
+			tw = math.Max(tw, d.width(l))
+		}
+		if cx+swatch+tw > right && len(row) > 0 {
+			c.legend = append(c.legend, row)
+			row, cx = nil, left
+		}
+		row = append(row, legendItem{s: s, lines: lines, x: cx, w: swatch + tw})
+		cx += swatch + tw + gap
+	}
+	if len(row) > 0 {
+		c.legend = append(c.legend, row)
+	}
+	return c
+}
+
+// place moves a chart of height h to a new page when it does not fit
+// below y, and returns where it starts.
+func (d *doc) place(y, h float64) float64 {
+	if y+h > contentBottom {
+		d.pdf.AddPage()
+		return d.y()
+	}
+	return y
+}
+
+// decimalsFor is the number of decimals that prints every multiple of
+// step exactly: 0 for 20, 1 for 2.5, 2 for 0.25.
+func decimalsFor(step float64) int {
+	d := 0
+	for x := step; d < 8 && math.Abs(x-math.Round(x)) > 1e-9*math.Max(1, math.Abs(x)); x *= 10 {
+		d++
+	}
+	return d
+}
+
+// ticks are the tick values from base to top by step, each rounded to a
+// multiple of step so that none prints as "-0".
+func ticks(base, top, step float64) []float64 {
+	var out []float64
+	for k := math.Round(base / step); k*step <= top+step/2; k++ {
+		v := k * step
+		if math.Abs(v) < step*1e-6 {
+			v = 0
+		}
+		out = append(out, v)
+	}
+	return out
+}
+
+// tickLabel formats a tick: with yFormat on a whole-number step, with the
+// decimals the step needs otherwise.
+func tickLabel(yFormat func(float64) string, v, step float64) string {
+	if d := decimalsFor(step); d > 0 {
+		return Money(v, d)
+	}
+	return yFormat(v)
+}
+
+// axes draws a titled chart with a y axis from minV (rounded down to a
+// tick) to about maxV, labelled by yFormat, and the legend under it; it
+// returns the plotting frame. The plotting area starts right of the
+// widest tick label, measured, and the y-axis title left of that.
+func (d *doc) axes(x, y, w float64, c chartBox, yLabel string, minV, maxV float64, yFormat func(float64) string, lines bool) frame {
 	p := d.pdf
 	d.font("B", bodySize, ink)
-	p.SetXY(x, y)
-	p.CellFormat(w, 5, title, "", 0, "L", false, 0, "")
+	for i, l := range c.title {
+		d.put(x, y+float64(i)*titleLH, titleLH, l)
+	}
 	step := niceStep(maxV-minV, 5)
 	base := math.Floor(minV/step+1e-9) * step
 	top := math.Max(base+step, math.Ceil(maxV/step-1e-9)*step)
-	f := frame{x: x + 20, y: y + 8, w: w - 22, h: h - 8 - 10, base: base, top: top}
-	d.font("", 7, muted)
+	ts := ticks(base, top, step)
+	labels := make([]string, len(ts))
+	d.font("", tickSize, muted)
+	labelW := 0.0
+	for i, v := range ts {
+		labels[i] = tickLabel(yFormat, v, step)
+		labelW = math.Max(labelW, d.width(labels[i]))
+	}
+	py := y + float64(len(c.title))*titleLH + 3
+	f := frame{x: x + axisTitleW + labelW + 2, y: py, h: c.plotH, base: base, top: top}
+	f.w = x + w - f.x
 	p.SetDrawColor(215, 215, 215)
 	p.SetLineWidth(0.15)
-	for v := base; v <= top+step/2; v += step {
+	for i, v := range ts {
 		yy := f.yAt(v)
 		p.Line(f.x, yy, f.x+f.w, yy)
-		p.SetXY(x, yy-2)
-		p.CellFormat(18, 4, yFormat(v), "", 0, "R", false, 0, "")
+		d.putAligned(x+axisTitleW, yy-2, labelW, 4, labels[i], "R")
 	}
 	p.SetDrawColor(ink.R, ink.G, ink.B)
 	p.SetLineWidth(0.3)
 	p.Line(f.x, f.y, f.x, f.y+f.h)
 	p.Line(f.x, f.y+f.h, f.x+f.w, f.y+f.h)
-	// Text, not a cell: after the rotation the cell's x would be negative,
-	// which gofpdf reads as measured from the right edge.
-	cx, cy := x+3.5, f.y+f.h/2
+	// The title is drawn rotated about its own centre; it is shortened to
+	// the height of the plot.
+	label := d.ellipsize(yLabel, f.h)
+	cx, cy := x+2.2, f.y+f.h/2
 	p.TransformBegin()
 	p.TransformRotate(90, cx, cy)
-	p.Text(cx-p.GetStringWidth(yLabel)/2, cy, yLabel)
+	lw := d.width(label)
+	d.put(cx-lw/2, cy-2, 4, label)
+	last := &d.placed[len(d.placed)-1]
+	// Record the rotated box.
+	last.x, last.y, last.w, last.h = cx-2, cy-lw/2, 2.8, lw
 	p.TransformEnd()
+	d.drawLegend(x, f.y+f.h+xAxisRoom, c.legend, lines)
 	return f
 }
 
-// xLabels writes category labels under the x axis, thinning them to fit.
+// xLabels writes labels under the x axis at the given centres, skipping
+// labels so that those printed never touch, and the axis title under
+// them.
 func (d *doc) xLabels(f frame, centres []float64, labels []string, xLabel string) {
-	p := d.pdf
-	d.font("", 7, muted)
+	d.font("", tickSize, muted)
+	widest := 0.0
+	for _, l := range labels {
+		widest = math.Max(widest, d.width(l))
+	}
 	every := 1
-	for len(labels)/every > 12 {
-		every++
+	if len(centres) > 1 {
+		gap := math.Abs(centres[1] - centres[0])
+		for float64(every)*gap < widest+1.5 {
+			every++
+		}
 	}
 	for i, c := range centres {
 		if i%every != 0 {
 			continue
 		}
-		p.SetXY(c-6, f.y+f.h+0.8)
-		p.CellFormat(12, 3.5, labels[i], "", 0, "C", false, 0, "")
+		lw := d.width(labels[i])
+		lx := math.Max(f.x-lw/2, math.Min(c-lw/2, f.x+f.w-lw))
+		d.put(lx, f.y+f.h+0.8, 3.5, labels[i])
 	}
-	p.SetXY(f.x, f.y+f.h+4.5)
-	p.CellFormat(f.w, 3.5, xLabel, "", 0, "C", false, 0, "")
+	d.putAligned(f.x, f.y+f.h+4.8, f.w, 3.5, d.ellipsize(xLabel, f.w), "C")
 }
 
 // stackedBars draws one bar per category, stacked by series.
@@ -130,9 +301,15 @@ func (d *doc) stackedBars(x, y, w, h float64, title, xLabel, yLabel string, cate
 	d.stackedBarsWithLimit(x, y, w, h, title, xLabel, yLabel, categories, ss, nil, "", yFormat)
 }
 
+// plotHeight is the plotting height of a chart given the old total
+// height h (title, plot and axis labels, the legend below it).
+func plotHeight(h float64) float64 { return math.Max(24, h-18) }
+
 // stackedBarsWithLimit is stackedBars with, when limit is not nil, a
 // dashed ink mark across each bar at limit[i] (a budget), named limitName
-// in the legend.
+// in the legend. h is the height of title, plot and axis labels; the
+// legend adds its rows below, and the chart moves to a new page when it
+// does not fit.
 func (d *doc) stackedBarsWithLimit(x, y, w, h float64, title, xLabel, yLabel string, categories []string, ss []series,
 	limit []float64, limitName string, yFormat func(float64) string) {
 	maxV := 0.0
@@ -146,7 +323,16 @@ func (d *doc) stackedBarsWithLimit(x, y, w, h float64, title, xLabel, yLabel str
 			maxV = math.Max(maxV, limit[i])
 		}
 	}
-	f := d.axes(x, y, w, h, title, yLabel, maxV, yFormat)
+	legend := ss
+	if limit != nil {
+		legend = append(ss[:len(ss):len(ss)], series{name: limitName, color: ink, dash: true})
+		// Head room so that the budget line never merges with the top of
+		// the axis.
+		maxV *= 1.08
+	}
+	c := d.measureChart(w, plotHeight(h), title, legend)
+	y = d.place(y, c.height())
+	f := d.axes(x, y, w, c, yLabel, 0, maxV, yFormat, false)
 	p := d.pdf
 	slot := f.w / float64(len(categories))
 	barW := slot * 0.72
@@ -166,18 +352,16 @@ func (d *doc) stackedBarsWithLimit(x, y, w, h float64, title, xLabel, yLabel str
 		}
 	}
 	d.xLabels(f, centres, categories, xLabel)
-	if limit == nil {
-		d.legend(x, y+h-1, w, ss, false)
-		return
+	if limit != nil {
+		p.SetDrawColor(ink.R, ink.G, ink.B)
+		p.SetLineWidth(0.5)
+		p.SetDashPattern([]float64{1.2, 0.8}, 0)
+		for i, c := range centres {
+			p.Line(c-slot/2+0.3, f.yAt(limit[i]), c+slot/2-0.3, f.yAt(limit[i]))
+		}
+		p.SetDashPattern([]float64{}, 0)
 	}
-	p.SetDrawColor(ink.R, ink.G, ink.B)
-	p.SetLineWidth(0.5)
-	p.SetDashPattern([]float64{1.2, 0.8}, 0)
-	for i, c := range centres {
-		p.Line(c-slot/2+0.3, f.yAt(limit[i]), c+slot/2-0.3, f.yAt(limit[i]))
-	}
-	p.SetDashPattern([]float64{}, 0)
-	d.legend(x, y+h-1, w, append(ss[:len(ss):len(ss)], series{name: limitName, color: ink, dash: true}), false)
+	d.setY(y + c.height())
 }
 
 // segment fills one bar segment in the series' style.
@@ -190,7 +374,7 @@ func (d *doc) segment(x, y, w, h float64, s series) {
 		return
 	}
 	p.SetFillColor(255, 255, 255)
-	p.SetDrawColor(120, 120, 120)
+	p.SetDrawColor(110, 110, 110)
 	p.Rect(x, y, w, h, "FD")
 	p.ClipRect(x, y, w, h, false)
 	for o := -h; o < w; o += 1.6 {
@@ -201,35 +385,52 @@ func (d *doc) segment(x, y, w, h float64, s series) {
 
 // lineChart draws line series over xs (in x units, increasing) with the y
 // axis from yMin to yMax; marks, if any, are x positions drawn as dashed
-// vertical lines with their labels.
+// vertical lines labelled by their number (1, 2, ...), which the text
+// beside the chart explains.
 func (d *doc) lineChart(x, y, w, h float64, title, xLabel, yLabel string, xs []float64, ss []series,
-	yMin, yMax float64, yFormat func(float64) string, marks []float64, markLabels []string) {
-	f := d.axesRange(x, y, w, h, title, yLabel, yMin, yMax, yFormat)
+	yMin, yMax float64, yFormat func(float64) string, marks []float64) {
+	c := d.measureChart(w, plotHeight(h), title, ss)
+	y = d.place(y, c.height())
+	f := d.axes(x, y, w, c, yLabel, yMin, yMax, yFormat, true)
 	p := d.pdf
 	xMin, xMax := xs[0], xs[len(xs)-1]
 	xAt := func(v float64) float64 { return f.x + (v-xMin)/(xMax-xMin)*f.w }
 	step := niceStep(xMax-xMin, 8)
 	var centres []float64
 	var labels []string
-	for v := math.Ceil(xMin/step-1e-9) * step; v <= xMax+step/100; v += step {
+	for _, v := range ticks(math.Ceil(xMin/step-1e-9)*step, xMax+step/100-step/2, step) {
 		centres = append(centres, xAt(v))
 		labels = append(labels, Fixed(v, decimalsFor(step)))
 	}
 	d.xLabels(f, centres, labels, xLabel)
+	// Mark numbers go in the first row where they touch no other.
+	type slot struct {
+		row    int
+		x0, x1 float64
+	}
+	var used []slot
 	for i, m := range marks {
 		p.SetDrawColor(muted.R, muted.G, muted.B)
 		p.SetLineWidth(0.3)
 		p.SetDashPattern([]float64{0.8, 0.8}, 0)
 		p.Line(xAt(m), f.y, xAt(m), f.y+f.h)
 		p.SetDashPattern([]float64{}, 0)
-		d.font("", 6.5, ink)
-		lw := p.GetStringWidth(markLabels[i]) + 1
-		lx, align := xAt(m)+0.8, "L"
-		if lx+lw > f.x+f.w {
-			lx, align = xAt(m)-0.8-lw, "R"
+		d.font("B", 6.5, ink)
+		label := strconv.Itoa(i + 1)
+		lw := d.width(label)
+		lx := math.Max(f.x+0.3, math.Min(xAt(m)+0.6, f.x+f.w-lw-0.3))
+		row := 0
+		for clash := true; clash; {
+			clash = false
+			for _, u := range used {
+				if u.row == row && lx < u.x1+0.8 && lx+lw+0.8 > u.x0 {
+					clash, row = true, row+1
+					break
+				}
+			}
 		}
-		p.SetXY(lx, f.y+0.5+3.2*float64(i%3))
-		p.CellFormat(lw, 3, markLabels[i], "", 0, align, false, 0, "")
+		used = append(used, slot{row, lx, lx + lw})
+		d.put(lx, f.y+0.5+3*float64(row), 3, label)
 	}
 	for _, s := range ss {
 		p.SetDrawColor(s.color.R, s.color.G, s.color.B)
@@ -246,41 +447,35 @@ func (d *doc) lineChart(x, y, w, h float64, title, xLabel, yLabel string, xs []f
 		}
 		p.SetDashPattern([]float64{}, 0)
 	}
-	d.legend(x, y+h-1, w, ss, true)
+	d.setY(y + c.height())
 }
 
-func decimalsFor(step float64) int {
-	if step >= 1 {
-		return 0
-	}
-	return int(math.Ceil(-math.Log10(step)))
-}
-
-// legend writes swatches and names in rows under a chart; line series get
-// a short line sample instead of a swatch.
-func (d *doc) legend(x, y, w float64, ss []series, lines bool) {
+// drawLegend writes the legend rows laid out by measureChart at y: a
+// swatch (or, for line series, a line sample) and the wrapped name.
+func (d *doc) drawLegend(x, y float64, rows [][]legendItem, lines bool) {
 	p := d.pdf
-	d.font("", 7, ink)
-	cx, cy := x+20, y
-	for _, s := range ss {
-		tw := p.GetStringWidth(s.name) + 9
-		if cx+tw > x+w {
-			cx, cy = x+20, cy+4
-		}
-		if lines || s.dash {
-			p.SetDrawColor(s.color.R, s.color.G, s.color.B)
-			p.SetLineWidth(0.6)
-			if s.dash {
-				p.SetDashPattern([]float64{1.8, 1.2}, 0)
+	for _, row := range rows {
+		n := 1
+		for _, it := range row {
+			s := it.s
+			cx := x + it.x
+			if lines || s.dash {
+				p.SetDrawColor(s.color.R, s.color.G, s.color.B)
+				p.SetLineWidth(0.6)
+				if s.dash {
+					p.SetDashPattern([]float64{1.8, 1.2}, 0)
+				}
+				p.Line(cx, y+1.7, cx+4.5, y+1.7)
+				p.SetDashPattern([]float64{}, 0)
+			} else {
+				d.segment(cx, y+0.3, 4.5, 2.8, s)
 			}
-			p.Line(cx, cy+1.7, cx+5, cy+1.7)
-			p.SetDashPattern([]float64{}, 0)
-		} else {
-			d.segment(cx, cy+0.3, 4.5, 2.8, s)
+			d.font("", tickSize, ink)
+			for k, l := range it.lines {
+				d.put(cx+6, y+float64(k)*legendLH, legendLH, l)
+			}
+			n = max(n, len(it.lines))
 		}
-		p.SetXY(cx+6, cy)
-		p.CellFormat(tw-6, 3.4, s.name, "", 0, "L", false, 0, "")
-		cx += tw + 2
+		y += float64(n)*legendLH + 0.8
 	}
-	p.SetXY(marginX, cy+5)
 }

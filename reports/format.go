@@ -185,3 +185,37 @@ func csvCell(s string) string {
 	}
 	return "'" + s
 }
+
+// minorUnits are the ISO 4217 currencies whose minor unit is not a
+// hundredth (ISO 4217 list of currency codes, minor unit column; from
+// memory): 0 decimals for the yen, won and others, 3 for the dinars and
+// rials below, 4 for the units of account CLF and UYW.
+var minorUnits = map[string]int{
+	"BIF": 0, "CLP": 0, "DJF": 0, "GNF": 0, "ISK": 0, "JPY": 0, "KMF": 0, "KRW": 0, "PYG": 0,
+	"RWF": 0, "UGX": 0, "UYI": 0, "VND": 0, "VUV": 0, "XAF": 0, "XOF": 0, "XPF": 0,
+	"BHD": 3, "IQD": 3, "JOD": 3, "KWD": 3, "LYD": 3, "OMR": 3, "TND": 3,
+	"CLF": 4, "UYW": 4,
+}
+
+// MinorUnit returns the decimals of a currency's minor unit by ISO 4217:
+// MinorUnit("JPY") is 0, MinorUnit("EUR") 2, MinorUnit("KWD") 3. Codes it
+// does not know (and names that are not codes) get 2.
+func MinorUnit(code string) int {
+	if d, ok := minorUnits[strings.ToUpper(strings.TrimSpace(code))]; ok {
+		return d
+	}
+	return 2
+}
+
+// money formats an amount in the header's currency with the decimals of
+// its minor unit.
+func (h *Header) money(x float64) string { return Money(x, MinorUnit(h.Currency)) }
+
+// moneyBound is the smallest whole number of minor units not below x
+// (at least one), formatted: the amount a proven bound is said as in
+// words.
+func (h *Header) moneyBound(x float64) string {
+	dec := MinorUnit(h.Currency)
+	unit := math.Pow(10, -float64(dec))
+	return Money(math.Max(unit, math.Ceil(x/unit-1e-9)*unit), dec)
+}

@@ -1,31 +1,39 @@
 package reports
 
 import (
+	"bytes"
 	"fmt"
 	"io"
 	"math"
+	"regexp"
+	"strconv"
+	"strings"
 	"time"
 
 	"github.com/jung-kurt/gofpdf"
-	"golang.org/x/image/font/gofont/gobold"
-	"golang.org/x/image/font/gofont/goregular"
 )
 
 // Page geometry of a brief, in millimetres (A4 portrait).
 const (
-	pageW, pageH   = 210.0, 297.0
-	marginX        = 18.0
-	marginTop      = 20.0
-	footerH        = 26.0 // the caution box
-	footerGap      = 6.0
-	contentW       = pageW - 2*marginX
-	contentBottom  = pageH - marginTop/2 - footerH - footerGap
-	bodySize       = 9.5
-	smallSize      = 8.0
-	lineH          = 4.6
-	fontFamily     = "go"
-	tableRuleGrey  = 190
-	tableHeadShade = 236
+	pageW, pageH  = 210.0, 297.0
+	marginX       = 18.0
+	marginTop     = 20.0
+	footerH       = 26.0 // the caution box
+	footerGap     = 6.0
+	contentW      = pageW - 2*marginX
+	contentBottom = pageH - marginTop/2 - footerH - footerGap
+	bodySize      = 9.5
+	smallSize     = 8.0
+	lineH         = 4.6
+	fontFamily    = "go"
+	tableRuleGrey = 190
+	// tableHeadShade is the grey of table headers: 15% grey, the lightest
+	// tint a brief uses (lighter tints drop out on office printers).
+	tableHeadShade = 217
+	// ptMM converts a font size in points to millimetres.
+	ptMM = 25.4 / 72
+	// docLang is the language of a brief's text (the PDF catalog's /Lang).
+	docLang = "en-GB"
 )
 
 // rgb is a colour of a brief's palette.
@@ -34,48 +42,122 @@ type rgb struct{ R, G, B int }
 // ink is the text colour; muted is for secondary text.
 var (
 	ink   = rgb{28, 28, 36}
-	muted = rgb{96, 96, 104}
+	muted = rgb{88, 88, 96}
 )
 
-// doc wraps a gofpdf document with the brief's fonts, header, caution
-// footer and layout helpers. Errors are sticky in gofpdf; doc checks them
-// once, in output.
+// Imprint is the making of a brief: its date, who it was prepared for
+// and by (printed on page 1; empty leaves a line to fill in by hand), and
+// the fallback fonts for characters the Go fonts lack.
+type Imprint struct {
+	Date                    time.Time
+	PreparedFor, PreparedBy string
+	Fonts                   []Font
+}
+
+// placed is one line of text as the layout engine put it on a page: its
+// box in millimetres (top-left corner, width, font height).
+type placed struct {
+	page       int
+	x, y, w, h float64
+	text       string
+}
+
+// doc wraps a gofpdf document with the brief's layout engine: text is
+// measured, wrapped and drawn by doc itself, run by run in the first font
+// that has the glyphs (the Go fonts, then the fallbacks), so that mixed
+// scripts print and every word's box is known. Errors are sticky in
+// gofpdf; doc checks them once, in output.
 type doc struct {
 	pdf    *gofpdf.Fpdf
 	header string
+	fonts  *fontSet
+	// current text style
+	bold   bool
+	size   float64
+	colour rgb
+	// placed records every line drawn, for the layout checks.
+	placed []placed
+	// lost collects characters met while drawing that no font prints.
+	lost []rune
+	// marks are named points of the document (the page a block landed
+	// on), for the layout checks.
+	marks map[string]int
 }
 
-// newDoc starts an A4 document with the Go fonts (UTF-8, so "€" and
-// accented names print), fixed dates and sorted catalog for byte-identical
-// output, and the caution box on every page.
+// newDoc starts an A4 document with the Go fonts only (see newDocWith).
 func newDoc(title, header string, date time.Time) *doc {
+	d, err := newDocWith(title, header, Imprint{Date: date})
+	if err != nil {
+		panic(err) // the Go fonts always parse
+	}
+	return d
+}
+
+// newDocWith starts an A4 document with the Go fonts (UTF-8, so "€" and
+// accented, Greek and Cyrillic names print) and the imprint's fallback
+// fonts, fixed dates and a sorted catalog for byte-identical output, and
+// the running header and caution box on every page. header is the
+// running header: parts separated by "  ·  ", of which the middle ones
+// are shortened to fit the line.
+func newDocWith(title, header string, im Imprint) (*doc, error) {
+	fs, err := newFontSet(im.Fonts)
+	if err != nil {
+		return nil, err
+	}
 	pdf := gofpdf.New("P", "mm", "A4", "")
-	pdf.AddUTF8FontFromBytes(fontFamily, "", goregular.TTF)
-	pdf.AddUTF8FontFromBytes(fontFamily, "B", gobold.TTF)
-	pdf.SetCreationDate(date)
-	pdf.SetModificationDate(date)
+	pdf.AddUTF8FontFromBytes(fontFamily, "", fs.faces[0].regular)
+	pdf.AddUTF8FontFromBytes(fontFamily, "B", fs.faces[0].bold)
+	pdf.SetCreationDate(im.Date)
+	pdf.SetModificationDate(im.Date)
 	pdf.SetCatalogSort(true)
 	pdf.SetTitle(title, true)
+	author := "fixpoint"
+	if im.PreparedBy != "" {
+		author = im.PreparedBy
+	}
+	pdf.SetAuthor(author, true)
+	pdf.SetSubject(title+": decision support from a model, advisory only", true)
+	pdf.SetKeywords("maintenance policy, condition states, advisory", true)
 	pdf.SetCreator("fixpoint", true)
 	pdf.SetProducer("fixpoint", true)
 	pdf.SetMargins(marginX, marginTop, marginX)
-	pdf.SetAutoPageBreak(true, pageH-contentBottom)
+	// The layout engine breaks pages itself.
+	pdf.SetAutoPageBreak(false, 0)
 	pdf.AliasNbPages("{nb}")
-	d := &doc{pdf: pdf, header: header}
+	d := &doc{pdf: pdf, header: header, fonts: fs, size: bodySize, colour: ink, marks: map[string]int{}}
 	pdf.SetHeaderFunc(d.drawHeader)
 	pdf.SetFooterFunc(d.drawFooter)
-	return d
+	return d, nil
 }
+
+// mark records that the named block is on the current page.
+func (d *doc) mark(name string) { d.marks[name] = d.pdf.PageNo() }
 
 func (d *doc) drawHeader() {
 	p := d.pdf
 	d.font("", smallSize, muted)
-	p.SetXY(marginX, 9)
-	p.CellFormat(contentW, 4, d.header, "", 0, "L", false, 0, "")
+	d.put(marginX, 9, 4, d.fitHeader(d.header, contentW))
 	p.SetDrawColor(tableRuleGrey, tableRuleGrey, tableRuleGrey)
 	p.SetLineWidth(0.2)
 	p.Line(marginX, 14, pageW-marginX, 14)
 	p.SetXY(marginX, marginTop)
+}
+
+// fitHeader shortens the middle parts of a running header (split at
+// "  ·  ") with an ellipsis until it fits w; the first and last parts
+// (what the brief is, its date) are never cut.
+func (d *doc) fitHeader(h string, w float64) string {
+	const sep = "  ·  "
+	parts := strings.Split(h, sep)
+	if d.width(h) <= w || len(parts) < 3 {
+		return h
+	}
+	fixed := d.width(parts[0]) + d.width(parts[len(parts)-1]) + float64(len(parts)-1)*d.width(sep)
+	room := (w - fixed) / float64(len(parts)-2)
+	for i := 1; i < len(parts)-1; i++ {
+		parts[i] = d.ellipsize(parts[i], room)
+	}
+	return strings.Join(parts, sep)
 }
 
 // drawFooter draws the caution box and the page number.
@@ -83,18 +165,18 @@ func (d *doc) drawFooter() {
 	p := d.pdf
 	y := pageH - marginTop/2 - footerH
 	p.SetDrawColor(ink.R, ink.G, ink.B)
-	p.SetLineWidth(0.5)
-	p.SetFillColor(250, 247, 238)
-	p.Rect(marginX, y, contentW, footerH-5, "FD")
-	p.SetXY(marginX+2.5, y+2)
+	p.SetLineWidth(0.6)
+	p.Rect(marginX, y, contentW, footerH-5, "D")
 	d.font("B", smallSize, ink)
-	p.CellFormat(contentW-5, 3.6, "CAUTION: advisory only", "", 2, "L", false, 0, "")
+	d.put(marginX+2.5, y+2, 3.6, "CAUTION: advisory only")
 	d.font("", 7.2, ink)
-	p.SetX(marginX + 2.5)
-	p.MultiCell(contentW-5, 3.2, briefCaution, "", "L", false)
+	ty := y + 5.6
+	for _, l := range d.wrap(briefCaution, contentW-5) {
+		d.put(marginX+2.5, ty, 3.2, l)
+		ty += 3.2
+	}
 	d.font("", smallSize, muted)
-	p.SetXY(marginX, pageH-marginTop/2-4)
-	p.CellFormat(contentW, 4, fmt.Sprintf("page %d of {nb}", p.PageNo()), "", 0, "R", false, 0, "")
+	d.putAligned(marginX, pageH-marginTop/2-4, contentW, 4, fmt.Sprintf("page %d of {nb}", p.PageNo()), "R")
 }
 
 // briefCaution is the footer text of every page of a brief.
@@ -103,136 +185,759 @@ const briefCaution = "This brief is decision support from a model, not an instru
 	"or licensed inspector's finding overrides this advice. States marked unsafe require action before further use. " +
 	ModelLimits
 
+// font sets the text style: "B" for bold, the size in points, the colour.
 func (d *doc) font(style string, size float64, c rgb) {
+	d.bold, d.size, d.colour = style == "B", size, c
 	d.pdf.SetFont(fontFamily, style, size)
 	d.pdf.SetTextColor(c.R, c.G, c.B)
 }
 
+// useFace selects face k in the current style, registering a fallback
+// face on first use.
+func (d *doc) useFace(k int) {
+	f := d.fonts.faces[k]
+	if !f.added {
+		d.pdf.AddUTF8FontFromBytes(f.family, "", f.regular)
+		if f.bold != nil {
+			d.pdf.AddUTF8FontFromBytes(f.family, "B", f.bold)
+		}
+		f.added = true
+	}
+	style := ""
+	if d.bold && f.bold != nil {
+		style = "B"
+	}
+	d.pdf.SetFont(f.family, style, d.size)
+}
+
+// width is the width of s in the current style, run by run.
+func (d *doc) width(s string) float64 {
+	w := 0.0
+	for _, r := range d.fonts.runs(s) {
+		d.useFace(r.face)
+		w += d.pdf.GetStringWidth(r.text)
+	}
+	d.useFace(0)
+	return w
+}
+
+// put draws one line of s with its top at y, vertically placed as in a
+// cell of height h (gofpdf's rule: baseline at h/2 + 0.3 of the font
+// size), and records its box.
+func (d *doc) put(x, y, h float64, s string) {
+	if s == "" {
+		return
+	}
+	for _, r := range d.fonts.missing(s) {
+		d.lost = append(d.lost, r)
+	}
+	base := y + h/2 + 0.3*d.size*ptMM
+	cx := x
+	for _, r := range d.fonts.runs(s) {
+		d.useFace(r.face)
+		d.pdf.Text(cx, base, r.text)
+		cx += d.pdf.GetStringWidth(r.text)
+	}
+	d.useFace(0)
+	d.placed = append(d.placed, placed{page: d.pdf.PageNo(), x: x, y: base - 0.8*d.size*ptMM, w: cx - x, h: d.size * ptMM, text: s})
+}
+
+// putAligned draws s in a box of width w: align "L", "C" or "R".
+func (d *doc) putAligned(x, y, w, h float64, s, align string) {
+	sw := d.width(s)
+	switch align {
+	case "R":
+		x += w - sw
+	case "C":
+		x += (w - sw) / 2
+	}
+	d.put(x, y, h, s)
+}
+
+// ellipsize shortens s with "…" until it fits w.
+func (d *doc) ellipsize(s string, w float64) string {
+	if d.width(s) <= w {
+		return s
+	}
+	r := []rune(s)
+	for n := len(r) - 1; n > 0; n-- {
+		t := strings.TrimRight(string(r[:n]), " ") + "…"
+		if d.width(t) <= w {
+			return t
+		}
+	}
+	return "…"
+}
+
+// numberRE matches a number as the briefs print it, with its unit sign.
+var numberRE = regexp.MustCompile(`^[(]?[-−+]?[0-9][0-9,]*(\.[0-9]+)?(e[-+]?[0-9]+)?%?[),.;:]?$`)
+
+// isNumber reports whether a word is a number, which never breaks.
+func isNumber(word string) bool { return numberRE.MatchString(word) }
+
+// wrap breaks s into lines no wider than w. Lines break at spaces; a
+// word wider than the line breaks after "_", "-" or "/", between
+// characters of scripts written without spaces, or else with a hyphen.
+// A number never breaks (its column or line is made wide enough).
+func (d *doc) wrap(s string, w float64) []string {
+	var lines []string
+	line := ""
+	for _, word := range strings.Fields(s) {
+		cand := word
+		if line != "" {
+			cand = line + " " + word
+		}
+		if d.width(cand) <= w {
+			line = cand
+			continue
+		}
+		if line != "" {
+			lines = append(lines, line)
+			line = ""
+		}
+		for d.width(word) > w && !isNumber(word) {
+			head, tail := d.breakWord(word, w)
+			if tail == "" {
+				break
+			}
+			lines = append(lines, head)
+			word = tail
+		}
+		line = word
+	}
+	if line != "" || len(lines) == 0 {
+		lines = append(lines, line)
+	}
+	return lines
+}
+
+// breakWord splits a word wider than w into a head that fits w and the
+// rest: after the last "_", "-" or "/" that fits, or between two
+// characters of a script without spaces, else with a hyphen added, never
+// leaving fewer than two letters on either side of a hyphen. tail is ""
+// when the word cannot break.
+func (d *doc) breakWord(word string, w float64) (head, tail string) {
+	r := []rune(word)
+	best, hyphen := 0, false
+	for k := 1; k < len(r); k++ {
+		prev, next := r[k-1], r[k]
+		natural := prev == '_' || prev == '-' || prev == '/' || wide(prev) || wide(next)
+		if natural && d.width(string(r[:k])) <= w {
+			best, hyphen = k, false
+		}
+	}
+	if best == 0 {
+		for k := len(r) - 2; k >= 2; k-- {
+			if d.width(string(r[:k])+"-") <= w {
+				best, hyphen = k, true
+				break
+			}
+		}
+	}
+	if best == 0 {
+		return word, ""
+	}
+	if hyphen {
+		return string(r[:best]) + "-", string(r[best:])
+	}
+	return string(r[:best]), string(r[best:])
+}
+
+// minWidth is the width of the widest piece of s that cannot break
+// (numbers, or whole words up to capW, beyond which words hyphenate).
+func (d *doc) minWidth(s string, capW float64) float64 {
+	m := 0.0
+	for _, word := range strings.Fields(s) {
+		ww := d.width(word)
+		if !isNumber(word) {
+			ww = math.Min(ww, capW)
+		}
+		m = math.Max(m, ww)
+	}
+	return m
+}
+
+// y is the current vertical position; setY moves it.
+func (d *doc) y() float64     { return d.pdf.GetY() }
+func (d *doc) setY(y float64) { d.pdf.SetXY(marginX, y) }
+
+// need starts a new page unless h millimetres are left on this one.
+func (d *doc) need(h float64) {
+	if d.y()+h > contentBottom {
+		d.pdf.AddPage()
+	}
+}
+
+// textLines draws lines of height lh from the current position at x,
+// starting a new page when the next line would not fit, keeping at least
+// two lines together at a break.
+func (d *doc) textLines(x float64, lines []string, lh float64, align string, w float64) {
+	for i, l := range lines {
+		left := len(lines) - i
+		if d.y()+lh > contentBottom || (i > 0 && left == 1 && d.y()+lh > contentBottom-lh && len(lines) > 2) {
+			d.pdf.AddPage()
+		}
+		d.putAligned(x, d.y(), w, lh, l, align)
+		d.setY(d.y() + lh)
+	}
+}
+
 // title starts a page with the brief's title, the model name and the date.
 func (d *doc) title(text, model string, date time.Time) {
-	p := d.pdf
-	p.AddPage()
+	d.pdf.AddPage()
+	d.titleBlock(text, model, "Date: "+date.Format("2 January 2006")+"   ·   prepared with fixpoint (decision support)", true)
+}
+
+// titleBlock draws (or, with draw false, only measures) the title, the
+// model name and a line under them; it returns the height.
+func (d *doc) titleBlock(text, model, under string, draw bool) float64 {
+	y0 := d.y()
+	h := 0.0
 	d.font("B", 18, ink)
-	p.MultiCell(contentW, 8, text, "", "L", false)
+	for _, l := range d.wrap(text, contentW) {
+		if draw {
+			d.put(marginX, y0+h, 8, l)
+		}
+		h += 8
+	}
 	d.font("B", 12, ink)
-	p.MultiCell(contentW, 6, model, "", "L", false)
-	d.font("", bodySize, muted)
-	p.MultiCell(contentW, lineH, "Date: "+date.Format("2 January 2006")+"   ·   prepared with fixpoint (decision support)", "", "L", false)
-	p.Ln(2)
+	for _, l := range d.wrap(model, contentW) {
+		if draw {
+			d.put(marginX, y0+h, 6, l)
+		}
+		h += 6
+	}
+	if under != "" {
+		d.font("", bodySize, muted)
+		for _, l := range d.wrap(under, contentW) {
+			if draw {
+				d.put(marginX, y0+h, lineH, l)
+			}
+			h += lineH
+		}
+	}
+	h += 2
+	if draw {
+		d.setY(y0 + h)
+	}
+	return h
 }
 
 // heading writes a section heading, starting a new page when fewer than
 // need millimetres are left below it.
 func (d *doc) heading(text string, need float64) {
-	p := d.pdf
-	if p.GetY()+need > contentBottom {
-		p.AddPage()
-	}
-	p.Ln(2)
+	d.need(need)
+	d.headingBlock(text, true)
+}
+
+// headingBlock draws (or measures) a section heading; it returns the
+// height.
+func (d *doc) headingBlock(text string, draw bool) float64 {
 	d.font("B", 12, ink)
-	p.MultiCell(contentW, 6, text, "", "L", false)
-	p.Ln(1)
+	lines := d.wrap(text, contentW)
+	h := 2 + 6*float64(len(lines)) + 1
+	if draw {
+		y := d.y() + 2
+		for _, l := range lines {
+			d.put(marginX, y, 6, l)
+			y += 6
+		}
+		d.setY(y + 1)
+	}
+	return h
 }
 
 // paragraph writes wrapped body text.
-func (d *doc) paragraph(text string) {
+func (d *doc) paragraph(text string) { d.paragraphBlock(text, bodySize, ink, lineH, true) }
+
+// note writes wrapped small grey text.
+func (d *doc) note(text string) { d.paragraphBlock(text, smallSize, muted, 3.8, true) }
+
+// paragraphBlock draws (or measures) wrapped text in the given style; it
+// returns the height, with the gap after it.
+func (d *doc) paragraphBlock(text string, size float64, c rgb, lh float64, draw bool) float64 {
+	d.font("", size, c)
+	lines := d.wrap(text, contentW)
+	if draw {
+		d.textLines(marginX, lines, lh, "L", contentW)
+		d.setY(d.y() + 1.5)
+	}
+	return float64(len(lines))*lh + 1.5
+}
+
+// bullets draws (or measures) a list of items, each wrapped under its
+// bullet; it returns the height.
+func (d *doc) bullets(items []string, draw bool) float64 {
 	d.font("", bodySize, ink)
-	d.pdf.MultiCell(contentW, lineH, text, "", "L", false)
-	d.pdf.Ln(1.5)
+	const indent = 4
+	h := 0.0
+	for _, it := range items {
+		lines := d.wrap(it, contentW-indent)
+		if draw {
+			d.need(lineH * float64(min(len(lines), 2)))
+			d.put(marginX, d.y(), lineH, "•")
+			d.textLines(marginX+indent, lines, lineH, "L", contentW-indent)
+			d.setY(d.y() + 0.8)
+		}
+		h += float64(len(lines))*lineH + 0.8
+	}
+	return h
+}
+
+// trace is the traceability block of a brief: labelled values in two
+// columns, and the SHA-256 of the config on a line of its own (a digest
+// never breaks).
+type trace struct {
+	left, right [][2]string
+	digest      string
+}
+
+// traceOf is the traceability block of a brief from its header and
+// imprint: config file name and SHA-256, fixpoint version, date, prepared
+// for and by (a line to fill in when not given).
+func traceOf(h *Header, im Imprint) trace {
+	const blank = "________________________"
+	or := func(s string) string {
+		if s == "" {
+			return blank
+		}
+		return s
+	}
+	src := h.Source
+	if i := strings.LastIndexAny(src, `/\`); i >= 0 {
+		src = src[i+1:]
+	}
+	return trace{
+		left:   [][2]string{{"Config file", or(src)}, {"fixpoint version", or(h.Version)}, {"Date", im.Date.Format("2 January 2006")}},
+		right:  [][2]string{{"Prepared for", or(im.PreparedFor)}, {"Prepared by", or(im.PreparedBy)}},
+		digest: or(h.SHA256),
+	}
+}
+
+// traceBlock draws (or measures) the traceability block on a ruled band;
+// it returns the height.
+func (d *doc) traceBlock(t trace, draw bool) float64 {
+	const lh, labelW, gap, size = 3.7, 24.0, 4.0, 7.5
+	colW := (contentW - gap) / 2
+	d.font("", size, ink)
+	colH := func(rows [][2]string) float64 {
+		h := 0.0
+		for _, r := range rows {
+			h += float64(len(d.wrap(r[1], colW-labelW))) * lh
+		}
+		return h
+	}
+	h := math.Max(colH(t.left), colH(t.right)) + lh + 3
+	if !draw {
+		return h + 2
+	}
+	y0 := d.y()
+	p := d.pdf
+	p.SetDrawColor(tableRuleGrey, tableRuleGrey, tableRuleGrey)
+	p.SetLineWidth(0.2)
+	p.Line(marginX, y0, marginX+contentW, y0)
+	label := func(x, y float64, s string) {
+		d.font("B", size, muted)
+		d.put(x, y, lh, s)
+		d.font("", size, ink)
+	}
+	bottom := 0.0
+	for c, rows := range [][][2]string{t.left, t.right} {
+		x := marginX + float64(c)*(colW+gap)
+		y := y0 + 1.5
+		for _, r := range rows {
+			label(x, y, r[0])
+			for _, l := range d.wrap(r[1], colW-labelW) {
+				d.put(x+labelW, y, lh, l)
+				y += lh
+			}
+		}
+		bottom = math.Max(bottom, y)
+	}
+	label(marginX, bottom, "SHA-256")
+	d.put(marginX+labelW, bottom, lh, t.digest)
+	p.Line(marginX, y0+h, marginX+contentW, y0+h)
+	d.setY(y0 + h + 2)
+	return h + 2
+}
+
+// signOffBlock draws (or measures) the sign-off: for the reviewer (the
+// competent person) and the approver, ruled lines for name, role,
+// signature and date; it returns the height.
+func (d *doc) signOffBlock(draw bool) float64 {
+	const rowH, gap = 6.8, 8.0
+	fields := []string{"Name", "Role", "Signature", "Date"}
+	h := d.headingBlock("Sign-off", false) + 4.5 + float64(len(fields))*rowH + 1
+	if !draw {
+		return h
+	}
+	d.mark("sign-off")
+	d.headingBlock("Sign-off", true)
+	y0 := d.y()
+	colW := (contentW - gap) / 2
+	p := d.pdf
+	for c, who := range []string{"Reviewed by (competent person)", "Approved by"} {
+		x := marginX + float64(c)*(colW+gap)
+		d.font("B", smallSize, ink)
+		d.put(x, y0, 4, who)
+		for i, f := range fields {
+			y := y0 + 4.5 + float64(i)*rowH
+			d.font("", smallSize, muted)
+			d.put(x, y+2.5, 4, f)
+			p.SetDrawColor(ink.R, ink.G, ink.B)
+			p.SetLineWidth(0.25)
+			p.Line(x+17, y+6.3, x+colW, y+6.3)
+		}
+	}
+	d.setY(y0 + 4.5 + float64(len(fields))*rowH + 1)
+	return h
+}
+
+// keyAssumptionsBlock draws (or measures) the key assumptions as a
+// headed list; it returns the height.
+func (d *doc) keyAssumptionsBlock(items []string, draw bool) float64 {
+	if draw {
+		d.mark("key assumptions")
+	}
+	return d.headingBlock("Key assumptions", draw) + d.bullets(items, draw)
 }
 
 // pdfTable is a table of wrapped text cells.
 type pdfTable struct {
 	header []string
-	// widths are relative; they are scaled to the content width.
+	// widths are relative; they are scaled to the content width, and
+	// widened where a column's numbers or words would not fit.
 	widths []float64
-	// right marks right-aligned (numeric) columns.
-	right []bool
-	rows  [][]string
+	// right marks right-aligned (numeric) columns, decimal columns aligned
+	// on the decimal point; the cells of both never break.
+	right   []bool
+	decimal []bool
+	rows    [][]string
 	// shade, when not nil, gives a row's fill colour (nil entry: none).
 	shade []*rgb
+	// bold, when not nil, marks cells printed bold (row, column).
+	bold [][]bool
+	// keep is the number of leading columns repeated in each part when
+	// the columns do not fit the page together (at least 1).
+	keep int
+	// minW is the narrowest each column can be (set by layoutColumns).
+	minW []float64
 }
 
-// table draws t with wrapped cells, repeating the header after a page
-// break. Long names wrap inside their column instead of overflowing.
-func (d *doc) table(t pdfTable) {
-	p := d.pdf
+func (t *pdfTable) numeric(i int) bool {
+	return (i < len(t.right) && t.right[i]) || (i < len(t.decimal) && t.decimal[i])
+}
+
+// cellPad and cellLH are the padding and line height of table cells.
+const cellPad, cellLH = 0.9, 3.6
+
+// wordCap is the widest a column grows for one word before the word
+// hyphenates.
+const wordCap = 30.0
+
+// layoutColumns returns the column widths of t, in groups of columns
+// that fit the content width together (each group with the kept
+// leading columns), or one group when all fit.
+func (d *doc) layoutColumns(t *pdfTable) [][]int {
+	n := len(t.header)
+	minW := make([]float64, n)
+	for i := range n {
+		d.font("B", smallSize, ink)
+		minW[i] = d.minWidth(t.header[i], wordCap)
+		d.font("", smallSize, ink)
+		for _, r := range t.rows {
+			if t.numeric(i) {
+				minW[i] = math.Max(minW[i], d.width(r[i]))
+			} else {
+				minW[i] = math.Max(minW[i], d.minWidth(r[i], wordCap))
+			}
+		}
+		minW[i] += 2*cellPad + 0.4
+	}
+	t.minW = minW
+	keep := max(t.keep, 1)
 	total := 0.0
-	for _, w := range t.widths {
+	for _, w := range minW {
 		total += w
 	}
-	widths := make([]float64, len(t.widths))
-	for i, w := range t.widths {
-		widths[i] = w / total * contentW
+	all := make([]int, n)
+	for i := range all {
+		all[i] = i
 	}
-	const pad, lh = 0.9, 3.6
-	headShade := &rgb{tableHeadShade, tableHeadShade, tableHeadShade}
-	var drawRow func(cells []string, header bool, fill *rgb)
-	drawRow = func(cells []string, header bool, fill *rgb) {
-		style := ""
-		if header {
-			style = "B"
-		}
-		d.font(style, smallSize, ink)
-		lines := make([][]string, len(cells))
-		n := 1
-		for i, c := range cells {
-			lines[i] = p.SplitText(c, widths[i]-2*pad)
-			n = max(n, len(lines[i]))
-		}
-		h := float64(n)*lh + 2*pad
-		if p.GetY()+h > contentBottom {
-			p.AddPage()
-			if !header {
-				drawRow(t.header, true, headShade)
-				d.font(style, smallSize, ink)
-			}
-		}
-		x, y := marginX, p.GetY()
-		if fill != nil {
-			p.SetFillColor(fill.R, fill.G, fill.B)
-			p.Rect(x, y, contentW, h, "F")
-		}
-		for i := range cells {
-			align := "L"
-			if i < len(t.right) && t.right[i] {
-				align = "R"
-			}
-			for k, line := range lines[i] {
-				p.SetXY(x+pad, y+pad+float64(k)*lh)
-				p.CellFormat(widths[i]-2*pad, lh, line, "", 0, align, false, 0, "")
-			}
-			x += widths[i]
-		}
-		p.SetDrawColor(tableRuleGrey, tableRuleGrey, tableRuleGrey)
-		p.SetLineWidth(0.2)
-		p.Line(marginX, y+h, marginX+contentW, y+h)
-		p.SetXY(marginX, y+h)
+	if total <= contentW || n <= keep+1 {
+		return [][]int{all}
 	}
-	drawRow(t.header, true, headShade)
-	for i, r := range t.rows {
-		var fill *rgb
-		if i < len(t.shade) {
-			fill = t.shade[i]
-		}
-		drawRow(r, false, fill)
+	var groups [][]int
+	lead := 0.0
+	for i := range keep {
+		lead += minW[i]
 	}
-	p.Ln(2)
+	cur, w := all[:keep:keep], lead
+	for i := keep; i < n; i++ {
+		if w+minW[i] > contentW && len(cur) > keep {
+			groups = append(groups, cur)
+			cur, w = all[:keep:keep], lead
+		}
+		cur = append(cur, i)
+		w += minW[i]
+	}
+	return append(groups, cur)
 }
 
-// output writes the PDF to w, reporting the first error gofpdf met.
+// widthsOf scales the relative widths of cols to the content width and
+// raises any column below its minimum, taking the room from the columns
+// with slack.
+func widthsOf(t *pdfTable, cols []int) []float64 {
+	rel := make([]float64, len(cols))
+	total := 0.0
+	for k, c := range cols {
+		rel[k] = 1
+		if c < len(t.widths) {
+			rel[k] = t.widths[c]
+		}
+		total += rel[k]
+	}
+	w := make([]float64, len(cols))
+	for k := range cols {
+		w[k] = rel[k] / total * contentW
+	}
+	for range 4 {
+		deficit, slack := 0.0, 0.0
+		for k, c := range cols {
+			if w[k] < t.minW[c] {
+				deficit += t.minW[c] - w[k]
+				w[k] = t.minW[c]
+			} else {
+				slack += w[k] - t.minW[c]
+			}
+		}
+		if deficit == 0 || slack == 0 {
+			break
+		}
+		f := math.Min(1, deficit/slack)
+		for k, c := range cols {
+			if w[k] > t.minW[c] {
+				w[k] -= (w[k] - t.minW[c]) * f
+			}
+		}
+	}
+	return w
+}
+
+// tableRow is one laid-out row: its wrapped lines per cell and height.
+type tableRow struct {
+	lines [][]string
+	h     float64
+}
+
+func (d *doc) layRow(t *pdfTable, cells []string, cols []int, w []float64, header bool, row int) tableRow {
+	r := tableRow{lines: make([][]string, len(cols))}
+	n := 1
+	for k, c := range cols {
+		d.font(t.style(row, c, header), smallSize, ink)
+		if t.numeric(c) && !header {
+			r.lines[k] = []string{cells[c]}
+		} else {
+			r.lines[k] = d.wrap(cells[c], w[k]-2*cellPad)
+		}
+		n = max(n, len(r.lines[k]))
+	}
+	r.h = float64(n)*cellLH + 2*cellPad
+	return r
+}
+
+func (t *pdfTable) style(row, col int, header bool) string {
+	if header || (row >= 0 && row < len(t.bold) && col < len(t.bold[row]) && t.bold[row][col]) {
+		return "B"
+	}
+	return ""
+}
+
+// table draws t, starting a new page (with the header repeated) when a
+// row does not fit, and in parts of columns when they do not fit the
+// page together.
+func (d *doc) table(t pdfTable) {
+	for _, cols := range d.layoutColumns(&t) {
+		d.tablePart(&t, cols, 0, contentBottom, 0)
+	}
+	d.setY(d.y() + 2)
+}
+
+// tableHeight is the height of the header and the first n rows of t
+// (columns of the first part).
+func (d *doc) tableHeight(t *pdfTable, n int) float64 {
+	cols := d.layoutColumns(t)[0]
+	w := widthsOf(t, cols)
+	h := d.layRow(t, t.header, cols, w, true, -1).h
+	for i := range min(n, len(t.rows)) {
+		h += d.layRow(t, t.rows[i], cols, w, false, i).h
+	}
+	return h
+}
+
+// tableUntil draws the rows of t from row from that fit above limit on
+// the current page (at least minRows of them, or none), and returns the
+// index of the first row not drawn. It draws every column together; use
+// it for tables whose columns fit the page.
+func (d *doc) tableUntil(t *pdfTable, from int, limit float64, minRows int) int {
+	groups := d.layoutColumns(t)
+	return d.tablePart(t, groups[0], from, limit, minRows)
+}
+
+// tablePart draws columns cols of the rows from row from. With minRows 0
+// it breaks pages as needed and draws every row; otherwise it stops at
+// limit and returns the first row not drawn (len(rows) when all are).
+func (d *doc) tablePart(t *pdfTable, cols []int, from int, limit float64, minRows int) int {
+	w := widthsOf(t, cols)
+	head := d.layRow(t, t.header, cols, w, true, -1)
+	rows := make([]tableRow, len(t.rows))
+	for i := from; i < len(t.rows); i++ {
+		rows[i] = d.layRow(t, t.rows[i], cols, w, false, i)
+	}
+	bounded := minRows > 0
+	i := from
+	for i < len(t.rows) {
+		// Rows that fit on this page, leaving no widow of fewer than three
+		// rows for the next page when this page can spare them.
+		y := d.y() + head.h
+		end := i
+		for end < len(t.rows) && y+rows[end].h <= limit {
+			y += rows[end].h
+			end++
+		}
+		if left := len(t.rows) - end; left > 0 && left < 3 && end-i-(3-left) >= 3 {
+			end = len(t.rows) - 3
+		}
+		if end == i || (bounded && end-i < minRows && end < len(t.rows)) {
+			if bounded {
+				return i
+			}
+			if d.y() > marginTop+1 {
+				d.pdf.AddPage()
+				continue
+			}
+			end = i + 1 // a row taller than a page
+		}
+		d.drawRow(t, t.header, cols, w, head, true, -1)
+		for ; i < end; i++ {
+			d.drawRow(t, t.rows[i], cols, w, rows[i], false, i)
+		}
+		if i < len(t.rows) {
+			if bounded {
+				return i
+			}
+			d.pdf.AddPage()
+		}
+	}
+	return i
+}
+
+func (d *doc) drawRow(t *pdfTable, cells []string, cols []int, w []float64, r tableRow, header bool, row int) {
+	p := d.pdf
+	y := d.y()
+	var fill *rgb
+	if header {
+		fill = &rgb{tableHeadShade, tableHeadShade, tableHeadShade}
+	} else if row < len(t.shade) {
+		fill = t.shade[row]
+	}
+	total := 0.0
+	for _, x := range w {
+		total += x
+	}
+	if fill != nil {
+		p.SetFillColor(fill.R, fill.G, fill.B)
+		p.Rect(marginX, y, total, r.h, "F")
+	}
+	x := marginX
+	for k, c := range cols {
+		d.font(t.style(row, c, header), smallSize, ink)
+		align := "L"
+		if t.numeric(c) {
+			align = "R"
+		}
+		if !header && c < len(t.decimal) && t.decimal[c] {
+			d.decimalCell(x, y+cellPad, w[k]-2*cellPad, cells[c], t, c)
+		} else {
+			for j, line := range r.lines[k] {
+				d.putAligned(x+cellPad, y+cellPad+float64(j)*cellLH, w[k]-2*cellPad, cellLH, line, align)
+			}
+		}
+		x += w[k]
+	}
+	p.SetDrawColor(tableRuleGrey, tableRuleGrey, tableRuleGrey)
+	p.SetLineWidth(0.2)
+	p.Line(marginX, y+r.h, marginX+total, y+r.h)
+	d.setY(y + r.h)
+}
+
+// decimalCell draws a number with its decimal point where the widest
+// fraction of column c puts it, so that a column of numbers with
+// different decimals lines up.
+func (d *doc) decimalCell(x, y, w float64, s string, t *pdfTable, c int) {
+	frac := 0.0
+	for _, r := range t.rows {
+		if i := strings.IndexByte(r[c], '.'); i >= 0 {
+			frac = math.Max(frac, d.width(r[c][i:]))
+		}
+	}
+	point := x + w - frac
+	whole, rest := s, ""
+	if i := strings.IndexByte(s, '.'); i >= 0 {
+		whole, rest = s[:i], s[i:]
+	}
+	d.put(point-d.width(whole), y, cellLH, whole+rest)
+}
+
+// output writes the PDF to w, reporting the first error gofpdf met, and
+// refusing a document that met characters no font prints.
 func (d *doc) output(w io.Writer) error {
+	if len(d.lost) > 0 {
+		return &GlyphError{Faults: []GlyphFault{{Field: "text", Text: string(d.lost), Chars: d.lost}}}
+	}
 	if err := d.pdf.Error(); err != nil {
 		return fmt.Errorf("reports: PDF: %w", err)
 	}
-	if err := d.pdf.Output(w); err != nil {
+	var buf bytes.Buffer
+	if err := d.pdf.Output(&buf); err != nil {
 		return fmt.Errorf("reports: PDF: %w", err)
 	}
-	return nil
+	out, err := withLang(buf.Bytes(), docLang)
+	if err != nil {
+		return err
+	}
+	_, err = w.Write(out)
+	return err
 }
 
-// niceStep returns a round tick step (1, 2 or 5 times a power of ten) for
-// an axis from 0 to top with about n ticks.
+// withLang adds /Lang to the catalog of a PDF written by gofpdf (which
+// has no call for it): the catalog is the last object, so only the
+// startxref offset after it moves.
+func withLang(pdf []byte, lang string) ([]byte, error) {
+	const cat = "/Type /Catalog"
+	i := bytes.LastIndex(pdf, []byte(cat))
+	j := bytes.LastIndex(pdf, []byte("startxref\n"))
+	if i < 0 || j < i {
+		return nil, fmt.Errorf("reports: PDF: no catalog to set the language in")
+	}
+	ins := []byte("\n/Lang (" + lang + ")")
+	numStart := j + len("startxref\n")
+	numEnd := numStart + bytes.IndexByte(pdf[numStart:], '\n')
+	off, err := strconv.Atoi(string(pdf[numStart:numEnd]))
+	if err != nil || numEnd < numStart {
+		return nil, fmt.Errorf("reports: PDF: unreadable startxref")
+	}
+	var b bytes.Buffer
+	b.Write(pdf[:i+len(cat)])
+	b.Write(ins)
+	b.Write(pdf[i+len(cat) : numStart])
+	b.WriteString(strconv.Itoa(off + len(ins)))
+	b.Write(pdf[numEnd:])
+	return b.Bytes(), nil
+}
+
+// niceStep returns a round tick step (1, 2, 2.5 or 5 times a power of
+// ten) for an axis from 0 to top with about n ticks.
 func niceStep(top float64, n int) float64 {
 	if !(top > 0) {
 		return 1

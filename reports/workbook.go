@@ -65,26 +65,6 @@ const (
 	numKinds
 )
 
-// minorUnits are the ISO 4217 currencies whose minor unit is not two
-// decimals (ISO 4217 list one, as published by SIX; recalled from memory,
-// not checked against the current amendment). Every other code, and text
-// that is not a code at all ("€"), gets two.
-var minorUnits = map[string]int{
-	"BIF": 0, "CLP": 0, "DJF": 0, "GNF": 0, "ISK": 0, "JPY": 0, "KMF": 0, "KRW": 0, "PYG": 0,
-	"RWF": 0, "UGX": 0, "UYI": 0, "VND": 0, "VUV": 0, "XAF": 0, "XOF": 0, "XPF": 0,
-	"BHD": 3, "IQD": 3, "JOD": 3, "KWD": 3, "LYD": 3, "OMR": 3, "TND": 3,
-	"CLF": 4, "UYW": 4,
-}
-
-// currencyDecimals is the number of decimals amounts of currency code are
-// shown with: its ISO 4217 minor unit, 2 when the code is unknown.
-func currencyDecimals(code string) int {
-	if d, ok := minorUnits[strings.ToUpper(strings.TrimSpace(code))]; ok {
-		return d
-	}
-	return 2
-}
-
 // numberFormat is the number format of kind k; money has moneyDecimals.
 func numberFormat(k cellKind, moneyDecimals int) string {
 	switch k {
@@ -196,7 +176,7 @@ type workbook struct {
 func newWorkbook(h *Header, what string) *workbook {
 	f := excelize.NewFile()
 	f.SetZipWriter(func(w io.Writer) excelize.ZipWriter { return datedZip{zip.NewWriter(w)} })
-	b := &workbook{f: f, h: h, money: currencyDecimals(h.Currency)}
+	b := &workbook{f: f, h: h, money: MinorUnit(h.Currency)}
 	b.try(f.SetDocProps(&excelize.DocProperties{
 		Title: h.Model + ": " + what, Subject: what, Creator: "fixpoint", LastModifiedBy: "fixpoint",
 		Description: Caution, Language: "en", Created: workbookDate, Modified: workbookDate,

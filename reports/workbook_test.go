@@ -91,8 +91,8 @@ func TestCurrencyDecimals(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.code, func(t *testing.T) {
-			if got := currencyDecimals(tc.code); got != tc.want {
-				t.Errorf("currencyDecimals(%q) = %d, want %d", tc.code, got, tc.want)
+			if got := MinorUnit(tc.code); got != tc.want {
+				t.Errorf("MinorUnit(%q) = %d, want %d", tc.code, got, tc.want)
 			}
 			// The workbook's money cells carry that format.
 			a := smallAdvice(t, "Invented pumps", tc.code, []string{"good", "worn", "failed"}, []string{"leave", "renew"})

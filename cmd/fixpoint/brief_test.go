@@ -174,6 +174,10 @@ func TestBriefRefusals(t *testing.T) {
 		{"output is input", []string{"brief", cfg, "-o", cfg, "--force"}, exitUsage, "is the input file"},
 		{"bad date", []string{"brief", cfg, "-o", filepath.Join(dir, "x.pdf"), "--date", "1/12/2026"}, exitUsage, "is not a date YYYY-MM-DD"},
 		{"bad config", []string{"brief", filepath.Join(dir, "none.yaml"), "-o", filepath.Join(dir, "y.pdf")}, exitInput, "file not found"},
+		{"prepared-by on two lines", []string{"brief", cfg, "-o", filepath.Join(dir, "z.pdf"), "--prepared-by", "A. Example\nB. Example"}, exitUsage, "want one line"},
+		{"missing font", []string{"brief", cfg, "-o", filepath.Join(dir, "f.pdf"), "--font", filepath.Join(dir, "none.ttf")}, exitInput, "none.ttf: font: file not found"},
+		{"not a font", []string{"brief", cfg, "-o", filepath.Join(dir, "g.pdf"), "--font", cfg}, exitInput, "reports: font pumps.yaml"},
+		{"system flags on a class", []string{"brief", cfg, "-o", filepath.Join(dir, "h.pdf"), "--workers", "2"}, exitUsage, "--workers does not apply to a class config"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			code, _, stderr := runCLI(t, tc.args...)
@@ -207,6 +211,82 @@ func TestFleetBrief(t *testing.T) {
 		"Units deferred", "Expected condition mix of valves", "lower bound"} {
 		if !strings.Contains(flat, w) {
 			t.Errorf("fleet brief lacks %q", w)
+		}
+	}
+}
+
+// Page 1 carries the traceability (file name, its SHA-256, the version,
+// the date, prepared for and by), the sign-off and the certificate in
+// words; the PDF's metadata names the author and subject, and its
+// catalog the language. The charts say which population they follow and
+// the survival chart runs over their horizon; the rate table marks the
+// changed advice; yen print without decimals.
+func TestBriefTraceability(t *testing.T) {
+	t.Setenv("FIXPOINT_PREPARED_FOR", "Kestrel Valley asset board (invented)")
+	path := writeBrief(t, demo, "--prepared-by", "R. Example")
+	pages := strings.Split(pdfText(t, path), "\f")
+	flat := func(s string) string { return strings.Join(strings.Fields(s), " ") }
+	data, err := os.ReadFile(demo)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum := sha256.Sum256(data)
+	page1 := flat(pages[0])
+	for _, w := range []string{"Config file pumps.yaml", hex.EncodeToString(sum[:]), "fixpoint version", "1 December 2026",
+		"Prepared for Kestrel Valley asset board (invented)", "Prepared by R. Example", "Reviewed by (competent person)", "Approved by",
+		"Name", "Role", "Signature", "Date", "Certified optimal: no other policy saves more than 0.01 EUR in any condition", "Key assumptions"} {
+		if !strings.Contains(page1, w) {
+			t.Errorf("page 1 lacks %q", w)
+		}
+	}
+	if strings.Contains(page1, "e-09") || strings.Contains(page1, "e-1") {
+		t.Error("page 1 shows e-notation; it belongs on the certificate page")
+	}
+	charts := flat(pages[1])
+	for _, w := range []string{"The charts follow 100 units, all starting sound", "Survival over the same 20 years"} {
+		if !strings.Contains(charts, w) {
+			t.Errorf("chart page lacks %q", w)
+		}
+	}
+	if !strings.Contains(flat(pages[2]), "service *") {
+		t.Error("the rate table does not mark the changed advice")
+	}
+	info, err := exec.Command(poppler(t, "pdfinfo"), path).CombinedOutput()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, w := range []string{"Author:          R. Example", "Subject:         Maintenance policy brief"} {
+		if !strings.Contains(string(info), w) {
+			t.Errorf("pdfinfo lacks %q:\n%s", w, info)
+		}
+	}
+	if strings.Contains(string(info), "Syntax") {
+		t.Errorf("pdfinfo complains:\n%s", info)
+	}
+	raw, _ := os.ReadFile(path)
+	if !bytes.Contains(raw, []byte("/Lang (en-GB)")) {
+		t.Error("no /Lang in the PDF catalog")
+	}
+}
+
+// A system file gives the joint brief: the advice per component and the
+// grouping rules in words, the saving against separate planning, the
+// expected cost and its certificate, with the figures of solve.
+func TestSystemBrief(t *testing.T) {
+	crane := filepath.Join("..", "..", "configs", "crane.yaml")
+	text := strings.Join(strings.Fields(pdfText(t, writeBrief(t, crane))), " ")
+	var doc struct {
+		States []struct {
+			Value float64
+		}
+		SavingPV float64 `json:"joint_saving_present_value"`
+	}
+	runJSON(t, &doc, "solve", crane, "--format", "json")
+	for _, w := range []string{"Joint maintenance brief", "What to do to each component", "hoist_motor", "When the machine is stopped anyway",
+		"When the machine is stopped for", "joint planning saves " + reports.Money(doc.SavingPV, 2) + " EUR",
+		"expected to cost " + reports.Money(doc.States[0].Value, 2) + " EUR", "Certified optimal", "Sign-off", "Solver certificate", "Component 3 of 3: brake"} {
+		if !strings.Contains(text, w) {
+			t.Errorf("system brief lacks %q", w)
 		}
 	}
 }

@@ -14,7 +14,9 @@
 //	fixpoint sensitivity FILE  class          how far each cost can move before the advice changes
 //	fixpoint forecast FILE     class, fleet   expected mix and spend; a fleet's Monte-Carlo (--simulate)
 //	fixpoint plan FILE         fleet          the budget-constrained plan with proven bounds
-//	fixpoint brief FILE -o PDF class, fleet   the printable brief
+//	fixpoint brief FILE -o PDF class, system, fleet  the signable brief (--prepared-for, --prepared-by;
+//	                                          --font or Debian's fonts-droid-fallback for CJK names;
+//	                                          a name no font prints is refused with exit 1)
 //	fixpoint fit FILE          records CSV    transition rows estimated from inspection records
 //	fixpoint init [PATH]       -              a commented starter of every kind (--kind)
 //	fixpoint completion SHELL  -              a shell completion script (cobra's)

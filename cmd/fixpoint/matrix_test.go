@@ -43,7 +43,7 @@ var accepts = map[string]map[string][]string{
 	"sensitivity": {"class": nil},
 	"forecast":    {"class": {"--from", "sound"}, "fleet": {"--simulate", "20"}},
 	"plan":        {"fleet": nil},
-	"brief":       {"class": {"-o", "OUT.pdf"}, "fleet": {"-o", "OUT.pdf"}},
+	"brief":       {"class": {"-o", "OUT.pdf"}, "system": {"-o", "OUT.pdf"}, "fleet": {"-o", "OUT.pdf"}},
 	"fit":         {"records": {"--config", demo, "--bootstrap", "0"}},
 }
 

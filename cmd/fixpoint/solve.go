@@ -143,25 +143,40 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 	return uncertified(adv.Result)
 }
 
-// solveAverage solves the long-run average-cost criterion and writes it.
-func (a *app) solveAverage(cmd *cobra.Command, r *classRun, st settings.Solve) error {
-	res, err := optimize.SolveAverage(cmd.Context(), r.Problem, &st.Solver)
+// averageAdvice solves the long-run average-cost criterion of a class and
+// wraps it for presentation; a multichain model is a fault of the file.
+func (a *app) averageAdvice(cmd *cobra.Command, r *classRun, s optimize.Settings) (*reports.AverageAdvice, error) {
+	res, err := optimize.SolveAverage(cmd.Context(), r.Problem, &s)
 	var me *optimize.MultichainError
 	if errors.As(err, &me) {
-		return &modelfile.Fault{File: r.Path, Path: "criterion", Msg: strings.TrimPrefix(err.Error(), "optimize: ")}
+		return nil, &modelfile.Fault{File: r.Path, Path: "criterion", Msg: strings.TrimPrefix(err.Error(), "optimize: ")}
 	}
+	if err != nil {
+		return nil, err
+	}
+	return &reports.AverageAdvice{Header: header(r.Class), Problem: r.Problem, Result: res, Warnings: a.safetyWarnings(r, res.Policy)}, nil
+}
+
+// averageUncertified returns the exit-3 error of an average-criterion
+// answer whose gain is not proven to the tolerance, and nil otherwise.
+func averageUncertified(res *optimize.AverageResult) error {
+	if res.Status == optimize.Certified {
+		return nil
+	}
+	return &uncertifiedError{fmt.Sprintf("the answer is not certified: the gain is proven only within [%.6g, %.6g], wider than the tolerance %.3g",
+		res.GainLower, res.GainUpper, res.Tol)}
+}
+
+// solveAverage solves the long-run average-cost criterion and writes it.
+func (a *app) solveAverage(cmd *cobra.Command, r *classRun, st settings.Solve) error {
+	adv, err := a.averageAdvice(cmd, r, st.Solver)
 	if err != nil {
 		return err
 	}
-	adv := &reports.AverageAdvice{Header: header(r.Class), Problem: r.Problem, Result: res, Warnings: a.safetyWarnings(r, res.Policy)}
 	if err := a.emit(cmd, st.Output, adv); err != nil {
 		return err
 	}
-	if res.Status != optimize.Certified {
-		return &uncertifiedError{fmt.Sprintf("the answer is not certified: the gain is proven only within [%.6g, %.6g], wider than the tolerance %.3g",
-			res.GainLower, res.GainUpper, res.Tol)}
-	}
-	return nil
+	return averageUncertified(adv.Result)
 }
 
 // reportBytesPerState bounds the memory a system's JSON or CSV report
@@ -169,16 +184,25 @@ func (a *app) solveAverage(cmd *cobra.Command, r *classRun, st settings.Solve) e
 // common practice, no source, to keep a margin).
 const reportBytesPerState = 600
 
+// jointLimits are the sizes a joint solve may take: its workers (0: all
+// cores), memory and time limits, and whether a report of every joint
+// state follows (JSON, CSV).
+type jointLimits struct {
+	workers                int
+	MaxMemoryGiB, MaxHours float64
+	report                 bool
+}
+
 // sizeGuard estimates memory and time of a joint solve and refuses
 // machines above the limits, with the numbers and how to shrink the model;
 // it prints the estimate before a solve that may take more than ten
 // seconds.
-func (a *app) sizeGuard(sf *modelfile.System, m *system.Machine, s *system.Settings, st settings.Solve) error {
+func (a *app) sizeGuard(sf *modelfile.System, m *system.Machine, s *system.Settings, st jointLimits) error {
 	est, err := m.Estimate(s)
 	if err != nil {
 		return &modelfile.Fault{File: sf.Path, Msg: modelfile.Plain(err)}
 	}
-	if st.Output.Format != "table" {
+	if st.report {
 		est.Bytes += reportBytesPerState * est.States
 	}
 	if err := est.Check(st.MaxMemoryGiB*(1<<30), st.MaxHours*3600); err != nil {
@@ -226,13 +250,14 @@ func byteSizeText(b float64) string {
 	return fmt.Sprintf("%.0f KiB", b/(1<<10))
 }
 
-// solveSystem solves a system file: the components alone, then jointly,
-// and writes the advice.
-func (a *app) solveSystem(cmd *cobra.Command, sf *modelfile.System, st settings.Solve) error {
-	if st.Override.Given() {
-		d, err := override(sf.Period, st.Override)
+// systemAdvice solves a system file (with the discount override, if
+// any): the components alone, then jointly, then the separate policies in
+// the joint model; it wraps the answer for presentation.
+func (a *app) systemAdvice(cmd *cobra.Command, sf *modelfile.System, o settings.Override, s optimize.Settings, lim jointLimits) (*reports.SystemAdvice, error) {
+	if o.Given() {
+		d, err := override(sf.Period, o)
 		if err != nil {
-			return err
+			return nil, err
 		}
 		h := sf.Header
 		h.Discount = d
@@ -240,43 +265,57 @@ func (a *app) solveSystem(cmd *cobra.Command, sf *modelfile.System, st settings.
 	}
 	m, err := sf.Machine()
 	if err != nil {
-		return err
+		return nil, err
 	}
-	settings := &system.Settings{Tol: st.Solver.Tol, MaxSweeps: st.Solver.MaxIterations, Workers: st.Workers}
-	if err := a.sizeGuard(sf, m, settings, st); err != nil {
-		return err
+	settings := &system.Settings{Tol: s.Tol, MaxSweeps: s.MaxIterations, Workers: lim.workers}
+	if err := a.sizeGuard(sf, m, settings, lim); err != nil {
+		return nil, err
 	}
 	ctx := cmd.Context()
 	sep, err := m.Separate(ctx)
 	if err != nil {
-		return err
+		return nil, err
 	}
 	warm, err := m.SeparateStart(ctx, sep)
 	if err != nil {
-		return err
+		return nil, err
 	}
 	settings.Start = warm
 	r, err := system.Solve(ctx, m, settings)
 	if err != nil {
-		return err
+		return nil, err
 	}
 	pols := make([][]int, len(sep))
 	for i, res := range sep {
 		pols[i] = res.Policy
 	}
-	ev, err := m.EvaluateProduct(ctx, pols, warm, st.Solver.Tol)
+	ev, err := m.EvaluateProduct(ctx, pols, warm, s.Tol)
 	if err != nil {
-		return err
+		return nil, err
 	}
 	alone, groups := m.Rules(r.Policy)
 	h := reports.Header{Model: sf.Name, Currency: sf.Currency, Period: sf.Period, Discount: m.Discount, Source: sf.Path, SHA256: sf.SHA256, Version: version()}
-	view := &reports.SystemAdvice{Header: h, System: m, Result: r, Separate: ev, Alone: alone, Groups: groups}
+	return &reports.SystemAdvice{Header: h, System: m, Result: r, Separate: ev, Alone: alone, Groups: groups}, nil
+}
+
+// systemUncertified returns the exit-3 error of a joint answer whose gap
+// is above its tolerance, and nil otherwise.
+func systemUncertified(r *system.Result) error {
+	if r.Status == optimize.Certified {
+		return nil
+	}
+	return &uncertifiedError{fmt.Sprintf("the answer is not certified: proven gap %.3g is above the tolerance %.3g after %d sweeps; raise --max-iterations or loosen --tol",
+		r.Gap, r.Tol, r.Sweeps)}
+}
+
+// solveSystem solves a system file and writes the advice.
+func (a *app) solveSystem(cmd *cobra.Command, sf *modelfile.System, st settings.Solve) error {
+	view, err := a.systemAdvice(cmd, sf, st.Override, st.Solver, jointLimits{st.Workers, st.MaxMemoryGiB, st.MaxHours, st.Output.Format != "table"})
+	if err != nil {
+		return err
+	}
 	if err := a.emit(cmd, st.Output, view); err != nil {
 		return err
 	}
-	if r.Status != optimize.Certified {
-		return &uncertifiedError{fmt.Sprintf("the answer is not certified: proven gap %.3g is above the tolerance %.3g after %d sweeps; raise --max-iterations or loosen --tol",
-			r.Gap, r.Tol, r.Sweeps)}
-	}
-	return nil
+	return systemUncertified(view.Result)
 }

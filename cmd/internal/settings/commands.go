@@ -6,6 +6,7 @@ import (
 	"slices"
 	"strings"
 	"time"
+	"unicode/utf8"
 
 	"github.com/spf13/pflag"
 
@@ -136,22 +137,32 @@ func (s *Source) Solve() (st Solve, err error) {
 	if st.Workers, err = s.Workers(); err != nil {
 		return
 	}
-	if st.MaxMemoryGiB, err = s.number("max-memory-gib"); err != nil {
+	if st.MaxMemoryGiB, err = s.memory(); err != nil {
 		return
 	}
-	if !(st.MaxMemoryGiB > 0) || st.MaxMemoryGiB > 1<<20 {
-		err = Errorf("%s: %g is not a memory limit in (0, 1048576] GiB", where("max-memory-gib"), st.MaxMemoryGiB)
-		return
-	}
-	if st.MaxHours, err = s.number("max-hours"); err != nil {
-		return
-	}
-	if !(st.MaxHours > 0) || st.MaxHours > 1e4 {
-		err = Errorf("%s: %g is not a time limit in (0, 10000] hours", where("max-hours"), st.MaxHours)
+	if st.MaxHours, err = s.hours(); err != nil {
 		return
 	}
 	st.Robust, err = s.Robust()
 	return
+}
+
+// memory reads --max-memory-gib.
+// hours reads --max-hours.
+func (s *Source) hours() (float64, error) {
+	h, err := s.number("max-hours")
+	if err == nil && (!(h > 0) || h > 1e4) {
+		err = Errorf("%s: %g is not a time limit in (0, 10000] hours", where("max-hours"), h)
+	}
+	return h, err
+}
+
+func (s *Source) memory() (float64, error) {
+	m, err := s.number("max-memory-gib")
+	if err == nil && (!(m > 0) || m > 1<<20) {
+		err = Errorf("%s: %g is not a memory limit in (0, 1048576] GiB", where("max-memory-gib"), m)
+	}
+	return m, err
 }
 
 // Workers reads --workers (0 = all cores).
@@ -462,7 +473,31 @@ type Brief struct {
 	Rates    Rates
 	Fleet    Fleet
 	Date     time.Time
+	// Criterion is "", discounted or average ("" keeps the config's).
+	Criterion string
+	// Workers, MaxMemoryGiB and MaxHours size the joint solve of a system
+	// file.
+	Workers                int
+	MaxMemoryGiB, MaxHours float64
+	// PreparedFor and PreparedBy are printed on page 1 ("" leaves a line
+	// to fill in by hand).
+	PreparedFor, PreparedBy string
+	// Font is a TrueType font file for characters the built-in fonts
+	// lack ("" looks for the Droid Sans Fallback font of Debian's
+	// fonts-droid-fallback).
+	Font string
 }
+
+// AddImprint declares --prepared-for, --prepared-by and --font.
+func AddImprint(f *pflag.FlagSet) {
+	f.String("prepared-for", "", "who the brief is prepared for, printed on page 1 (`name`)")
+	f.String("prepared-by", "", "who prepared the brief, printed on page 1 and as the PDF's author (`name`)")
+	f.String("font", "", "TrueType `file` (.ttf) for characters the built-in fonts lack, such as Chinese, Japanese or Korean "+
+		"(default: Droid Sans Fallback from the Debian package fonts-droid-fallback, when installed)")
+}
+
+// MaxPreparedChars bounds --prepared-for and --prepared-by.
+const MaxPreparedChars = 200
 
 // AddDate declares --date.
 func AddDate(f *pflag.FlagSet) {
@@ -499,6 +534,30 @@ func (s *Source) Brief(today time.Time, sourceDateEpoch string) (st Brief, err e
 	if st.Fleet, err = s.Fleet(); err != nil {
 		return
 	}
+	if st.Criterion, err = s.Criterion(); err != nil {
+		return
+	}
+	if st.Workers, err = s.Workers(); err != nil {
+		return
+	}
+	if st.MaxMemoryGiB, err = s.memory(); err != nil {
+		return
+	}
+	if st.MaxHours, err = s.hours(); err != nil {
+		return
+	}
+	for _, k := range []struct {
+		key string
+		to  *string
+	}{{"prepared-for", &st.PreparedFor}, {"prepared-by", &st.PreparedBy}} {
+		v := s.text(k.key)
+		if utf8.RuneCountInString(v) > MaxPreparedChars || strings.ContainsAny(v, "\n\r\t") {
+			err = Errorf("%s: want one line of at most %d characters", where(k.key), MaxPreparedChars)
+			return
+		}
+		*k.to = v
+	}
+	st.Font = s.text("font")
 	st.Date, err = s.date(today, sourceDateEpoch)
 	return
 }

@@ -1,0 +1,428 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"html"
+	"math"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"regexp"
+	"runtime"
+	"sort"
+	"strconv"
+	"strings"
+	"testing"
+
+	"github.com/jung-kurt/gofpdf"
+	"golang.org/x/image/font/gofont/goregular"
+
+	"fixpoint/reports"
+)
+
+// bboxWord is one word of a page as pdftotext -bbox reads it from the
+// PDF, in points from the top-left corner.
+type bboxWord struct {
+	page                   int
+	xMin, yMin, xMax, yMax float64
+	text                   string
+}
+
+var (
+	pageRE = regexp.MustCompile(`<page width="([0-9.]+)" height="([0-9.]+)">`)
+)
+
+// pdfWords returns the words of every page of a PDF (pdftotext from
+// poppler-utils, an independent reader of the file).
+func pdfWords(t *testing.T, path string) [][]bboxWord {
+	t.Helper()
+	out, err := exec.Command(poppler(t, "pdftotext"), "-bbox", path, "-").Output()
+	if err != nil {
+		t.Fatalf("pdftotext -bbox: %v", err)
+	}
+	var pages [][]bboxWord
+	for _, chunk := range strings.Split(string(out), "<page ")[1:] {
+		var words []bboxWord
+		// Lines of the form <word xMin="..." yMin="..." xMax="..." yMax="...">text</word>.
+		for _, line := range strings.Split(chunk, "\n") {
+			line = strings.TrimSpace(line)
+			if !strings.HasPrefix(line, "<word ") {
+				continue
+			}
+			w := bboxWord{page: len(pages) + 1}
+			attrs, rest, _ := strings.Cut(line[len("<word "):], ">")
+			w.text = html.UnescapeString(strings.TrimSuffix(rest, "</word>"))
+			for _, kv := range strings.Fields(attrs) {
+				k, v, _ := strings.Cut(kv, "=")
+				x, err := strconv.ParseFloat(strings.Trim(v, `"`), 64)
+				if err != nil {
+					t.Fatalf("pdftotext -bbox: %q", line)
+				}
+				switch k {
+				case "xMin":
+					w.xMin = x
+				case "yMin":
+					w.yMin = x
+				case "xMax":
+					w.xMax = x
+				case "yMax":
+					w.yMax = x
+				}
+			}
+			words = append(words, w)
+		}
+		pages = append(pages, words)
+	}
+	if !pageRE.Match(out) || len(pages) == 0 {
+		t.Fatalf("pdftotext -bbox: no pages in %s", path)
+	}
+	return pages
+}
+
+const mmPt = 72 / 25.4
+
+// Printable area of a brief's pages, in points: the text frame of the
+// layout (18 mm side margins, the running header from 8 mm, the page
+// number down to 292 mm), with 0.5 pt of slack for glyph side bearings.
+var (
+	printLeft, printRight  = 18*mmPt - 0.5, (210-18)*mmPt + 0.5
+	printTop, printBottom  = 8 * mmPt, 292 * mmPt
+	bodyTop, cautionTop    = 14 * mmPt, (297 - 10 - 26) * mmPt
+	minBodyLinesOnLastPage = 5
+)
+
+// splitNumber reports whether a word at a line's end and the first word
+// of the next line are one number broken in two ("38,647," / "410.54",
+// "12.00" / "% real").
+func splitNumber(a, b string) bool {
+	if !strings.ContainsAny(a, "0123456789") {
+		return false
+	}
+	sep := strings.HasSuffix(a, ",") || strings.HasSuffix(a, ".") || strings.HasSuffix(a, "-") ||
+		strings.HasPrefix(b, ",") || strings.HasPrefix(b, ".") || strings.HasPrefix(b, "%")
+	joined := strings.Trim(strings.TrimSuffix(a, "-")+b, "()[]")
+	return sep && wholeNumberRE.MatchString(joined)
+}
+
+// wholeNumberRE is a number as briefs print them: grouped by thousands
+// or not, with decimals, an exponent or a percent sign.
+var wholeNumberRE = regexp.MustCompile(`^-?([0-9]{1,3}(,[0-9]{3})+|[0-9]+)(\.[0-9]+)?(e[-+]?[0-9]+)?%?$`)
+
+// lineEnd reports whether nothing follows w on its line within gap, and
+// lineStart whether nothing precedes it.
+func lineEnd(words []bboxWord, w bboxWord, gap float64) bool {
+	for _, c := range words {
+		if sameLine(c, w) && c.xMin > w.xMax-0.1 && c.xMin < w.xMax+gap {
+			return false
+		}
+	}
+	return true
+}
+
+func lineStart(words []bboxWord, w bboxWord, gap float64) bool {
+	for _, c := range words {
+		if sameLine(c, w) && c.xMax < w.xMin+0.1 && c.xMax > w.xMin-gap {
+			return false
+		}
+	}
+	return true
+}
+
+func sameLine(a, b bboxWord) bool { return math.Abs(a.yMin-b.yMin) < 0.3*(a.yMax-a.yMin) }
+
+// checkLayout fails t with every layout problem of the PDF at path.
+func checkLayout(t *testing.T, path, date string, signable bool) {
+	t.Helper()
+	for _, p := range layoutProblems(t, path, date, signable) {
+		t.Error(p)
+	}
+}
+
+// layoutProblems checks, from the PDF itself, what a signable brief
+// needs: no word outside the printable area, no two words overlapping,
+// no number split across lines, page 1 with the recommendation, the key
+// assumptions and the sign-off, the caution and the dated running header
+// on every page, every font embedded, and no page holding only a few
+// lines.
+func layoutProblems(t *testing.T, path, date string, signable bool) []string {
+	t.Helper()
+	var problems []string
+	report := func(format string, args ...any) { problems = append(problems, fmt.Sprintf(format, args...)) }
+	pages := pdfWords(t, path)
+	for p, words := range pages {
+		text := ""
+		for _, w := range words {
+			text += w.text + " "
+		}
+		for _, want := range []string{"CAUTION: advisory only", "competent", date} {
+			if !strings.Contains(text, want) {
+				report("%s page %d: no %q", filepath.Base(path), p+1, want)
+			}
+		}
+		body := map[int]bool{}
+		// Words in reading order from the top; each is compared with the
+		// words that start above its bottom edge plus a line.
+		sort.SliceStable(words, func(i, j int) bool { return words[i].yMin < words[j].yMin })
+		for i, a := range words {
+			if a.xMin < printLeft || a.xMax > printRight || a.yMin < printTop || a.yMax > printBottom {
+				report("%s page %d: %q at (%.1f, %.1f)-(%.1f, %.1f) pt lies outside the printable area", filepath.Base(path), p+1, a.text, a.xMin, a.yMin, a.xMax, a.yMax)
+			}
+			if strings.ContainsRune(a.text, '\uFFFD') {
+				report("%s page %d: %q holds a replacement character (broken text)", filepath.Base(path), p+1, a.text)
+			}
+			if a.yMin > bodyTop && a.yMax < cautionTop {
+				body[int(a.yMin/4)] = true
+			}
+			h := a.yMax - a.yMin
+			for _, b := range words[i+1:] {
+				if b.yMin > a.yMax+1.2*h {
+					break
+				}
+				ix := min(a.xMax, b.xMax) - max(a.xMin, b.xMin)
+				iy := min(a.yMax, b.yMax) - max(a.yMin, b.yMin)
+				// Word boxes are the fonts' full line boxes; lines set at
+				// their leading touch by up to 40% of a box.
+				if ix > 0.3 && iy > 0.4*min(a.yMax-a.yMin, b.yMax-b.yMin) {
+					report("%s page %d: %q and %q overlap", filepath.Base(path), p+1, a.text, b.text)
+				}
+				below := b.yMin > a.yMin+0.5*h && b.xMin <= a.xMin+1 && b.xMax > a.xMin-40
+				if below && splitNumber(a.text, b.text) && lineEnd(words, a, 4) && lineStart(words, b, 4) {
+					report("%s page %d: number split across lines: %q / %q", filepath.Base(path), p+1, a.text, b.text)
+				}
+			}
+		}
+		if p > 0 && len(body) < minBodyLinesOnLastPage {
+			report("%s page %d holds only %d lines", filepath.Base(path), p+1, len(body))
+		}
+		if p == 0 && signable {
+			for _, want := range []string{"Recommendation", "Key assumptions", "Sign-off", "Signature", "SHA-256", "Certified"} {
+				if !strings.Contains(text, want) {
+					report("%s page 1: no %q", filepath.Base(path), want)
+				}
+			}
+		}
+	}
+	fonts, err := exec.Command(poppler(t, "pdffonts"), path).Output()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, line := range strings.Split(string(fonts), "\n")[2:] {
+		if f := strings.Fields(line); len(f) > 4 && f[len(f)-5] != "yes" {
+			report("%s: font not embedded: %s", filepath.Base(path), line)
+		}
+	}
+	return problems
+}
+
+// hostile are the hostile class and system files (invented data in
+// testdata/hostile): twelve states with 40-character names and a
+// 100-character model name with ten rates; Chinese, Japanese and Korean
+// names with yen near 10^9 and half-year periods; Cyrillic and German
+// names; the average criterion; a machine of six components.
+var hostile = []struct {
+	name string
+	args []string
+	cjk  bool
+}{
+	{"long", []string{"testdata/hostile/long.yaml"}, false},
+	{"long-average", []string{"testdata/hostile/long.yaml", "--criterion", "average", "--mix",
+		"surface_corrosion_with_pitting_grade_00_=40,coating intact minor blistering grade 05=35.5,surface_corrosion_with_pitting_grade_10_=24.5"}, false},
+	{"cjk", []string{"testdata/hostile/cjk.yaml", "--prepared-for", "ケストレル渓谷水道 資産委員会", "--prepared-by", "김 예시"}, true},
+	{"europe", []string{"testdata/hostile/europe.yaml", "--prepared-by", "Jürgen Beispiel-Überprüfer"}, false},
+	{"average", []string{"testdata/hostile/average.yaml"}, false},
+	{"machine6", []string{"testdata/hostile/machine6.yaml", "--prepared-for", "Kestrel Valley operations (invented)"}, false},
+	{"crane", []string{"../../configs/crane.yaml"}, false},
+	{"pumps", []string{demo, "--rates", "0:12%:2%"}, false},
+}
+
+// haveCJKFont skips without the fallback font (Debian fonts-droid-fallback)
+// unless CI=true.
+func haveCJKFont(t *testing.T) {
+	t.Helper()
+	for _, p := range fallbackFonts {
+		if _, err := os.Stat(p); err == nil {
+			return
+		}
+	}
+	if os.Getenv("CI") == "true" {
+		t.Fatal("no CJK font; CI must install fonts-droid-fallback")
+	}
+	t.Skip("no CJK font (Debian package fonts-droid-fallback); skipping")
+}
+
+// The hostile briefs pass the layout check, and every figure of the
+// advice that solve prints appears whole in the class briefs.
+func TestBriefLayoutHostile(t *testing.T) {
+	for _, tc := range hostile {
+		t.Run(tc.name, func(t *testing.T) {
+			if tc.cjk {
+				haveCJKFont(t)
+			}
+			path := writeBrief(t, tc.args[0], tc.args[1:]...)
+			checkLayout(t, path, "2026-12-01", true)
+			words := map[string]bool{}
+			for _, page := range pdfWords(t, path) {
+				for _, w := range page {
+					words[strings.Trim(w.text, "()[],;")] = true
+				}
+			}
+			if tc.name == "machine6" || tc.name == "crane" {
+				return // system briefs: TestSystemBrief checks their figures
+			}
+			figs := wholeFigures(t, tc.args)
+			if len(figs) == 0 {
+				t.Fatal("solve gave no figures to look for")
+			}
+			for _, want := range figs {
+				if !words[want] {
+					t.Errorf("figure %s of solve is not a whole word of the brief", want)
+				}
+			}
+		})
+	}
+}
+
+// wholeFigures are the values and margins that solve --format json gives
+// for a class file, formatted as the brief prints them (the currency's
+// minor unit); none for other kinds.
+func wholeFigures(t *testing.T, args []string) []string {
+	var doc struct {
+		Currency string
+		States   []struct {
+			Value  *float64
+			Bias   *float64
+			Margin *float64
+		}
+	}
+	solveArgs := []string{"solve", args[0], "--format", "json"}
+	for i, a := range args {
+		if a == "--criterion" {
+			solveArgs = append(solveArgs, a, args[i+1])
+		}
+	}
+	code, out, _ := runCLI(t, solveArgs...)
+	if code != 0 || json.Unmarshal([]byte(out), &doc) != nil || strings.Contains(out, `"kind": "system"`) {
+		return nil
+	}
+	dec := reports.MinorUnit(doc.Currency)
+	var want []string
+	for _, s := range doc.States {
+		for _, x := range []*float64{s.Value, s.Bias, s.Margin} {
+			if x != nil {
+				want = append(want, reports.Money(*x, dec))
+			}
+		}
+	}
+	return want
+}
+
+// A name with a character no font has is refused, naming the character
+// and the field; nothing is written.
+func TestBriefRefusesMissingGlyphs(t *testing.T) {
+	data, err := os.ReadFile(demo)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg := strings.Replace(string(data), "name: replace", "name: \"replace 𓀀\"", 1)
+	path := writeFile(t, "glyph.yaml", cfg)
+	out := filepath.Join(t.TempDir(), "b.pdf")
+	code, _, stderr := runCLI(t, "brief", path, "-o", out, "--date", "2026-12-01", "--prepared-by", "Ω ok \U0001F527")
+	if code != exitInput {
+		t.Fatalf("exit %d, want %d: %s", code, exitInput, stderr)
+	}
+	for _, want := range []string{`actions[3].name "replace 𓀀": "𓀀" (U+13000)`, `prepared-by "Ω ok 🔧": "🔧" (U+1F527)`, "fonts-droid-fallback", "--font"} {
+		if !strings.Contains(stderr, want) {
+			t.Errorf("stderr lacks %q:\n%s", want, stderr)
+		}
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Error("a PDF was written")
+	}
+}
+
+// Class and system briefs are byte-identical across runs and numbers of
+// cores.
+func TestBriefDeterministicAcrossCores(t *testing.T) {
+	for _, tc := range hostile {
+		// The class briefs' solvers run on one goroutine; the joint solve
+		// of a system splits its sweeps among the cores.
+		if tc.name != "long" && tc.name != "machine6" && tc.name != "crane" {
+			continue
+		}
+		t.Run(tc.name, func(t *testing.T) {
+			var got [][]byte
+			for _, procs := range []int{1, 2} {
+				prev := runtime.GOMAXPROCS(procs)
+				path := writeBrief(t, tc.args[0], tc.args[1:]...)
+				runtime.GOMAXPROCS(prev)
+				data, err := os.ReadFile(path)
+				if err != nil {
+					t.Fatal(err)
+				}
+				got = append(got, data)
+			}
+			for i := 1; i < len(got); i++ {
+				if !bytes.Equal(got[0], got[i]) {
+					t.Errorf("run %d differs from run 1", i+1)
+				}
+			}
+		})
+	}
+}
+
+// The current fleet brief, for a fleet of 20 classes, is checked for
+// layout too (it has no sign-off yet).
+func TestFleetBriefLayout20Classes(t *testing.T) {
+	dir := t.TempDir()
+	for _, f := range []string{"pumps.yaml", "valves.yaml"} {
+		data, err := os.ReadFile(filepath.Join("..", "..", "configs", f))
+		if err != nil {
+			t.Fatal(err)
+		}
+		os.WriteFile(filepath.Join(dir, f), data, 0o644)
+	}
+	var fleet, inv strings.Builder
+	fleet.WriteString("# INVENTED: 20 classes of the fictional Kestrel Valley Water\nversion: 1\nname: \"Kestrel Valley all zones (invented), twenty classes\"\ncurrency: EUR\nclasses:\n")
+	inv.WriteString("unit,class,condition\n")
+	for c := range 20 {
+		file, state := "pumps.yaml", "light_wear"
+		if c%2 == 1 {
+			file, state = "valves.yaml", "good"
+		}
+		fmt.Fprintf(&fleet, "  class_%02d_kestrel_zone: %s\n", c+1, file)
+		for u := range 3 {
+			fmt.Fprintf(&inv, "KV-%02d-%d,class_%02d_kestrel_zone,%s\n", c+1, u, c+1, state)
+		}
+	}
+	fleet.WriteString("inventory: inventory.csv\nbudget:\n  years: 10\n  per_year: 90000\n")
+	os.WriteFile(filepath.Join(dir, "inventory.csv"), []byte(inv.String()), 0o644)
+	os.WriteFile(filepath.Join(dir, "fleet.yaml"), []byte(fleet.String()), 0o644)
+	checkLayout(t, writeBrief(t, filepath.Join(dir, "fleet.yaml")), "2026-12-01", false)
+}
+
+// The layout check can fail: a page with overprinted words, a word in
+// the margin, a number split across lines and no caution fails it.
+func TestLayoutCheckCatchesFaults(t *testing.T) {
+	pdf := gofpdf.New("P", "mm", "A4", "")
+	pdf.AddUTF8FontFromBytes("go", "", goregular.TTF)
+	pdf.AddPage()
+	pdf.SetFont("go", "", 9)
+	pdf.Text(30, 40, "overprinted")
+	pdf.Text(32, 40, "words")
+	pdf.Text(2, 60, "margin")
+	pdf.Text(30, 80, "cost 38,647,")
+	pdf.Text(30, 84, "410.54 EUR")
+	path := filepath.Join(t.TempDir(), "bad.pdf")
+	if err := pdf.OutputFileAndClose(path); err != nil {
+		t.Fatal(err)
+	}
+	got := strings.Join(layoutProblems(t, path, "2026-12-01", true), "\n")
+	for _, want := range []string{`"overprinted" and "words" overlap`, `"margin" at`, `number split across lines: "38,647," / "410.54"`,
+		`no "CAUTION: advisory only"`, `no "Sign-off"`} {
+		if !strings.Contains(got, want) {
+			t.Errorf("layout check missed %s; it said:\n%s", want, got)
+		}
+	}
+}
