@@ -9,9 +9,9 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
-	"fixpoint/optimize"
 	"fixpoint/reports"
 )
 
@@ -20,13 +20,13 @@ func (a *app) newBrief() *cobra.Command {
 		Use:   "brief FILE -o BRIEF.pdf",
 		Short: "Print the brief of a class config, a system file or a fleet plan as a PDF",
 		Long: `brief solves a class config or a system file and writes a printable PDF. Page 1
-carries the recommendation in plain words with its certificate, the advice per
+carries the recommendation in plain words with its answer.Certificate, the advice per
 condition (or, for a system, what to do to each component and what to bring
 forward when the machine is stopped anyway, and what joint planning saves), the
 key assumptions, the config file with its SHA-256, the fixpoint version, the
 date, who it was prepared for and by (--prepared-for, --prepared-by), and a
 sign-off. A class brief follows with charts of the condition mix, spend and
-survival over the years, and ends with the certificate and the inputs. Every
+survival over the years, and ends with the answer.Certificate and the inputs. Every
 page carries the caution box. For a fleet file it prints the budget plan.
 
 A class config with criterion: average (or --criterion average) gives the
@@ -132,11 +132,11 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 			return err
 		}
 		ff := f.Fleet
-		fl, p, err := a.fleetPlan(cmd, ff, st.Fleet)
+		fl, p, err := a.env(cmd).FleetPlan(ff, st.Fleet)
 		if err != nil {
 			return err
 		}
-		view := &reports.PlanReport{Header: fleetHeader(ff), Fleet: fl, Plan: p, Warnings: reports.PlanWarnings(fl, p, st.Fleet.Gap, ff.Currency)}
+		view := &reports.PlanReport{Header: a.env(cmd).FleetHeader(ff), Fleet: fl, Plan: p, Warnings: reports.PlanWarnings(fl, p, st.Fleet.Gap, ff.Currency)}
 		return write(&reports.FleetBrief{Plan: view, Date: st.Date})
 	}
 	fonts, err := a.fonts(st.Font)
@@ -149,20 +149,20 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 			"method", "criterion", "target", "mix", "from", "units", "years", "rates", "inflation", "budget", "gap"); err != nil {
 			return err
 		}
-		view, err := a.systemAdvice(cmd, f.System, st.Override, st.Solver, jointLimits{st.Workers, st.MaxMemoryGiB, st.MaxHours, false})
+		view, err := a.env(cmd).SystemAdvice(f.System, st.Override, st.Solver, answer.JointLimits{Workers: st.Workers, MaxMemoryGiB: st.MaxMemoryGiB, MaxHours: st.MaxHours, Report: false})
 		if err != nil {
 			return err
 		}
 		if err := write(&reports.SystemBrief{Advice: view, Imprint: im}); err != nil {
 			return err
 		}
-		return systemUncertified(view.Result)
+		return answer.SystemCheck(view.Result)
 	}
 	if err := a.src.NotFor("a class config", " (they apply to fleet or system files)", "budget", "gap", "workers", "max-memory-gib", "max-hours"); err != nil {
 		return err
 	}
 	a.inspectionUnused(cmd, f.Class)
-	r, err := prepare(f.Class, st.Override, st.Criterion)
+	r, err := answer.Prepare(f.Class, st.Override, st.Criterion)
 	if err != nil {
 		return err
 	}
@@ -171,46 +171,15 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 			return err
 		}
 	}
-	start := make([]float64, len(r.Model.States))
-	start[0] = st.Start.Units
-	if st.HasStart {
-		if start, err = st.Start.Counts(r.Model); err != nil {
-			return err
-		}
-	}
-	years := st.Years
-	if years == 0 {
-		years = 20
-	}
-	b := &reports.Brief{Model: r.Model, Costs: r.Costs, Imprint: im}
-	factor := 1.0 // the average criterion's forecast is undiscounted
-	var policy []int
-	if r.Average {
-		if b.Average, err = a.averageAdvice(cmd, r, st.Solver); err != nil {
-			return err
-		}
-		policy = b.Average.Result.Policy
-	} else {
-		if b.Advice, err = a.advise(cmd, r, st.Solver, st.Target); err != nil {
-			return err
-		}
-		policy, factor = b.Advice.Result.Policy, r.Discount.Factor()
-		if len(st.Rates.List) > 0 || len(r.Compare) > 0 {
-			if b.Compare, err = comparison(cmd, st.Solver, r.Class, r.Problem, st.Rates); err != nil {
-				return err
-			}
-		}
-	}
-	fc, err := optimize.NewForecast(r.Model, r.Costs, factor, policy, start, r.Period.Count(years))
+	b, err := a.env(cmd).ClassBrief(r, st, im)
 	if err != nil {
 		return err
 	}
-	b.Forecast = &reports.Forecast{Header: header(r.Class), Actions: r.Problem.Actions, Factor: factor, Forecast: fc}
 	if err := write(b); err != nil {
 		return err
 	}
 	if r.Average {
-		return averageUncertified(b.Average.Result)
+		return answer.AverageCheck(b.Average.Result)
 	}
-	return uncertified(b.Advice.Result)
+	return answer.Check(b.Advice.Result)
 }

@@ -1,17 +1,16 @@
 package main
 
 import (
-	"embed"
 	"fmt"
 	"os"
-	"path/filepath"
 	"slices"
-	"strings"
 
 	"github.com/spf13/cobra"
 
+	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/outfile"
+	"fixpoint/cmd/internal/starters"
 	"fixpoint/optimize/system"
 	"fixpoint/reports"
 )
@@ -51,7 +50,7 @@ func (a *app) newCheck() *cobra.Command {
 				}
 				bytes := est.Bytes
 				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, up to %s of memory and about %s to solve (upper bounds)\n",
-					path, f.System.Name, len(f.System.Components), reports.Money(n, 0), reports.Money(acts, 0), byteSizeText(bytes), durationText(est.Seconds))
+					path, f.System.Name, len(f.System.Components), reports.Money(n, 0), reports.Money(acts, 0), answer.ByteSizeText(bytes), answer.DurationText(est.Seconds))
 			default:
 				c := f.Class
 				disc := "average criterion (no discounting)"
@@ -79,12 +78,6 @@ func count(n int, one, many string) string {
 	return fmt.Sprintf("%d %s", n, many)
 }
 
-//go:embed starters
-var starters embed.FS
-
-// starterKinds are the files init writes, by --kind.
-var starterKinds = []string{"class", "system", "fleet", "records"}
-
 func (a *app) newInit() *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "init [PATH]",
@@ -106,7 +99,7 @@ is an invented placeholder. init never overwrites a file.`,
 		},
 		RunE: func(cmd *cobra.Command, args []string) error {
 			kind, _ := cmd.Flags().GetString("kind")
-			if !slices.Contains(starterKinds, kind) {
+			if !slices.Contains(starters.Kinds, kind) {
 				return usagef("unknown kind %q; want class, system, fleet or records", kind)
 			}
 			path := "fixpoint.yaml"
@@ -116,24 +109,24 @@ is an invented placeholder. init never overwrites a file.`,
 			if len(args) == 1 {
 				path = args[0]
 			}
-			files, err := starterFiles(kind, path)
+			files, err := starters.Files(kind, path)
 			if err != nil {
 				return err
 			}
 			if path == "-" {
-				_, err := a.stdout.Write(files[0].data)
+				_, err := a.stdout.Write(files[0].Data)
 				return err
 			}
 			for _, f := range files {
-				if _, err := os.Lstat(f.path); err == nil {
-					return usagef("%s exists; init never overwrites a file", f.path)
+				if _, err := os.Lstat(f.Path); err == nil {
+					return usagef("%s exists; init never overwrites a file", f.Path)
 				}
 			}
 			for _, f := range files {
-				if err := (outfile.Target{Path: f.path}).WriteBytes(cmd.Context(), f.data); err != nil {
+				if err := (outfile.Target{Path: f.Path}).WriteBytes(cmd.Context(), f.Data); err != nil {
 					return err
 				}
-				fmt.Fprintf(a.stdout, "wrote %s\n", f.path)
+				fmt.Fprintf(a.stdout, "wrote %s\n", f.Path)
 			}
 			next := "check " + path
 			if kind == "records" {
@@ -145,31 +138,4 @@ is an invented placeholder. init never overwrites a file.`,
 	}
 	cmd.Flags().String("kind", "class", "what to write: class, system, fleet (with its class and inventory) or records")
 	return cmd
-}
-
-type starterFile struct {
-	path string
-	data []byte
-}
-
-// starterFiles returns the files of a starter of kind at path, the main
-// one first.
-func starterFiles(kind, path string) ([]starterFile, error) {
-	name := map[string]string{"class": "class.yaml", "system": "system.yaml", "fleet": "fleet.yaml", "records": "records.csv"}[kind]
-	data, err := starters.ReadFile("starters/" + name)
-	if err != nil {
-		return nil, err
-	}
-	if kind != "fleet" {
-		return []starterFile{{path, data}}, nil
-	}
-	base := strings.TrimSuffix(path, filepath.Ext(path))
-	if path == "-" {
-		base = "fleet"
-	}
-	class, inv := base+"-class.yaml", base+"-inventory.csv"
-	classData, _ := starters.ReadFile("starters/class.yaml")
-	invData, _ := starters.ReadFile("starters/inventory.csv")
-	text := strings.NewReplacer("CLASS", filepath.Base(class), "INVENTORY", filepath.Base(inv)).Replace(string(data))
-	return []starterFile{{path, []byte(text)}, {class, classData}, {inv, invData}}, nil
 }

@@ -1,18 +1,11 @@
 package main
 
 import (
-	"errors"
-	"math"
-	"slices"
-	"strings"
-
 	"github.com/spf13/cobra"
 
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
-	"fixpoint/costs"
 	"fixpoint/optimize"
-	"fixpoint/reports"
 )
 
 func (a *app) newCompare() *cobra.Command {
@@ -41,53 +34,6 @@ Without --rates the config's discount.compare list is used.`,
 	return cmd
 }
 
-// comparisonRates returns the real rates to compare, sorted and without
-// duplicates: the settings' list, else the config's discount.compare.
-func comparisonRates(c *modelfile.Class, r settings.Rates) ([]float64, error) {
-	rates := slices.Clone(r.List)
-	if len(rates) == 0 {
-		rates = slices.Clone(c.Compare)
-	}
-	if len(rates) == 0 {
-		return nil, usagef("give the rates to compare with --rates (or discount.compare in the config)")
-	}
-	for i, x := range rates {
-		if r.HasInflation {
-			x = costs.RealRate(x, r.Inflation)
-		}
-		// Fisher conversions of round numbers leave dust below 1e-15.
-		if math.Abs(x) < 1e-15 {
-			x = 0
-		}
-		switch {
-		case x < 0 || math.IsNaN(x):
-			return nil, usagef("setting rates: real rate %g is negative; compare rates >= 0", x)
-		case x > costs.MaxRatePerYear:
-			return nil, usagef("setting rates: real rate %g is above %d (%d00%%) per year", x, costs.MaxRatePerYear, costs.MaxRatePerYear)
-		}
-		rates[i] = x
-	}
-	slices.Sort(rates)
-	return slices.Compact(rates), nil
-}
-
-// comparison solves the class at the rates and wraps it for presentation.
-func comparison(cmd *cobra.Command, s optimize.Settings, c *modelfile.Class, p *optimize.Problem, r settings.Rates) (*reports.Comparison, error) {
-	rates, err := comparisonRates(c, r)
-	if err != nil {
-		return nil, err
-	}
-	cmp, err := optimize.CompareRates(cmd.Context(), p, c.Period, rates, 61, &s)
-	var me *optimize.MultichainError
-	if errors.As(err, &me) {
-		return nil, &modelfile.Fault{File: c.Path, Msg: "rate 0: " + strings.TrimPrefix(err.Error(), "optimize: ")}
-	}
-	if err != nil {
-		return nil, err
-	}
-	return &reports.Comparison{Header: header(c), Actions: p.Actions, Inflation: r.Inflation, HasInflation: r.HasInflation, Compare: cmp}, nil
-}
-
 func (a *app) compare(cmd *cobra.Command, path string) error {
 	st, err := a.src.Compare()
 	if err != nil {
@@ -105,7 +51,7 @@ func (a *app) compare(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return &modelfile.Fault{File: c.Path, Msg: err.Error()}
 	}
-	view, err := comparison(cmd, st.Solver, c, p, st.Rates)
+	view, err := a.env(cmd).Comparison(st.Solver, c, p, st.Rates)
 	if err != nil {
 		return err
 	}

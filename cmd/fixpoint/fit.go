@@ -6,12 +6,12 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"runtime"
 	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
 
+	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
 	"fixpoint/condition"
@@ -94,7 +94,7 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 	if err := merged.Check(); err != nil {
 		return err
 	}
-	opts := fitOptions(st, states, period, passive)
+	opts := answer.FitOptions(st, states, period, passive)
 	fh, err := os.Open(records.Path)
 	if err != nil {
 		return &modelfile.Fault{File: path, Msg: modelfile.OpenProblem(err)}
@@ -119,7 +119,7 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		return err
 	}
 	if err != nil {
-		return estimateError(path, err, warn)
+		return answer.EstimateError(path, err, warn)
 	}
 	est.Warnings = append(warn, est.Warnings...)
 	rep := &reports.FitReport{Source: path, States: states, Unsafe: unsafe, Passive: passive, Fit: est,
@@ -158,42 +158,4 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		fmt.Fprintf(a.stderr, "fixpoint: wrote the merged config %s\n", st.Output.Path)
 	}
 	return a.target(out).Write(cmd.Context(), a.stdout, render)
-}
-
-// estimateError reports a failed estimate; when the records could not
-// support it, the data problems found follow, one per line.
-func estimateError(path string, err error, warn []condition.Warning) error {
-	msg := strings.TrimPrefix(err.Error(), "condition: estimate: ")
-	var short *condition.InsufficientDataError
-	if !errors.As(err, &short) {
-		return &modelfile.Fault{File: path, Msg: msg}
-	}
-	warn = append(warn, short.Warnings...)
-	if len(warn) == 0 {
-		return &modelfile.Fault{File: path, Msg: msg + "; the file has no inspection records"}
-	}
-	errs := []error{&modelfile.Fault{File: path, Msg: fmt.Sprintf("%s; the data problems found (%d):", msg, len(warn))}}
-	for _, w := range warn {
-		errs = append(errs, &modelfile.Fault{File: path, Line: w.Line, Msg: w.Message})
-	}
-	return errors.Join(errs...)
-}
-
-func fitOptions(st settings.Fit, states []string, period float64, passive int) condition.FitOptions {
-	o := condition.FitOptions{States: len(states), PeriodYears: period, Passive: passive}
-	if st.Estimator == "generator" {
-		o.Method = condition.Generator
-	}
-	switch {
-	case st.OneStep:
-		o.Structure = condition.OneStep
-	case st.DeteriorationOnly:
-		o.Structure = condition.DeteriorationOnly
-	}
-	workers := st.Workers
-	if workers == 0 {
-		workers = runtime.NumCPU()
-	}
-	o.Bootstrap, o.Seed, o.Level, o.Workers = st.Bootstrap, st.Seed, st.Level, max(1, min(workers, 64))
-	return o
 }

@@ -3,6 +3,7 @@ package main
 import (
 	"github.com/spf13/cobra"
 
+	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/progress"
 	"fixpoint/cmd/internal/settings"
@@ -41,34 +42,6 @@ the unconstrained advice) N times on whole units and reports percentile bands.`,
 	return cmd
 }
 
-// classAdvice is the advice of a class under its criterion: the policy,
-// the discount factor its present values use (1 under the average
-// criterion: totals are then undiscounted) and the solve behind it.
-type classAdvice struct {
-	Policy  []int
-	Factor  float64
-	Result  *optimize.Result
-	Average *optimize.AverageResult
-}
-
-// classPolicy solves a class under its criterion.
-func (a *app) classPolicy(cmd *cobra.Command, r *classRun, s optimize.Settings) (classAdvice, error) {
-	if r.Average {
-		res, err := optimize.SolveAverage(cmd.Context(), r.Problem, &s)
-		if err != nil {
-			return classAdvice{}, err
-		}
-		a.safetyWarnings(r, res.Policy)
-		return classAdvice{Policy: res.Policy, Factor: 1, Average: res}, nil
-	}
-	res, err := optimize.Solve(cmd.Context(), r.Problem, &s)
-	if err != nil {
-		return classAdvice{}, err
-	}
-	a.safetyWarnings(r, res.Policy)
-	return classAdvice{Policy: res.Policy, Factor: r.Discount.Factor(), Result: res}, nil
-}
-
 func (a *app) forecast(cmd *cobra.Command, path string) error {
 	st, err := a.src.Forecast()
 	if err != nil {
@@ -97,7 +70,7 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if err := a.src.NotFor("a class config", " (they apply to fleet files)", "simulate", "follow", "budget", "gap", "progress"); err != nil {
 		return err
 	}
-	r, err := prepare(f.Class, st.Override, "")
+	r, err := answer.Prepare(f.Class, st.Override, "")
 	if err != nil {
 		return err
 	}
@@ -112,7 +85,7 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if years == 0 {
 		years = 10
 	}
-	adv, err := a.classPolicy(cmd, r, st.Solver)
+	adv, err := a.env(cmd).ClassPolicy(r, st.Solver)
 	if err != nil {
 		return err
 	}
@@ -120,13 +93,13 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	view := &reports.Forecast{Header: header(r.Class), Actions: r.Problem.Actions, Factor: adv.Factor, Forecast: fc,
+	view := &reports.Forecast{Header: a.env(cmd).Header(r.Class), Actions: r.Problem.Actions, Factor: adv.Factor, Forecast: fc,
 		Result: adv.Result, Average: adv.Average}
 	if err := a.emit(cmd, st.Output, view); err != nil {
 		return err
 	}
 	if adv.Result != nil {
-		return uncertified(adv.Result)
+		return answer.Check(adv.Result)
 	}
 	return nil
 }
@@ -134,7 +107,7 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 // simulateFleet runs the Monte-Carlo of a fleet file for forecast
 // --simulate.
 func (a *app) simulateFleet(cmd *cobra.Command, ff *modelfile.Fleet, st settings.Forecast) error {
-	f, p, err := a.fleetPlan(cmd, ff, st.Fleet)
+	f, p, err := a.env(cmd).FleetPlan(ff, st.Fleet)
 	if err != nil {
 		return err
 	}
@@ -145,6 +118,6 @@ func (a *app) simulateFleet(cmd *cobra.Command, ff *modelfile.Fleet, st settings
 	if err != nil {
 		return err
 	}
-	view := &reports.SimulationReport{Header: fleetHeader(ff), Fleet: f, Plan: p, Sim: sim, Seed: st.Seed}
+	view := &reports.SimulationReport{Header: a.env(cmd).FleetHeader(ff), Fleet: f, Plan: p, Sim: sim, Seed: st.Seed}
 	return a.emit(cmd, st.Output, view)
 }

@@ -396,7 +396,7 @@ func TestInspectionMethodsAgree(t *testing.T) {
 // The starter class config documents the inspection block in comments;
 // uncommented, it checks and solves.
 func TestStarterInspectionBlock(t *testing.T) {
-	data, err := starters.ReadFile("starters/class.yaml")
+	data, err := os.ReadFile("../internal/starters/files/class.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}

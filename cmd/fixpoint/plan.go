@@ -3,6 +3,7 @@ package main
 import (
 	"github.com/spf13/cobra"
 
+	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
 	"fixpoint/costs"
@@ -47,51 +48,6 @@ period.`,
 	return cmd
 }
 
-// fleetHeader is the reports header of a fleet: its name, currency and the
-// classes' shared period and discount.
-func fleetHeader(ff *modelfile.Fleet) reports.Header {
-	c := ff.Classes[0]
-	return reports.Header{Model: ff.Name, Currency: ff.Currency, Period: c.Period, Discount: c.Discount, Source: ff.Path, Version: version()}
-}
-
-// fleetPlan applies --budget and --years to a fleet file and plans it at
-// discount d (zero: the classes' own).
-func (a *app) fleetPlan(cmd *cobra.Command, ff *modelfile.Fleet, st settings.Fleet, d ...costs.Discount) (*fleet.Problem, *fleet.Plan, error) {
-	years := ff.Years
-	if st.Years != 0 {
-		if st.Years != float64(int(st.Years)) || st.Years > modelfile.MaxYears {
-			return nil, nil, usagef("setting years: %g is not a whole number of years in [1, %d]", st.Years, modelfile.MaxYears)
-		}
-		years = int(st.Years)
-		if !ff.PerYear && !st.HasBudget && years != len(ff.Budget) {
-			return nil, nil, usagef("--years %d does not match the %d budgets listed in %s; give --budget too", years, len(ff.Budget), ff.Path)
-		}
-	}
-	budget := make([]float64, years)
-	for t := range budget {
-		switch {
-		case st.HasBudget:
-			budget[t] = st.Budget
-		case ff.PerYear:
-			budget[t] = ff.Budget[0]
-		default:
-			budget[t] = ff.Budget[t]
-		}
-	}
-	f, err := ff.Problem(budget)
-	if err != nil {
-		return nil, nil, err
-	}
-	if len(d) > 0 && !d[0].IsZero() {
-		f.Discount = d[0]
-	}
-	p, err := fleet.Solve(cmd.Context(), f, &fleet.Settings{Gap: st.Gap})
-	if err != nil {
-		return nil, nil, err
-	}
-	return f, p, nil
-}
-
 func (a *app) plan(cmd *cobra.Command, path string) error {
 	st, err := a.src.Plan()
 	if err != nil {
@@ -114,18 +70,18 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 	}
 	var d costs.Discount
 	if st.Override.Given() {
-		if d, err = override(ff.Classes[0].Period, st.Override); err != nil {
+		if d, err = answer.Override(ff.Classes[0].Period, st.Override); err != nil {
 			return err
 		}
 	}
-	f, p, err := a.fleetPlan(cmd, ff, st.Fleet, d)
+	f, p, err := a.env(cmd).FleetPlan(ff, st.Fleet, d)
 	if err != nil {
 		return err
 	}
-	h := fleetHeader(ff)
+	h := a.env(cmd).FleetHeader(ff)
 	h.Discount = f.Discount
 	view := &reports.PlanReport{Header: h, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Fleet.Gap, ff.Currency)}
-	if view.Inspections, err = a.fleetInspections(cmd.Context(), ff, len(f.Budget)); err != nil {
+	if view.Inspections, err = a.env(cmd).FleetInspections(ff, len(f.Budget)); err != nil {
 		return err
 	}
 	if st.Simulate > 0 {
@@ -140,32 +96,12 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 	return a.emit(cmd, st.Output, view)
 }
 
-// planRates plans a fleet at each of the --rates (real, after any
-// --inflation) and shows the plans side by side.
+// planRates plans a fleet at each of the --rates and shows the plans
+// side by side.
 func (a *app) planRates(cmd *cobra.Command, ff *modelfile.Fleet, st settings.Plan) error {
-	period := ff.Classes[0].Period
-	view := &reports.PlanRates{Header: fleetHeader(ff)}
-	view.Discount = costs.Discount{} // each plan has its own
-	for _, r := range st.Rates.List {
-		if st.Rates.HasInflation {
-			r = costs.RealRate(r, st.Rates.Inflation)
-		}
-		d, err := costs.Rate(r, period)
-		if err != nil {
-			return usagef("setting rates: %v", modelfile.Plain(err))
-		}
-		f, p, err := a.fleetPlan(cmd, ff, st.Fleet, d)
-		if err != nil {
-			return err
-		}
-		var changed []bool
-		if n := len(view.Plans); n > 0 {
-			changed = fleet.ChangedYears(view.Plans[n-1], p, 1e-6)
-		}
-		view.Fleet = f
-		view.Discounts = append(view.Discounts, d)
-		view.Plans = append(view.Plans, p)
-		view.Changed = append(view.Changed, changed)
+	view, err := a.env(cmd).PlanRates(ff, st.Fleet, st.Rates)
+	if err != nil {
+		return err
 	}
 	return a.emit(cmd, st.Output, view)
 }

@@ -533,7 +533,7 @@ func TestRobustConfigAndFlags(t *testing.T) {
 // The starter class config's uncertainty block is valid and gives robust
 // advice with its confidence statement.
 func TestStarterUncertainty(t *testing.T) {
-	data, err := starters.ReadFile("starters/class.yaml")
+	data, err := os.ReadFile("../internal/starters/files/class.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}

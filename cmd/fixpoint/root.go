@@ -14,6 +14,7 @@ import (
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
 
+	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/outfile"
 	"fixpoint/cmd/internal/settings"
@@ -28,12 +29,6 @@ const (
 	exitUncertified = 3
 	exitInterrupted = 130
 )
-
-// uncertifiedError says that an answer was written but its proven gap is
-// above the tolerance.
-type uncertifiedError struct{ msg string }
-
-func (e *uncertifiedError) Error() string { return e.msg }
 
 func usagef(format string, args ...any) error { return settings.Errorf(format, args...) }
 
@@ -81,7 +76,7 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 func exitCode(err error) int {
 	var se *settings.Error
 	var oe *outfile.Error
-	var ce *uncertifiedError
+	var ce *answer.Uncertified
 	switch {
 	case errors.Is(err, context.Canceled):
 		return exitInterrupted
@@ -209,6 +204,11 @@ func (a *app) load(cmd *cobra.Command, path string, want ...modelfile.Kind) (*mo
 		return nil, &modelfile.Fault{File: path, Msg: fmt.Sprintf("%s, which %s does not take; %s", what, cmd.Name(), takers[f.Kind])}
 	}
 	return f, nil
+}
+
+// env is what the answers of a command need from the run.
+func (a *app) env(cmd *cobra.Command) *answer.Env {
+	return &answer.Env{Ctx: cmd.Context(), Warn: a.warn, Note: a.note, Version: version()}
 }
 
 // target returns where a command writes o, protecting every input.

@@ -1,10 +1,9 @@
 package main
 
 import (
-	"fmt"
-
 	"github.com/spf13/cobra"
 
+	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
 	"fixpoint/optimize"
@@ -33,47 +32,6 @@ with the change that happens first beyond each end.`,
 	return cmd
 }
 
-// costFigures lists the cost figures of a class config as groups of
-// (state, action) costs that move together.
-func costFigures(c *modelfile.Class, p *optimize.Problem) ([]reports.CostFigure, [][]optimize.Pair) {
-	m := c.Model
-	var figs []reports.CostFigure
-	var groups [][]optimize.Pair
-	for s, st := range m.States {
-		var g []optimize.Pair
-		for _, ch := range p.Choices[s] {
-			g = append(g, optimize.Pair{State: s, Action: ch.Action})
-		}
-		figs = append(figs, reports.CostFigure{Name: "running cost of " + st.Name,
-			Path: fmt.Sprintf("states[%d].running_cost", s), Value: c.Costs.Running[s]})
-		groups = append(groups, g)
-	}
-	for a, act := range m.Actions {
-		var all []optimize.Pair
-		for s := range m.States {
-			if p.Find(s, a) >= 0 {
-				all = append(all, optimize.Pair{State: s, Action: a})
-			}
-		}
-		if len(all) == 0 {
-			continue
-		}
-		if c.CostScalar[a] {
-			figs = append(figs, reports.CostFigure{Name: "cost of " + act.Name, Path: fmt.Sprintf("actions[%d].cost", a),
-				Value: c.Costs.Action[a][all[0].State]})
-			groups = append(groups, all)
-			continue
-		}
-		for _, pr := range all {
-			name := m.States[pr.State].Name
-			figs = append(figs, reports.CostFigure{Name: "cost of " + act.Name + " in " + name,
-				Path: fmt.Sprintf("actions[%d].cost.%s", a, name), Value: c.Costs.Action[a][pr.State]})
-			groups = append(groups, []optimize.Pair{pr})
-		}
-	}
-	return figs, groups
-}
-
 func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 	st, err := a.src.Sensitivity()
 	if err != nil {
@@ -90,7 +48,7 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 	if c.Criterion == modelfile.Average && !st.Override.Given() {
 		return &modelfile.Fault{File: path, Path: "criterion", Msg: "sensitivity works under the discounted criterion only; give --rate or --factor"}
 	}
-	r, err := prepare(c, st.Override, "discounted")
+	r, err := answer.Prepare(c, st.Override, "discounted")
 	if err != nil {
 		return err
 	}
@@ -98,7 +56,7 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	figs, groups := costFigures(r.Class, r.Problem)
+	figs, groups := answer.CostFigures(r.Class, r.Problem)
 	ranges, err := optimize.CostRanges(cmd.Context(), r.Problem, res, groups)
 	if err != nil {
 		return err
@@ -106,9 +64,9 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 	for i := range figs {
 		figs[i].Range = ranges[i]
 	}
-	view := &reports.Sensitivity{Header: header(r.Class), Problem: r.Problem, Result: res, Figures: figs}
+	view := &reports.Sensitivity{Header: a.env(cmd).Header(r.Class), Problem: r.Problem, Result: res, Figures: figs}
 	if err := a.emit(cmd, st.Output, view); err != nil {
 		return err
 	}
-	return uncertified(res)
+	return answer.Check(res)
 }

@@ -51,7 +51,7 @@ func seedFiles(f *testing.F, paths ...string) {
 // FuzzDecodeClass: any input gives either a clean error or a class whose
 // model builds into a valid Problem; never a panic.
 func FuzzDecodeClass(f *testing.F) {
-	seedFiles(f, demo, "../../fixpoint/starters/class.yaml", "../../fixpoint/starters/system.yaml", "testdata/accents.yaml")
+	seedFiles(f, demo, "../starters/files/class.yaml", "../starters/files/system.yaml", "testdata/accents.yaml")
 	f.Add([]byte("version: 1\nstates: &a [*a]\n"))
 	f.Add([]byte("a: &x [1,2]\nb: [*x, *x, *x]\n"))
 	// The uncertainty block: observations with a confidence and widened
