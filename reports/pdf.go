@@ -228,9 +228,7 @@ func (d *doc) put(x, y, h float64, s string) {
 	if s == "" {
 		return
 	}
-	for _, r := range d.fonts.missing(s) {
-		d.lost = append(d.lost, r)
-	}
+	d.lost = append(d.lost, d.fonts.missing(s)...)
 	base := y + h/2 + 0.3*d.size*ptMM
 	cx := x
 	for _, r := range d.fonts.runs(s) {

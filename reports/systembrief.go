@@ -87,9 +87,7 @@ func (b *SystemBrief) front() front {
 		cost += "."
 	}
 	f.recommendation = []string{rec, cost, certificateWords(&s.Header, r.Status, r.Gap, "structured value iteration")}
-	for _, g := range groups {
-		f.notes = append(f.notes, g)
-	}
+	f.notes = append(f.notes, groups...)
 	rate := Percent(s.Discount.RatePerYear(), 2) + " per year (real)"
 	if !s.Discount.ByRate() {
 		rate = "given as a discount factor"
