@@ -9,10 +9,11 @@ import (
 )
 
 // TestREADMEExamples runs every command shown in a ```console block of the
-// README (lines starting "$ fixpoint ") from the project root and checks
-// the output printed under it: line for line, where a line "..." stands
-// for any number of lines. With -update the blocks without "..." are
-// rewritten from the real output.
+// README (lines starting "$ fixpoint ") in a scratch directory holding a
+// copy of configs/ (so that files the examples write land there), and
+// checks the output printed under it: line for line, where a line "..."
+// stands for any number of lines. With -update the blocks without "..."
+// are rewritten from the real output.
 func TestREADMEExamples(t *testing.T) {
 	root := filepath.Join("..", "..")
 	path := filepath.Join(root, "README.md")
@@ -20,8 +21,12 @@ func TestREADMEExamples(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	scratch := t.TempDir()
+	if err := copyDir(filepath.Join(root, "configs"), filepath.Join(scratch, "configs")); err != nil {
+		t.Fatal(err)
+	}
 	wd, _ := os.Getwd()
-	if err := os.Chdir(root); err != nil {
+	if err := os.Chdir(scratch); err != nil {
 		t.Fatal(err)
 	}
 	defer os.Chdir(wd)
@@ -89,7 +94,7 @@ func TestREADMEExamples(t *testing.T) {
 		t.Fatal("README.md has no ```console examples")
 	}
 	if *update {
-		if err := os.WriteFile("README.md", []byte(out.String()), 0o644); err != nil {
+		if err := os.WriteFile(filepath.Join(wd, path), []byte(out.String()), 0o644); err != nil {
 			t.Fatal(err)
 		}
 	}
