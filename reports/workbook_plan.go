@@ -56,18 +56,31 @@ type spendCols struct {
 	p10, p50, p90, expected int
 }
 
+// columnList is the columns of a sheet being listed.
+type columnList []column
+
+// add appends a column and returns its number (1-based).
+func (c *columnList) add(head string, k cellKind) int {
+	*c = append(*c, column{head, k})
+	return len(*c)
+}
+
+// yearColumns starts the columns of a sheet of figures per calendar
+// year: the year and its budget.
+func yearColumns(cur string) (*columnList, spendCols) {
+	var cols columnList
+	var at spendCols
+	at.year = cols.add("year", intCell)
+	at.budget = cols.add("budget ("+cur+")", moneyCell)
+	return &cols, at
+}
+
 // yearSheet adds the figures per calendar year and returns the sheet
 // with the columns its charts read.
 func (r *PlanReport) yearSheet(b *workbook) (*sheet, spendCols) {
 	p, f, cur := r.Plan, r.Fleet, r.Currency
-	var cols []column
-	add := func(head string, k cellKind) int {
-		cols = append(cols, column{head, k})
-		return len(cols)
-	}
-	var at spendCols
-	at.year = add("year", intCell)
-	at.budget = add("budget ("+cur+")", moneyCell)
+	cols, at := yearColumns(cur)
+	add := cols.add
 	add("rule", textCell)
 	byPeriod := p.Period.Years() != 1
 	if byPeriod {
@@ -89,7 +102,7 @@ func (r *PlanReport) yearSheet(b *workbook) (*sheet, spendCols) {
 		at.expected = at.spend
 	}
 	s := b.sheet("By year", fmt.Sprintf("%s: budget plan per calendar year over %s (%s; the work of a period is charged to the year in which it starts)",
-		r.Model, horizonText(f, p), cur), cols...)
+		r.Model, horizonText(f, p), cur), *cols...)
 	starts := periodStarts(p)
 	periodsOf := make([][]string, len(f.Budget))
 	for k, y := range p.PeriodYear {
@@ -427,14 +440,8 @@ func (r *PlanRates) WriteXLSX(w io.Writer) error {
 func (r *SimulationReport) WriteXLSX(w io.Writer) error {
 	s, cur := r.Sim, r.Currency
 	b := newWorkbook(&r.Header, "simulation of a fleet")
-	var cols []column
-	add := func(head string, k cellKind) int {
-		cols = append(cols, column{head, k})
-		return len(cols)
-	}
-	var at spendCols
-	at.year = add("year", intCell)
-	at.budget = add("budget ("+cur+")", moneyCell)
+	cols, at := yearColumns(cur)
+	add := cols.add
 	at.p10 = add("work spend P10 ("+cur+")", moneyCell)
 	at.p50 = add("work spend median ("+cur+")", moneyCell)
 	at.p90 = add("work spend P90 ("+cur+")", moneyCell)
@@ -446,7 +453,7 @@ func (r *SimulationReport) WriteXLSX(w io.Writer) error {
 	add("with running costs median ("+cur+")", moneyCell)
 	add("with running costs P90 ("+cur+")", moneyCell)
 	add("with running costs mean ("+cur+")", moneyCell)
-	years := b.sheet("By year", fmt.Sprintf("%s: simulation (Monte-Carlo) of %s futures, work spend per calendar year (%s)", r.Model, Money(float64(s.Runs), 0), cur), cols...)
+	years := b.sheet("By year", fmt.Sprintf("%s: simulation (Monte-Carlo) of %s futures, work spend per calendar year (%s)", r.Model, Money(float64(s.Runs), 0), cur), *cols...)
 	for y := range s.Spend {
 		sp, tot := s.Spend[y], s.Total[y]
 		years.add(y+1, r.Fleet.Budget[y], sp.P10, sp.P50, sp.P90, sp.Mean, sp.SE, s.ExpectedSpend[y], s.OverBudget[y], tot.P10, tot.P50, tot.P90, tot.Mean)

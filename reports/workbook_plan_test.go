@@ -1,7 +1,6 @@
 package reports
 
 import (
-	"archive/zip"
 	"bytes"
 	"fmt"
 	"io"
@@ -14,29 +13,15 @@ import (
 // they were added (xl/charts/chart1.xml, chart2.xml, ...).
 func chartXML(t *testing.T, b []byte) []string {
 	t.Helper()
-	zr, err := zip.NewReader(bytes.NewReader(b), int64(len(b)))
-	if err != nil {
-		t.Fatal(err)
-	}
-	byName := map[string]*zip.File{}
-	for _, zf := range zr.File {
-		byName[zf.Name] = zf
-	}
+	entries := zipEntries(t, b)
 	var out []string
 	for i := 1; ; i++ {
-		zf, ok := byName[fmt.Sprintf("xl/charts/chart%d.xml", i)]
+		data, ok := entries[fmt.Sprintf("xl/charts/chart%d.xml", i)]
 		if !ok {
-			break
+			return out
 		}
-		rc, err := zf.Open()
-		if err != nil {
-			t.Fatal(err)
-		}
-		data, _ := io.ReadAll(rc)
-		rc.Close()
-		out = append(out, string(data))
+		out = append(out, data)
 	}
-	return out
 }
 
 // The chart of the planned spend draws the budget as a marked line over
@@ -45,11 +30,7 @@ func chartXML(t *testing.T, b []byte) []string {
 // the budget first, under the thinner lines that meet it.
 func TestPlanWorkbookCharts(t *testing.T) {
 	r := planReport(t, testFleet(t, 1, []float64{30, 15, 5}, 20000, 5), true)
-	var buf bytes.Buffer
-	if err := r.WriteXLSX(&buf); err != nil {
-		t.Fatalf("WriteXLSX: %v", err)
-	}
-	charts := chartXML(t, buf.Bytes())
+	charts := chartXML(t, xlsxBytes(t, r))
 	if len(charts) != 2 {
 		t.Fatalf("%d charts, want 2 (spend against the budget, practice bands)", len(charts))
 	}
@@ -110,11 +91,7 @@ func TestWorkbookMarkedCell(t *testing.T) {
 // says so, it has no budget price and no periods.
 func TestPlanWorkbookIdleYears(t *testing.T) {
 	r := planReport(t, testFleet(t, 2, []float64{30, 15, 5}, 40000, 6), false)
-	var buf bytes.Buffer
-	if err := r.WriteXLSX(&buf); err != nil {
-		t.Fatalf("WriteXLSX: %v", err)
-	}
-	f := openXLSX(t, buf.Bytes())
+	f := openXLSX(t, xlsxBytes(t, r))
 	for _, tc := range []struct{ ref, want string }{
 		{"C4", "within budget"}, {"D4", "1"}, {"C5", "no period starts"}, {"D5", "none"}, {"G5", "-"}, {"D6", "2"},
 	} {
@@ -128,5 +105,21 @@ func TestPlanWorkbookIdleYears(t *testing.T) {
 	}
 	if got := strings.Join(rows[headRow-1][:3], "|"); got != "period|year|starts (years)" {
 		t.Errorf("By period headings %q, want period|year|starts (years)", got)
+	}
+}
+
+// BenchmarkPlanWorkbook writes the workbook of a plan of one invented
+// class over 10 and 40 years, with its simulated practice.
+func BenchmarkPlanWorkbook(b *testing.B) {
+	for _, years := range []int{10, 40} {
+		r := planReport(b, testFleet(b, 1, []float64{300, 150, 50}, 200000, years), true)
+		b.Run(fmt.Sprintf("years=%d", years), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if err := r.WriteXLSX(io.Discard); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
 	}
 }

@@ -668,7 +668,7 @@ func workbookCases(t *testing.T) []struct {
 		{"forecast/half-year", []string{"forecast", "testdata/accents.yaml", "--from", "état neuf", "--years", "6"}, forecast, 2, checkForecast},
 		{"forecast/two-year", []string{"forecast", twoYears, "--mix", "sound=60,light_wear=30,heavy_wear=10", "--years", "20"}, forecast, 2, checkForecast},
 		{"forecast/average", []string{"forecast", average, "--from", "sound"}, forecast, 2, checkForecast},
-		{"plan", []string{"plan", demoFleet}, plan, 2, checkPlan},
+		{"plan", []string{"plan", demoFleet, "--simulate", "200"}, plan, 2, checkPlan},
 		{"plan/mandatory-first", []string{"plan", demoFleet, "--budget", "0", "--simulate", "0"}, plan, 1, checkPlan},
 		{"plan/inspections", []string{"plan", "../../configs/relief-fleet.yaml", "--simulate", "200"}, planInspections, 2, checkPlan},
 		{"plan/formula-names", []string{"plan", formulaFleet(t), "--simulate", "50"}, plan, 2, checkPlan},
