@@ -20,6 +20,7 @@ import (
 //	b := newWorkbook(&v.Header, "advice per condition")
 //	s := b.sheet("Advice", "title line", column{"condition", textCell}, column{"cost (EUR)", moneyCell})
 //	s.add("sound", 13677.52)      // one row: strings are text, float64 and int numbers
+//	s.add("worn", marked{250.0})  // a cell bold on a tint, which a note explains
 //	s.note("Thresholds: ...")     // a wrapped line below the table
 //	b.assumptions(facts)          // the Assumptions sheet, always last
 //	return b.write(w)
