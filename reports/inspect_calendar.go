@@ -3,6 +3,7 @@ package reports
 import (
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 	"strings"
 
@@ -208,25 +209,62 @@ const PlanInspectionAssumption = "The budget plan assumes that every unit's cond
 	"without the budget) from the inventory, every unit inspected at the start of year 1: the expected inspections and their " +
 	"cost per calendar year, to budget beside the plan."
 
-// inspectionRows are the fleet calendar's rows: one per year and class.
-func inspectionRows(classes []ClassInspections) [][]string {
-	var rows [][]string
+// inspectionYear is one row of a fleet's inspection calendar: a class in
+// a calendar year (0-based), or all classes (callOuts NaN: not summed).
+type inspectionYear struct {
+	year                  int
+	class                 string
+	inspections, callOuts float64
+	cost                  float64
+}
+
+// inspectionYears are the fleet calendar's rows: one per year and class,
+// and the year's total over the classes when there are several.
+func inspectionYears(classes []ClassInspections) []inspectionYear {
 	if len(classes) == 0 {
 		return nil
 	}
+	var rows []inspectionYear
 	for y := range classes[0].Calendar.Years {
 		total, cost := 0.0, 0.0
 		for _, c := range classes {
 			cy := c.Calendar.Years[y]
 			total += cy.Epochs
 			cost += cy.InspectionCost
-			rows = append(rows, []string{strconv.Itoa(y + 1), c.Class, Fixed(cy.Epochs, 1), Fixed(cy.Unscheduled, 1), Money(cy.InspectionCost, 0)})
+			rows = append(rows, inspectionYear{y, c.Class, cy.Epochs, cy.Unscheduled, cy.InspectionCost})
 		}
 		if len(classes) > 1 {
-			rows = append(rows, []string{strconv.Itoa(y + 1), "all classes", Fixed(total, 1), "", Money(cost, 0)})
+			rows = append(rows, inspectionYear{y, "all classes", total, math.NaN(), cost})
 		}
 	}
 	return rows
+}
+
+// inspectionRows are the fleet calendar's rows as text.
+func inspectionRows(classes []ClassInspections) [][]string {
+	var rows [][]string
+	for _, r := range inspectionYears(classes) {
+		callOuts := ""
+		if !math.IsNaN(r.callOuts) {
+			callOuts = Fixed(r.callOuts, 1)
+		}
+		rows = append(rows, []string{strconv.Itoa(r.year + 1), r.class, Fixed(r.inspections, 1), callOuts, Money(r.cost, 0)})
+	}
+	return rows
+}
+
+// inspectionLines say what the plan assumes about inspections and each
+// class's inspection advice.
+func inspectionLines(classes []ClassInspections) []string {
+	lines := []string{PlanInspectionAssumption}
+	for _, c := range classes {
+		parts := make([]string, len(c.Problem.States))
+		for s := range c.Problem.States {
+			parts[s] = c.Problem.States[s] + ": " + Decision(c.Problem, c.Problem.Choices[s][c.Result.Policy[s]])
+		}
+		lines = append(lines, fmt.Sprintf("Inspection advice for %s: %s. %s", c.Class, strings.Join(parts, "; "), LimitSentence(c.Problem)))
+	}
+	return lines
 }
 
 // writeInspectionTable writes a fleet's inspection calendar with what
@@ -242,15 +280,7 @@ func writeInspectionTable(w io.Writer, classes []ClassInspections, currency stri
 		inspectionRows(classes)); err != nil {
 		return err
 	}
-	lines := []string{PlanInspectionAssumption}
-	for _, c := range classes {
-		parts := make([]string, len(c.Problem.States))
-		for s := range c.Problem.States {
-			parts[s] = c.Problem.States[s] + ": " + Decision(c.Problem, c.Problem.Choices[s][c.Result.Policy[s]])
-		}
-		lines = append(lines, fmt.Sprintf("Inspection advice for %s: %s. %s", c.Class, strings.Join(parts, "; "), LimitSentence(c.Problem)))
-	}
-	return writeLines(w, append(lines, "STATUTORY: "+InspectionRule))
+	return writeLines(w, append(inspectionLines(classes), "STATUTORY: "+InspectionRule))
 }
 
 type fleetInspectionJSON struct {

@@ -16,7 +16,7 @@ import (
 
 // testFleet is one invented class (good, worn, failed and unsafe) with
 // units counts, periods of h years and budget per year for years years.
-func testFleet(t *testing.T, h float64, counts []float64, budget float64, years int) *fleet.Problem {
+func testFleet(t testing.TB, h float64, counts []float64, budget float64, years int) *fleet.Problem {
 	t.Helper()
 	m := &condition.Model{PeriodYears: h, States: []condition.State{{Name: "good"}, {Name: "worn"}, {Name: "failed", Unsafe: true}}}
 	m.Actions = []condition.Action{
@@ -41,7 +41,7 @@ func testFleet(t *testing.T, h float64, counts []float64, budget float64, years 
 	return f
 }
 
-func planReport(t *testing.T, f *fleet.Problem, simulate bool) *PlanReport {
+func planReport(t testing.TB, f *fleet.Problem, simulate bool) *PlanReport {
 	t.Helper()
 	p, err := fleet.Solve(context.Background(), f, &fleet.Settings{Gap: 1e-9})
 	if err != nil {

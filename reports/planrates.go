@@ -24,19 +24,22 @@ type PlanRates struct {
 	Changed   [][]bool
 }
 
-// measure is one per-year figure of the plans.
+// measure is one per-year figure of the plans: its title, its value,
+// its decimals in a table, and its sheet and kind in a workbook.
 type measure struct {
 	title    string
 	value    func(p *fleet.Plan, y int) float64
 	decimals int
+	sheet    string
+	kind     cellKind
 }
 
 func (r *PlanRates) measures() []measure {
 	return []measure{
-		{"planned work spend per year (expected, " + r.Currency + ")", func(p *fleet.Plan, y int) float64 { return p.Spend[y] }, 0},
-		{"of which mandatory (" + r.Currency + ")", func(p *fleet.Plan, y int) float64 { return p.Mandatory[y] }, 0},
-		{"units deferred at the start of the year (expected)", func(p *fleet.Plan, y int) float64 { return p.YearDeferred()[y] }, 1},
-		{"budget price (present value saved per extra " + r.Currency + " of budget)", func(p *fleet.Plan, y int) float64 { return p.Multipliers[y] }, 3},
+		{"planned work spend per year (expected, " + r.Currency + ")", func(p *fleet.Plan, y int) float64 { return p.Spend[y] }, 0, "Planned spend", moneyCell},
+		{"of which mandatory (" + r.Currency + ")", func(p *fleet.Plan, y int) float64 { return p.Mandatory[y] }, 0, "Mandatory spend", moneyCell},
+		{"units deferred at the start of the year (expected)", func(p *fleet.Plan, y int) float64 { return p.YearDeferred()[y] }, 1, "Deferred units", countCell},
+		{"budget price (present value saved per extra " + r.Currency + " of budget)", func(p *fleet.Plan, y int) float64 { return p.Multipliers[y] }, 3, "Budget price", priceCell},
 	}
 }
 

@@ -20,6 +20,7 @@ import (
 //	b := newWorkbook(&v.Header, "advice per condition")
 //	s := b.sheet("Advice", "title line", column{"condition", textCell}, column{"cost (EUR)", moneyCell})
 //	s.add("sound", 13677.52)      // one row: strings are text, float64 and int numbers
+//	s.add("worn", marked{250.0})  // a cell bold on a tint, which a note explains
 //	s.note("Thresholds: ...")     // a wrapped line below the table
 //	b.assumptions(facts)          // the Assumptions sheet, always last
 //	return b.write(w)
@@ -61,6 +62,7 @@ const (
 	periodsCell          // a duration in periods or years: one decimal
 	intCell              // a whole number
 	sciCell              // a tolerance, gap or residual: 0.00E+00
+	priceCell            // a budget price (present value per currency unit of budget): three decimals
 	numberCell           // any other number: General
 	numKinds
 )
@@ -87,6 +89,8 @@ func numberFormat(k cellKind, moneyDecimals int) string {
 		return "0"
 	case sciCell:
 		return "0.00E+00"
+	case priceCell:
+		return "#,##0.000"
 	}
 	return "General"
 }
@@ -110,6 +114,8 @@ func shown(x float64, k cellKind, moneyDecimals int) string {
 		return Fixed(x, 0)
 	case sciCell:
 		return "0.00E+00"
+	case priceCell:
+		return Money(x, 3)
 	}
 	return strconv.FormatFloat(x, 'g', 10, 64)
 }
@@ -126,6 +132,10 @@ type cell struct {
 	v    any
 	kind cellKind
 }
+
+// marked is a cell shown bold on a tint, for a value a note below the
+// table explains (a year whose plan changed).
+type marked struct{ v any }
 
 // fact is one line of a Summary or Assumptions sheet.
 type fact struct {
@@ -151,6 +161,9 @@ const (
 	// back to another.
 	fontName = "Calibri"
 	fontSize = 11.0
+	// markTint is the fill of a marked cell: the palest colour of the
+	// action ramp.
+	markTint = "B2D6CC"
 )
 
 // workbook is a spreadsheet being built for one view.
@@ -160,8 +173,10 @@ type workbook struct {
 	money  int // decimals of currency amounts
 	styles [numKinds]int
 	// left are the same styles aligned left, for the value column of the
-	// Summary and Assumptions sheets; right is text in a number column.
+	// Summary and Assumptions sheets; right is text in a number column;
+	// tinted are the styles of marked cells.
 	left    [numKinds]int
+	tinted  [numKinds]int
 	right   int
 	wrapped int // wrapped text, top-aligned
 	head    int
@@ -193,6 +208,10 @@ func newWorkbook(h *Header, what string) *workbook {
 		b.styles[k] = b.style(st)
 		st.Alignment = &excelize.Alignment{Vertical: "top", Horizontal: "left"}
 		b.left[k] = b.style(st)
+		st.Alignment = &excelize.Alignment{Vertical: "top"}
+		st.Font = bold(fontSize)
+		st.Fill = excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{markTint}}
+		b.tinted[k] = b.style(st)
 	}
 	b.right = b.style(&excelize.Style{Font: plain(), Alignment: &excelize.Alignment{Vertical: "top", Horizontal: "right"}})
 	b.wrapped = b.style(&excelize.Style{Font: plain(), Alignment: &excelize.Alignment{Vertical: "top", WrapText: true}})
@@ -235,9 +254,12 @@ type sheet struct {
 	// data is the row after the headings (the first data row).
 	data int
 	// widest caps the width of every column; facts aligns numbers left
-	// (a sheet of one figure per row).
+	// (a sheet of one figure per row); filter puts a filter on the
+	// headings (a long table of one row per period, class and
+	// condition).
 	widest float64
 	facts  bool
+	filter bool
 	// long are the text cells that may need wrapping; notes the rows of
 	// merged notes.
 	long  []longText
@@ -333,7 +355,8 @@ func (s *sheet) textStyle(k cellKind) int {
 
 // add writes one row and returns its number. A string is text; a float64
 // or an int is a number of the column's kind; a cell carries its own
-// kind; a bool is "yes" or "no"; nil leaves the cell empty.
+// kind; a bool is "yes" or "no"; nil leaves the cell empty; marked is
+// its value shown bold on a tint.
 func (s *sheet) add(vals ...any) int {
 	row := s.next
 	s.next++
@@ -341,6 +364,10 @@ func (s *sheet) add(vals ...any) int {
 		kind := textCell
 		if i < len(s.cols) {
 			kind = s.cols[i].kind
+		}
+		m, tint := v.(marked)
+		if tint {
+			v = m.v
 		}
 		if c, ok := v.(cell); ok {
 			v, kind = c.v, c.kind
@@ -371,11 +398,24 @@ func (s *sheet) add(vals ...any) int {
 		default:
 			panic(fmt.Sprintf("reports: workbook cell of type %T", v))
 		}
+		if tint {
+			s.tint(i+1, row, kind)
+		}
 		if i < len(s.widths) {
 			s.widths[i] = max(s.widths[i], width)
 		}
 	}
 	return row
+}
+
+// tint gives cell (col, row) of kind k the marked style.
+func (s *sheet) tint(col, row int, k cellKind) {
+	if s.b.err != nil {
+		return
+	}
+	ref, err := excelize.CoordinatesToCellName(col, row)
+	s.b.try(err)
+	s.b.try(s.b.f.SetCellStyle(s.name, ref, ref, s.b.tinted[k]))
 }
 
 // note writes a line of text below the table, merged across the sheet and
@@ -406,14 +446,15 @@ func (s *sheet) cellRef(col, row int) string {
 
 func quoteSheet(name string) string { return "'" + strings.ReplaceAll(name, "'", "''") + "'" }
 
-// chart places a native chart with its top-left corner at cell (col, row).
-func (s *sheet) chart(col, row int, c *excelize.Chart) {
+// chart places a native chart with its top-left corner at cell (col, row);
+// combo are charts of other types drawn over it on the same axes.
+func (s *sheet) chart(col, row int, c *excelize.Chart, combo ...*excelize.Chart) {
 	if s.b.err != nil {
 		return
 	}
 	ref, err := excelize.CoordinatesToCellName(col, row)
 	s.b.try(err)
-	s.b.try(s.b.f.AddChart(s.name, ref, c))
+	s.b.try(s.b.f.AddChart(s.name, ref, c, combo...))
 }
 
 // finish sets the column widths, merges the caution and the notes across
@@ -461,6 +502,10 @@ func (s *sheet) finish() {
 			delete(heights, t.row)
 		}
 	}
+	if s.filter && s.next > s.data && len(s.cols) > 0 {
+		last, _ := excelize.CoordinatesToCellName(len(s.cols), s.data+s.rows()-1)
+		b.try(b.f.AutoFilter(s.name, fmt.Sprintf("A%d:%s", headRow, last), nil))
+	}
 	if len(s.cols) > 0 {
 		rows := 1.0
 		for i, c := range s.cols {
@@ -477,14 +522,23 @@ func lines(text string, w float64) float64 {
 	return math.Max(1, math.Ceil(n/(1.1*w-1)))
 }
 
+// rows is the number of rows of the table (the notes excluded).
+func (s *sheet) rows() int {
+	if len(s.notes) > 0 {
+		return s.notes[0].row - 1 - s.data
+	}
+	return s.next - s.data
+}
+
 // summary adds a sheet of figures: one per row, with its value (a cell
-// for a number of its own kind) and what the value is.
-func (b *workbook) summary(title string, facts []fact) {
+// for a number of its own kind) and what the value is; notes may follow.
+func (b *workbook) summary(title string, facts []fact) *sheet {
 	s := b.sheet("Summary", title, column{"figure", textCell}, column{"value", numberCell})
 	s.facts = true
 	for _, f := range facts {
 		s.add(f.item, f.value)
 	}
+	return s
 }
 
 // assumptions adds the Assumptions sheet: what the model is and where it

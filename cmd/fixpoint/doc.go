@@ -64,7 +64,8 @@
 //	130  interrupted (SIGINT or SIGTERM); no output file is left behind
 //
 // Workbooks (--format xlsx, or -o FILE.xlsx) are written by solve,
-// compare, sensitivity and forecast, to a file only.
+// compare, sensitivity, forecast (also a fleet's --simulate) and plan
+// (also --rates), to a file only.
 //
 // Output files (-o) are written through a temporary file in the same
 // directory and renamed into place; fixpoint never writes a file it read

@@ -58,9 +58,6 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 		if st.Simulate == 0 {
 			return usagef("for a fleet file give --simulate N (or use fixpoint plan for the expected-count plan)")
 		}
-		if st.Output.Format == "xlsx" {
-			return usagef("forecast --simulate writes table, json or csv; workbooks (--format xlsx) are written for class configs")
-		}
 		if err := a.src.NotFor("a fleet file", " (the fleet's classes give the discount and the plan the policy)",
 			"method", "tol", "max-iterations", "rate", "factor", "mix", "from", "units"); err != nil {
 			return err

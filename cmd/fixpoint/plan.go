@@ -33,7 +33,8 @@ inspections and their cost per calendar year under each class's inspection
 advice are reported beside the plan, which assumes the condition known every
 period.`,
 		Example: `  fixpoint plan configs/east-zone.yaml
-  fixpoint plan configs/east-zone.yaml --budget 45000 --years 15 -o plan.json`,
+  fixpoint plan configs/east-zone.yaml --budget 45000 --years 15 -o plan.json
+  fixpoint plan configs/east-zone.yaml --rates 3%,5%,7% -o plan-rates.xlsx`,
 		Args: exactArgs(1, "one fleet file"),
 		RunE: func(cmd *cobra.Command, args []string) error { return a.plan(cmd, args[0]) },
 	}
@@ -44,7 +45,7 @@ period.`,
 	settings.AddRates(f, "annual `rates` to plan at side by side: a list 3%,5%,7% or a range lo:hi[:step]")
 	f.String("simulate", "1000", "Monte-Carlo `runs` of the whole-unit practice (0 = none)")
 	f.String("seed", "1", "seed of the random numbers (`n`)")
-	settings.AddOutput(f, "table", "json", "csv")
+	settings.AddOutput(f, settings.Reports()...)
 	return cmd
 }
 

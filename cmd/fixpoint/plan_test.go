@@ -12,8 +12,24 @@ import (
 const demoFleet = "../../configs/east-zone.yaml"
 
 // copyFleet copies the demo fleet's files into a temporary directory and
-// applies edits (file -> old -> new).
+// applies edits (file -> old -> new, the first occurrence).
 func copyFleet(t *testing.T, edits map[string][2]string) string {
+	t.Helper()
+	return copyFleetWith(t, func(name, text string) string {
+		e, ok := edits[name]
+		if !ok {
+			return text
+		}
+		if !strings.Contains(text, e[0]) {
+			t.Fatalf("test bug: %q not in %s", e[0], name)
+		}
+		return strings.Replace(text, e[0], e[1], 1)
+	})
+}
+
+// copyFleetWith copies the demo fleet's files into a temporary directory,
+// each file's text passed through edit, and returns the fleet file.
+func copyFleetWith(t *testing.T, edit func(name, text string) string) string {
 	t.Helper()
 	dir := t.TempDir()
 	for _, name := range []string{"east-zone.yaml", "pumps.yaml", "valves.yaml", "east-zone-inventory.csv"} {
@@ -21,14 +37,9 @@ func copyFleet(t *testing.T, edits map[string][2]string) string {
 		if err != nil {
 			t.Fatal(err)
 		}
-		text := string(data)
-		if e, ok := edits[name]; ok {
-			if !strings.Contains(text, e[0]) {
-				t.Fatalf("test bug: %q not in %s", e[0], name)
-			}
-			text = strings.Replace(text, e[0], e[1], 1)
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(edit(name, string(data))), 0o644); err != nil {
+			t.Fatal(err)
 		}
-		os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644)
 	}
 	return filepath.Join(dir, "east-zone.yaml")
 }

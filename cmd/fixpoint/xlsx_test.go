@@ -644,6 +644,10 @@ func workbookCases(t *testing.T) []struct {
 	advice := []string{"Advice", "Summary", "Life", "Survival", "Assumptions"}
 	compare := []string{"Advice by rate", "Present value by rate", "Switch points", "Summary", "EAC chart", "Assumptions"}
 	forecast := []string{"Units per period", "Spend per period", "By year", "Charts", "Summary", "Assumptions"}
+	plan := []string{"By year", "Work list", "By period", "Shares", "Expected units", "Charts", "Summary", "Assumptions"}
+	planInspections := append(slices.Clone(plan[:5]), "Inspections", "Charts", "Summary", "Assumptions")
+	planRates := []string{"Bounds by rate", "Planned spend", "Mandatory spend", "Deferred units", "Budget price", "Assumptions"}
+	simulation := []string{"By year", "Units per period", "Charts", "Summary", "Assumptions"}
 	return []struct {
 		name   string
 		args   []string
@@ -664,6 +668,14 @@ func workbookCases(t *testing.T) []struct {
 		{"forecast/half-year", []string{"forecast", "testdata/accents.yaml", "--from", "état neuf", "--years", "6"}, forecast, 2, checkForecast},
 		{"forecast/two-year", []string{"forecast", twoYears, "--mix", "sound=60,light_wear=30,heavy_wear=10", "--years", "20"}, forecast, 2, checkForecast},
 		{"forecast/average", []string{"forecast", average, "--from", "sound"}, forecast, 2, checkForecast},
+		{"plan", []string{"plan", demoFleet, "--simulate", "200"}, plan, 2, checkPlan},
+		{"plan/mandatory-first", []string{"plan", demoFleet, "--budget", "0", "--simulate", "0"}, plan, 1, checkPlan},
+		{"plan/inspections", []string{"plan", "../../configs/relief-fleet.yaml", "--simulate", "200"}, planInspections, 2, checkPlan},
+		{"plan/formula-names", []string{"plan", formulaFleet(t), "--simulate", "50"}, plan, 2, checkPlan},
+		{"plan/rates", []string{"plan", demoFleet, "--rates", "3%,5%,7%"}, planRates, 0, checkPlanRates},
+		{"plan/rates-changed", []string{"plan", demoFleet, "--rates", "3%,7%,12%"}, planRates, 0, checkPlanRatesChanged},
+		{"forecast/simulate", []string{"forecast", demoFleet, "--simulate", "200"}, simulation, 1, checkSimulation},
+		{"forecast/simulate-practice", []string{"forecast", demoFleet, "--simulate", "100", "--follow", "practice"}, simulation, 1, checkSimulation},
 	}
 }
 
@@ -691,17 +703,18 @@ func TestWorkbooksMatchJSON(t *testing.T) {
 }
 
 // readByOpenpyxl is run by Debian's python3 with openpyxl: for every
-// workbook named, every sheet's name, frozen cell, number of charts, the
-// cells of its first rows (type, value, number format) and how many cells
-// anywhere hold a formula.
+// workbook named after the mark's tint, every sheet's name, frozen cell,
+// number of charts, the cells of its first rows (type, value, number
+// format), those of them bold on the tint, and how many cells anywhere
+// hold a formula.
 const readByOpenpyxl = `
 import json, sys, openpyxl
 out = []
-for path in sys.argv[1:]:
+for path in sys.argv[2:]:
     wb = openpyxl.load_workbook(path)
     sheets = []
     for ws in wb.worksheets:
-        cells, formulas = {}, 0
+        cells, formulas, marked = {}, 0, []
         for row in ws.iter_rows():
             for c in row:
                 if c.data_type == "f":
@@ -709,7 +722,9 @@ for path in sys.argv[1:]:
                 if c.row <= 12 and c.value is not None:
                     v = float(c.value) if c.data_type == "n" else str(c.value)
                     cells[c.coordinate] = [c.data_type, v, c.number_format]
-        sheets.append({"name": ws.title, "freeze": ws.freeze_panes, "charts": len(ws._charts), "cells": cells, "formulas": formulas})
+                    if c.font.b and c.fill.fill_type == "solid" and str(c.fill.fgColor.rgb).upper().endswith(sys.argv[1]):
+                        marked.append(c.coordinate)
+        sheets.append({"name": ws.title, "freeze": ws.freeze_panes, "charts": len(ws._charts), "cells": cells, "formulas": formulas, "marked": marked})
     out.append(sheets)
 json.dump(out, sys.stdout)
 `
@@ -732,6 +747,7 @@ type openpyxlSheet struct {
 	Charts   int
 	Cells    map[string][3]any
 	Formulas int
+	Marked   []string
 }
 
 // A second reader outside the project (openpyxl) opens every workbook:
@@ -745,7 +761,7 @@ func TestWorkbooksSecondReader(t *testing.T) {
 	for i, tc := range cases {
 		paths[i] = workbookRun(t, tc.args...)
 	}
-	out, err := exec.Command(python, append([]string{"-c", readByOpenpyxl}, paths...)...).Output()
+	out, err := exec.Command(python, append([]string{"-c", readByOpenpyxl, markTint}, paths...)...).Output()
 	if err != nil {
 		var stderr string
 		if ee, ok := err.(*exec.ExitError); ok {
@@ -780,6 +796,9 @@ func TestWorkbooksSecondReader(t *testing.T) {
 				}
 				for _, ref := range slices.Sorted(mapKeys(sh.Cells)) {
 					c := sh.Cells[ref]
+					if want := markedCell(t, f, sh.Name, ref); slices.Contains(sh.Marked, ref) != want {
+						t.Errorf("%s!%s: openpyxl sees it marked %v, excelize %v", sh.Name, ref, !want, want)
+					}
 					raw, err := f.GetCellValue(sh.Name, ref, excelize.Options{RawCellValue: true})
 					if err != nil {
 						t.Fatal(err)
@@ -836,6 +855,15 @@ func TestWorkbooksSecondReader(t *testing.T) {
 		{"solve/formula-names", "Advice", "A7", [3]any{"s", "-critical", "General"}},
 		{"compare", "Advice by rate", "A5", [3]any{"n", 0.05, "0.00%"}},
 		{"forecast", "Units per period", "C4", [3]any{"n", 40.0, "#,##0.00"}},
+		{"plan", "By year", "B4", [3]any{"n", 60000.0, "#,##0.00"}},
+		{"plan", "By year", "F4", [3]any{"n", nil, "#,##0.000"}},
+		{"plan/mandatory-first", "By year", "C4", [3]any{"s", "mandatory only", "General"}},
+		{"plan/formula-names", "Work list", "A4", [3]any{"s", "+pumps", "General"}},
+		{"plan/formula-names", "Expected units", "B4", [3]any{"s", "+pumps", "General"}},
+		{"plan/formula-names", "Expected units", "C4", [3]any{"s", "-sound", "General"}},
+		{"plan/formula-names", "Expected units", "C6", [3]any{"s", "@heavy_wear", "General"}},
+		{"plan/rates-changed", "Bounds by rate", "A6", [3]any{"n", 0.12, "0.00%"}},
+		{"forecast/simulate", "By year", "I4", [3]any{"n", nil, "0.00%"}},
 	} {
 		got := value(tc.book, tc.sheet, tc.ref)
 		if got[0] != tc.want[0] || got[2] != tc.want[2] || tc.want[1] != nil && !sameCell(got[1], tc.want[1]) {
@@ -887,8 +915,10 @@ func TestWorkbookUsage(t *testing.T) {
 		{[]string{"solve", demo, "--format", "xlsx"}, exitUsage, "give -o FILE.xlsx"},
 		{[]string{"compare", demo, "--rates", "2%,4%", "--format", "xlsx", "-o", "-"}, exitUsage, "give -o FILE.xlsx"},
 		{[]string{"solve", demo, "--format", "xlsx", "-o", filepath.Join(dir, "advice.csv")}, exitUsage, "contradicts the output file"},
-		{[]string{"forecast", demoFleet, "--simulate", "10", "-o", filepath.Join(dir, "sim.xlsx")}, exitUsage, "workbooks (--format xlsx) are written for class configs"},
-		{[]string{"plan", demoFleet, "--format", "xlsx", "-o", filepath.Join(dir, "plan.xlsx")}, exitUsage, "unknown format \"xlsx\""},
+		{[]string{"plan", demoFleet, "--format", "xlsx"}, exitUsage, "give -o FILE.xlsx"},
+		{[]string{"forecast", demoFleet, "--simulate", "10", "--format", "xlsx", "-o", filepath.Join(dir, "sim.csv")}, exitUsage, "contradicts the output file"},
+		{[]string{"plan", demoFleet, "--rates", "3%,5%", "--format", "csv", "-o", filepath.Join(dir, "plan.xlsx")}, exitUsage, "contradicts the output file"},
+		{[]string{"forecast", demoFleet, "--simulate", "10", "-o", filepath.Join(dir, "sim.xlsx")}, exitOK, ""},
 		{[]string{"sensitivity", demo, "--format", "xlsx", "-o", filepath.Join(dir, "ranges.xlsx")}, exitOK, ""},
 	}
 	for _, tc := range tests {
@@ -902,7 +932,7 @@ func TestWorkbookUsage(t *testing.T) {
 			}
 		})
 	}
-	for _, name := range []string{"sim.xlsx", "plan.xlsx"} {
+	for _, name := range []string{"sim.csv", "plan.xlsx"} {
 		if _, err := os.Stat(filepath.Join(dir, name)); err == nil {
 			t.Errorf("%s was written by a refused command", name)
 		}

@@ -12,7 +12,7 @@ import (
 // classes' shared period and discount.
 func (e *Env) FleetHeader(ff *modelfile.Fleet) reports.Header {
 	c := ff.Classes[0]
-	return reports.Header{Model: ff.Name, Currency: ff.Currency, Period: c.Period, Discount: c.Discount, Source: ff.Path, Version: e.Version}
+	return reports.Header{Model: ff.Name, Currency: ff.Currency, Period: c.Period, Discount: c.Discount, Source: ff.Path, SHA256: ff.SHA256, Version: e.Version}
 }
 
 // FleetPlan applies --budget and --years to a fleet file and plans it at

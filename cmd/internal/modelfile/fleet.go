@@ -28,7 +28,10 @@ var fleetKeys = []string{"version", "kind", "name", "currency", "classes", "inve
 // Fleet is a decoded fleet file: classes (each a class config), an
 // inventory of units and a budget per year.
 type Fleet struct {
+	// Path is the fleet file as named; SHA256 the hex digest of its
+	// bytes (the class files and the inventory it names are not in it).
 	Path     string
+	SHA256   string
 	Name     string
 	Currency string
 	// Names and Classes in file order.

@@ -197,6 +197,9 @@ func (l *loader) file(path string, data []byte, want Kind) (*File, error) {
 	if h := f.Header(); h != nil {
 		h.SHA256 = f.SHA256
 	}
+	if f.Fleet != nil {
+		f.Fleet.SHA256 = f.SHA256
+	}
 	f.Inputs, f.Notes = l.inputs, l.notes
 	return f, nil
 }

@@ -432,7 +432,7 @@ type Plan struct {
 
 // Plan reads the settings of plan.
 func (s *Source) Plan() (st Plan, err error) {
-	if st.Output, err = s.Output("table", "json", "csv"); err != nil {
+	if st.Output, err = s.Output(Reports()...); err != nil {
 		return
 	}
 	if st.Simulate, err = s.runs(); err != nil {

@@ -18,8 +18,8 @@ type Output struct {
 }
 
 // Reports are the formats of the commands whose results are tables
-// (solve, compare, sensitivity, forecast): a terminal table, JSON, CSV or
-// a spreadsheet workbook.
+// (solve, compare, sensitivity, forecast, plan): a terminal table, JSON,
+// CSV or a spreadsheet workbook.
 func Reports() []string { return []string{"table", "json", "csv", "xlsx"} }
 
 // AddOutput declares --format (one of formats, the first the default),
