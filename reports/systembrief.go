@@ -26,12 +26,7 @@ func (b *SystemBrief) Fields() []TextField {
 	for i, c := range s.System.Components {
 		p := fmt.Sprintf("components[%d]", i)
 		out = append(out, TextField{p + ".name", c.Name})
-		for k, st := range c.Model.States {
-			out = append(out, TextField{fmt.Sprintf("%s.states[%d].name", p, k), st.Name})
-		}
-		for k, a := range c.Model.Actions {
-			out = append(out, TextField{fmt.Sprintf("%s.actions[%d].name", p, k), a.Name})
-		}
+		out = append(out, nameFields(p+".", c.Model.StateNames(), c.Model.ActionNames())...)
 	}
 	return out
 }
@@ -90,10 +85,6 @@ func (b *SystemBrief) front() front {
 	for _, g := range groups {
 		f.notes = append(f.notes, g)
 	}
-	rate := Percent(s.Discount.RatePerYear(), 2) + " per year (real)"
-	if !s.Discount.ByRate() {
-		rate = "given as a discount factor"
-	}
 	var scales []string
 	for _, c := range sys.Components {
 		scales = append(scales, c.Name+": "+strings.Join(c.Model.StateNames(), ", "))
@@ -103,7 +94,7 @@ func (b *SystemBrief) front() front {
 		downRule = "any component in an unsafe state puts the machine out of use"
 	}
 	f.assumptions = []string{
-		"Discount rate: " + rate + "; discount factor " + Fixed(s.Discount.Factor(), 6) + " per period.",
+		"Discount rate: " + s.rateWords() + "; discount factor " + Fixed(s.Discount.Factor(), 6) + " per period.",
 		"Period: " + Years(s.periodYears()) + "; costs in " + cur + " at constant prices, charged at the start of each period.",
 		"Shutdown: " + s.money(sys.Shutdown) + " " + cur + " in each period with work on any component; " + downRule + ".",
 		"Condition scales, best first: " + strings.Join(scales, "; ") + ".",
