@@ -11,6 +11,7 @@ import (
 	"fixpoint/condition"
 	"fixpoint/costs"
 	"fixpoint/optimize"
+	"fixpoint/optimize/robust"
 )
 
 // Brief is the printable policy brief of one class: page 1 with the
@@ -34,6 +35,10 @@ type Brief struct {
 	Imprint
 	// Compare, if not nil, adds a page comparing discount rates.
 	Compare *Comparison
+	// Robust, if not nil, adds the page "How sure are we?": the advice
+	// that holds for every transition matrix the data allow, beside the
+	// nominal advice of page 1 (discounted criterion only).
+	Robust *RobustAdvice
 }
 
 func (b *Brief) head() *Header {
@@ -68,13 +73,7 @@ func (b *Brief) warnings() []string {
 func (b *Brief) Fields() []TextField {
 	h := b.head()
 	p := b.problem()
-	out := headerFields(h, b.Imprint)
-	for s, name := range p.States {
-		out = append(out, TextField{fmt.Sprintf("states[%d].name", s), name})
-	}
-	for a, name := range p.Actions {
-		out = append(out, TextField{fmt.Sprintf("actions[%d].name", a), name})
-	}
+	out := append(headerFields(h, b.Imprint), nameFields("", p.States, p.Actions)...)
 	for i, w := range b.warnings() {
 		out = append(out, TextField{fmt.Sprintf("warnings[%d]", i), w})
 	}
@@ -86,6 +85,28 @@ func (b *Brief) Fields() []TextField {
 func headerFields(h *Header, im Imprint) []TextField {
 	return []TextField{{"name", h.Model}, {"currency", h.Currency}, {"source file", h.Source},
 		{"prepared-for", im.PreparedFor}, {"prepared-by", im.PreparedBy}}
+}
+
+// nameFields are the state and action names of a model, as fields under
+// prefix ("" or "components[2].").
+func nameFields(prefix string, states, actions []string) []TextField {
+	var out []TextField
+	for s, name := range states {
+		out = append(out, TextField{fmt.Sprintf("%sstates[%d].name", prefix, s), name})
+	}
+	for a, name := range actions {
+		out = append(out, TextField{fmt.Sprintf("%sactions[%d].name", prefix, a), name})
+	}
+	return out
+}
+
+// rateWords says the discount rate of a key assumption: "4.00% per year
+// (real)", or that the file gave a factor.
+func (h *Header) rateWords() string {
+	if r, ok := h.rate(); ok {
+		return Percent(r, 2) + " per year (real)"
+	}
+	return "given as a discount factor"
 }
 
 // runningHeader is the running header of a brief: what it is, the model
@@ -108,6 +129,9 @@ func (b *Brief) WritePDF(w io.Writer) error {
 	}
 	b.pageFront(d)
 	b.pageCharts(d)
+	if b.Robust != nil {
+		b.pageRobust(d)
+	}
 	if b.Compare != nil {
 		b.pageCompare(d)
 	}
@@ -134,40 +158,60 @@ const minFrontRows = 3
 // drawFront lays out page 1 so that the recommendation, the key
 // assumptions and the sign-off are always on it: the table and the notes
 // take the room left between them, and what does not fit (the rows that
-// overflow, the notes) continues on page 2 with a line saying so.
-func (d *doc) drawFront(h *Header, im Imprint, f front) {
+// overflow, the notes) continues on page 2 with a line saying so. It
+// reports whether page 2 was started.
+func (d *doc) drawFront(h *Header, im Imprint, f front) (continued bool) {
 	d.pdf.AddPage()
 	d.titleBlock(f.title, h.Model, "", true)
 	d.traceBlock(traceOf(h, im), true)
 	const contNote = "Continued on the next page: the rest of the table and the notes on this advice."
-	tail := d.keyAssumptionsBlock(f.assumptions, false) + d.signOffBlock(false) + d.paragraphBlock(contNote, smallSize, muted, 3.8, false)
+	tail := d.keyAssumptionsBlock(f.assumptions, false) + d.signOffBlock(false)
 	d.mark("recommendation")
 	d.headingBlock("Recommendation", true)
 	for _, r := range f.recommendation {
 		d.paragraph(r)
 	}
-	limit := contentBottom - tail
 	notesH := 0.0
 	if len(f.notes) > 0 {
 		notesH = d.headingBlock(f.notesTitle, false) + d.bullets(f.notes, false)
 	}
-	tableH := d.headingBlock(f.tableTitle, false) + d.paragraphBlock(f.tableNote, smallSize, muted, 3.8, false) + 3
-	// Rows go on page 1 only when at least minFrontRows of them fit.
-	next := 0
-	if d.y()+tableH+d.tableHeight(&f.table, minFrontRows) <= limit {
+	headH := d.headingBlock(f.tableTitle, false)
+	noteH := d.paragraphBlock(f.tableNote, smallSize, muted, 3.8, false) + 1
+	wholeH := headH + d.tableHeight(&f.table, len(f.table.rows)) + noteH + 2
+	// Room is kept for the line saying what continues unless everything
+	// fits without it.
+	limit := contentBottom - tail
+	if d.y()+wholeH+notesH > limit {
+		limit -= d.paragraphBlock(contNote, smallSize, muted, 3.8, false)
+	}
+	// The whole table goes on page 1 with its note when it fits; else its
+	// first rows (at least minFrontRows of them), the note following the
+	// rest on page 2; else all of it moves to page 2.
+	next, noteHere := 0, false
+	switch {
+	case d.y()+wholeH <= limit:
 		d.headingBlock(f.tableTitle, true)
-		next = d.tableUntil(&f.table, 0, limit-tableH+d.headingBlock(f.tableTitle, false), min(minFrontRows, len(f.table.rows)))
+		next = d.tableUntil(&f.table, 0, limit, len(f.table.rows))
+	case d.y()+headH+d.tableHeight(&f.table, minFrontRows) <= limit:
+		d.headingBlock(f.tableTitle, true)
+		next = d.tableUntil(&f.table, 0, limit, min(minFrontRows, len(f.table.rows)))
+	}
+	if next == len(f.table.rows) && d.y()+noteH+1 <= limit {
 		d.setY(d.y() + 1)
 		d.note(f.tableNote)
+		noteHere = true
 	}
-	notesHere := next == len(f.table.rows) && d.y()+notesH <= limit
+	notesHere := noteHere && d.y()+notesH <= limit
 	if notesHere && len(f.notes) > 0 {
 		d.headingBlock(f.notesTitle, true)
 		d.bullets(f.notes, true)
 	}
 	var more []string
-	if next < len(f.table.rows) {
+	switch {
+	case next < len(f.table.rows):
 		more = append(more, "the rest of the table")
+	case !noteHere:
+		more = append(more, "the note on the table")
 	}
 	if !notesHere && len(f.notes) > 0 {
 		more = append(more, strings.ToLower(f.notesTitle[:1])+f.notesTitle[1:])
@@ -179,21 +223,21 @@ func (d *doc) drawFront(h *Header, im Imprint, f front) {
 	d.keyAssumptionsBlock(f.assumptions, true)
 	d.signOffBlock(true)
 	if !rest {
-		return
+		return false
 	}
 	d.pdf.AddPage()
-	if next < len(f.table.rows) {
+	if !noteHere {
 		title := f.tableTitle
 		if next > 0 {
 			title += " (continued)"
 		}
 		d.headingBlock(title, true)
-		cols := d.layoutColumns(&f.table)[0]
-		d.tablePart(&f.table, cols, next, contentBottom, 0)
-		d.setY(d.y() + 1)
-		if next == 0 {
-			d.note(f.tableNote)
+		if next < len(f.table.rows) {
+			cols := d.layoutColumns(&f.table)[0]
+			d.tablePart(&f.table, cols, next, contentBottom, 0)
 		}
+		d.setY(d.y() + 1)
+		d.note(f.tableNote)
 	}
 	if len(f.notes) > 0 && !notesHere {
 		d.need(d.headingBlock(f.notesTitle, false) + 2*lineH)
@@ -201,6 +245,7 @@ func (d *doc) drawFront(h *Header, im Imprint, f front) {
 		d.bullets(f.notes, true)
 	}
 	d.setY(d.y() + 4)
+	return true
 }
 
 func (b *Brief) pageFront(d *doc) {
@@ -228,6 +273,9 @@ func (b *Brief) pageFront(d *doc) {
 	} else {
 		r := b.Advice.Result
 		f.recommendation = b.recommendation()
+		if b.Robust != nil {
+			f.recommendation = append(f.recommendation, b.Robust.whichAdvice())
+		}
 		value, runnerUp, margin = r.Value, r.RunnerUp, r.Margin
 		f.tableNote = "Margin: how much the runner-up's cost in that condition must fall before it becomes the advice. " +
 			"Present values are expected discounted costs from now on, for one unit starting in that condition."
@@ -252,11 +300,7 @@ func (b *Brief) keyAssumptions() []string {
 	if b.Average != nil {
 		out = append(out, "Criterion: least long-run average cost per period, undiscounted (no discount rate).")
 	} else {
-		rate := "given as a discount factor"
-		if r, ok := h.rate(); ok {
-			rate = Percent(r, 2) + " per year (real)"
-		}
-		out = append(out, "Discount rate: "+rate+"; discount factor "+Fixed(p.Discount, 6)+" per period.")
+		out = append(out, "Discount rate: "+h.rateWords()+"; discount factor "+Fixed(p.Discount, 6)+" per period.")
 	}
 	out = append(out,
 		"Period: "+Years(h.periodYears())+"; costs in "+h.Currency+" at constant prices, charged at the start of each period.",
@@ -391,10 +435,7 @@ func populationText(states []string, counts []float64) string {
 func (b *Brief) pageCharts(d *doc) {
 	h := b.head()
 	p := b.problem()
-	d.pdf.AddPage()
-	d.font("B", 12, ink)
-	d.put(marginX, d.y(), 6, "What the advice means over the years")
-	d.setY(d.y() + 7)
+	d.pageTitle("What the advice means over the years")
 	// By calendar year when a year holds whole periods; per period when a
 	// period is longer than a year.
 	f := b.Forecast.Forecast
@@ -497,10 +538,7 @@ const maxRateRowsStates = 7
 func (b *Brief) pageCompare(d *doc) {
 	c := b.Compare
 	cmp := c.Compare
-	d.pdf.AddPage()
-	d.font("B", 12, ink)
-	d.put(marginX, d.y(), 6, "Does the advice depend on the discount rate?")
-	d.setY(d.y() + 7)
+	d.pageTitle("Does the advice depend on the discount rate?")
 	kind := "Rates are real (constant prices)."
 	if c.HasInflation {
 		kind = fmt.Sprintf("Rates were given as nominal and converted to real at %s inflation by the Fisher relation.", Percent(c.Inflation, 2))
@@ -583,6 +621,58 @@ func (b *Brief) pageCompare(d *doc) {
 	d.lineChart(marginX, d.y()+2, contentW, 62, "Equivalent annual cost against the real discount rate (switch points dashed and numbered)",
 		"real discount rate (%)", c.Currency+" per year", xs, []series{{name: "EAC of a unit starting " + c.States[0], color: ink, values: ys}},
 		slices.Min(ys), slices.Max(ys), func(v float64) string { return Money(v, 0) }, marks)
+}
+
+// whichAdvice says, for page 1 of a brief with a robust page, which
+// advice the brief shows and where the robust advice differs.
+func (r *RobustAdvice) whichAdvice() string {
+	a := r.Analysis
+	s := "Which advice: this page and the charts give the nominal advice, for the transition matrices in the config. " +
+		"The page \"How sure are we?\" gives the robust advice, best for the worst matrices the data allow (" + r.setWords() + "): "
+	if len(a.Differs) == 0 {
+		return s + "it is the same in every condition."
+	}
+	names := make([]string, len(a.Differs))
+	for i, st := range a.Differs {
+		names[i] = r.Problem.Actions[a.Robust.Policy[st]] + " in " + r.Problem.States[st]
+	}
+	return s + "it advises " + joinAnd(names) + fmt.Sprintf(" instead, at a price of robustness of %s %s.", r.money(a.PriceOfRobustness), r.Currency)
+}
+
+// setWords names the ambiguity sets: "L1 sets of radius 0.1" or "L1
+// sets at 90% confidence".
+func (r *RobustAdvice) setWords() string {
+	s := r.sets()
+	kind := "L1"
+	if s.Kind == robust.KL {
+		kind = "Kullback-Leibler"
+	}
+	switch {
+	case !math.IsNaN(s.Confidence) && s.Confidence > 0:
+		return kind + " sets at " + strconv.FormatFloat(100*s.Confidence, 'f', -1, 64) + "% confidence"
+	case !math.IsNaN(s.Radius):
+		return kind + " sets of radius " + r.radiusText(s.Radius)
+	}
+	return kind + " sets, one per row"
+}
+
+func (b *Brief) pageRobust(d *doc) {
+	pg := b.Robust.Page()
+	d.pageTitle(pg.Title)
+	for _, p := range pg.Intro {
+		d.paragraph(p)
+	}
+	d.setY(d.y() + 1)
+	d.pageTable(pg.Advice)
+	d.setY(d.y() + 1)
+	d.need(d.paragraphBlock(pg.SettleIntro, bodySize, ink, lineH, false) + 20)
+	d.paragraph(pg.SettleIntro)
+	if len(pg.Settle.Rows) > 0 {
+		d.pageTable(pg.Settle)
+	}
+	for _, n := range pg.Closing {
+		d.note(n)
+	}
 }
 
 // probDecimals is the number of decimals that prints every probability
@@ -672,10 +762,7 @@ func (d *doc) modelTables(h *Header, m *condition.Model, c *costs.Schedule, pref
 
 func (b *Brief) pageInputs(d *doc) {
 	h := b.head()
-	d.pdf.AddPage()
-	d.font("B", 12, ink)
-	d.put(marginX, d.y(), 6, "Certificate and inputs")
-	d.setY(d.y() + 7)
+	d.pageTitle("Certificate and inputs")
 	d.heading("Solver certificate", 30)
 	var lines []string
 	if a := b.Average; a != nil {

@@ -310,8 +310,10 @@ func plotHeight(h float64) float64 { return math.Max(24, h-18) }
 // in the legend. h is the height of title, plot and axis labels; the
 // legend adds its rows below, and the chart moves to a new page when it
 // does not fit.
+//
+// It returns the plotting frame.
 func (d *doc) stackedBarsWithLimit(x, y, w, h float64, title, xLabel, yLabel string, categories []string, ss []series,
-	limit []float64, limitName string, yFormat func(float64) string) {
+	limit []float64, limitName string, yFormat func(float64) string) frame {
 	maxV := 0.0
 	for i := range categories {
 		sum := 0.0
@@ -362,6 +364,7 @@ func (d *doc) stackedBarsWithLimit(x, y, w, h float64, title, xLabel, yLabel str
 		p.SetDashPattern([]float64{}, 0)
 	}
 	d.setY(y + c.height())
+	return f
 }
 
 // segment fills one bar segment in the series' style.

@@ -7,9 +7,15 @@
 // unsafe set, source), embedded in every view; the views Advice,
 // AverageAdvice, Comparison, Sensitivity, Forecast, SystemAdvice,
 // PlanReport, SimulationReport, FitReport, InspectionAdvice and
-// InspectionCalendar, each with WriteTable, WriteJSON and WriteCSV; Brief
-// and FleetBrief with WritePDF. InspectionAdvice.LookAgain returns its
-// brief page as data (Page), for a PDF renderer to lay out. The views of
+// InspectionCalendar, each with WriteTable, WriteJSON and WriteCSV; the
+// briefs Brief (a class, with the optional pages "How sure are we?" from
+// RobustAdvice.Page and the rate comparison), InspectionBrief (a class
+// with an inspection block, with the page "When to look again" from
+// InspectionAdvice.LookAgain), SystemBrief and FleetBrief (a budget plan,
+// with the optional page of PlanRates), each with WritePDF. Page 1 of
+// every brief carries the recommendation in words, its table, the key
+// assumptions, the traceability and the sign-off; what does not fit
+// continues on page 2, never the sign-off. The views of
 // tables also have WriteXLSX, a workbook built by one builder
 // (workbook.go): the caution on the first row of every sheet, frozen
 // headings, numbers as numbers with number formats (currency in its ISO

@@ -64,12 +64,14 @@ type Page struct {
 }
 
 // PageTable is one table of a Page: a caption, the header, which columns
-// are numbers (right-aligned) and the rows, every cell formatted.
+// are numbers (right-aligned), the rows, every cell formatted, and a note
+// saying what each column means.
 type PageTable struct {
 	Caption string
 	Header  []string
 	Numeric []bool
 	Rows    [][]string
+	Note    string
 }
 
 // InspectionAdvice is the certified joint advice of a class with an
@@ -156,15 +158,18 @@ func (v *InspectionAdvice) adviceTable() PageTable {
 		Caption: fmt.Sprintf("Action and next inspection per condition found (present value of expected costs, %s)", v.Currency),
 		Header:  []string{"condition", "advice", "expected cost (" + v.Currency + ")", "lower bound", "upper bound", "runner-up", "margin"},
 		Numeric: []bool{false, false, true, true, true, false, true},
+		Note: "Condition: the condition an inspection finds (hidden: an unsafe condition that only an inspection finds). Advice: the action, then when to inspect again. " +
+			"Expected cost: the present value of the expected costs from that inspection on under the advice; lower and upper bound: proven bounds on the least such cost. " +
+			"Runner-up: the next best decision; margin: how much its cost in that condition must fall before it becomes the advice.",
 	}
 	for s := range p.States {
 		runner, margin := "-", "-"
 		if i := r.RunnerUp[s]; i >= 0 {
 			c := p.Choices[s][i]
-			runner, margin = p.Actions[c.Action]+", "+Duration(p.Years(c.Interval)), Money(r.Margin[s], 2)
+			runner, margin = p.Actions[c.Action]+", "+Duration(p.Years(c.Interval)), v.money(r.Margin[s])
 		}
-		t.Rows = append(t.Rows, []string{v.label(s), Decision(p, p.Choices[s][r.Policy[s]]), Money(r.Value[s], 2),
-			Money(r.Lower[s], 2), Money(r.Upper[s], 2), runner, margin})
+		t.Rows = append(t.Rows, []string{v.label(s), Decision(p, p.Choices[s][r.Policy[s]]), v.money(r.Value[s]),
+			v.money(r.Lower[s]), v.money(r.Upper[s]), runner, margin})
 	}
 	return t
 }
@@ -186,7 +191,7 @@ func (v *InspectionAdvice) longRunCells(l *inspect.LongRun) []string {
 	if l == nil {
 		return []string{"n/a", "n/a", "n/a"}
 	}
-	return []string{Fixed(l.EpochsPerYear, 2), Fixed(365.25*l.HiddenShare, 2), Money(l.CostPerYear, 2)}
+	return []string{Fixed(l.EpochsPerYear, 2), Fixed(365.25*l.HiddenShare, 2), v.money(l.CostPerYear)}
 }
 
 // fixedTable compares each fixed interval with the advice.
@@ -198,12 +203,16 @@ func (v *InspectionAdvice) fixedTable() PageTable {
 			"per unit-year: inspections and call-outs, days in a hidden failure unseen, and the long-run cost, undiscounted)", v.Currency),
 		Header:  []string{"inspect every", "extra cost from " + best, "largest extra cost", "inspections", "hidden days", "cost per unit-year"},
 		Numeric: []bool{false, true, true, true, true, true},
+		Note: fmt.Sprintf("Inspect every: one interval whatever the condition found (as advised: the advice above). Extra cost from %s: what that habit costs "+
+			"in present value above the advice, for a unit found %s; largest extra cost: the most over conditions, in the condition named. "+
+			"Inspections: scheduled inspections and call-outs per unit-year; hidden days: days per unit-year in a hidden failure, unseen; "+
+			"cost per unit-year: the long-run cost, undiscounted.", best, best),
 	}
-	t.Rows = append(t.Rows, append([]string{"as advised", Money(0, 2), Money(0, 2)}, v.longRunCells(v.LongRun)...))
+	t.Rows = append(t.Rows, append([]string{"as advised", v.money(0), v.money(0)}, v.longRunCells(v.LongRun)...))
 	for i, f := range v.Fixed {
 		worst, at := worstExcess(f)
-		t.Rows = append(t.Rows, append([]string{intervalText(p, f.Interval), Money(f.Excess[0], 2),
-			Money(worst, 2) + " (" + p.States[at] + ")"}, v.longRunCells(v.FixedLongRun[i])...))
+		t.Rows = append(t.Rows, append([]string{intervalText(p, f.Interval), v.money(f.Excess[0]),
+			v.money(worst) + " (" + p.States[at] + ")"}, v.longRunCells(v.FixedLongRun[i])...))
 	}
 	return t
 }
@@ -230,7 +239,7 @@ func (v *InspectionAdvice) figureLines() []string {
 	}
 	return []string{hidden, unsafe,
 		fmt.Sprintf("Per unit and year under the advice: %s scheduled inspections%s; long-run cost %s %s per unit-year (undiscounted).",
-			Fixed(l.InspectionsPerYear, 3), calls, Money(l.CostPerYear, 2), v.Currency)}
+			Fixed(l.InspectionsPerYear, 3), calls, v.money(l.CostPerYear), v.Currency)}
 }
 
 func pct(x float64) string {
@@ -254,7 +263,7 @@ func (v *InspectionAdvice) habitLine() string {
 	}
 	f := v.Fixed[best]
 	return fmt.Sprintf("The best fixed habit is to inspect every %s: from %s it costs %s %s more in present value than the advice.",
-		Duration(v.Problem.Years(f.Interval)), v.Problem.States[0], Money(f.Excess[0], 2), v.Currency)
+		Duration(v.Problem.Years(f.Interval)), v.Problem.States[0], v.money(f.Excess[0]), v.Currency)
 }
 
 func (v *InspectionAdvice) solverLine() string {

@@ -81,7 +81,7 @@ func (v *InspectionCalendar) WriteTable(w io.Writer) error {
 			"risk cost: periods in a hidden failure, unseen.",
 		v.adviceLine(),
 		fmt.Sprintf("Present value of the spend over %d years: %s %s (discount factor %s per period, costs at the start of each period).",
-			len(v.Calendar.Years), Money(v.Calendar.PresentValue, 2), v.Currency, Fixed(v.Problem.Discount, 6)),
+			len(v.Calendar.Years), v.money(v.Calendar.PresentValue), v.Currency, Fixed(v.Problem.Discount, 6)),
 		"Counts are expected values (fractions of units), not a work list.",
 		"STATUTORY: " + InspectionRule,
 		LimitSentence(v.Problem),

@@ -679,7 +679,42 @@ func (d *doc) layoutColumns(t *pdfTable) [][]int {
 		cur = append(cur, i)
 		w += minW[i]
 	}
-	return append(groups, cur)
+	groups = append(groups, cur)
+	if even := evenGroups(minW, keep, len(groups)); even != nil {
+		return even
+	}
+	return groups
+}
+
+// evenGroups splits the columns after the keep leading ones into g parts
+// of nearly equal count (the first parts one larger), each with the
+// leading columns; nil when a part would not fit the content width.
+func evenGroups(minW []float64, keep, g int) [][]int {
+	rest := len(minW) - keep
+	var groups [][]int
+	next := keep
+	for k := range g {
+		size := rest / g
+		if k < rest%g {
+			size++
+		}
+		part := make([]int, 0, keep+size)
+		w := 0.0
+		for i := range keep {
+			part = append(part, i)
+			w += minW[i]
+		}
+		for i := next; i < next+size; i++ {
+			part = append(part, i)
+			w += minW[i]
+		}
+		if w > contentW && size > 1 {
+			return nil
+		}
+		groups = append(groups, part)
+		next += size
+	}
+	return groups
 }
 
 // widthsOf scales the relative widths of cols to the content width and

@@ -33,11 +33,12 @@ type PlanReport struct {
 }
 
 // amount formats a sum of money with its currency: no decimals from 100
-// up or for whole amounts, two for other amounts below 100.
+// up or for amounts whole to the currency's minor unit, the minor unit's
+// decimals (MinorUnit) for other amounts below 100.
 func amount(x float64, currency string) string {
 	d := 0
-	if math.Abs(x) < 100 && math.Abs(x-math.Round(x)) >= 0.005 {
-		d = 2
+	if dec := MinorUnit(currency); math.Abs(x) < 100 && math.Abs(x-math.Round(x)) >= math.Pow(10, -float64(dec))/2 {
+		d = dec
 	}
 	return Money(x, d) + " " + currency
 }

@@ -61,8 +61,8 @@ func (r *RobustAdvice) differsSentence() string {
 	parts := make([]string, len(a.Differs))
 	for i, s := range a.Differs {
 		parts[i] = fmt.Sprintf("in %s it is %s where the nominal advice is %s (whose worst case, %s %s, is %s more)", p.States[s],
-			p.Actions[a.Robust.Policy[s]], p.Actions[a.Nominal.Policy[s]], Money(a.NominalWorstCase[s], 2), r.Currency,
-			Money(a.NominalWorstCase[s]-a.Robust.WorstCase[s], 2))
+			p.Actions[a.Robust.Policy[s]], p.Actions[a.Nominal.Policy[s]], r.money(a.NominalWorstCase[s]), r.Currency,
+			r.money(a.NominalWorstCase[s]-a.Robust.WorstCase[s]))
 	}
 	return "The robust advice differs from the nominal advice: " + strings.Join(parts, "; ") + "."
 }
@@ -74,7 +74,7 @@ func (r *RobustAdvice) priceSentence() string {
 		return fmt.Sprintf("Price of robustness: 0 %s: following the robust advice costs nothing more under the nominal matrices.", r.Currency)
 	}
 	return fmt.Sprintf("Price of robustness: %s %s (in %s): what following the robust advice costs under the nominal matrices above the nominal advice, the most over conditions.",
-		Money(a.PriceOfRobustness, 2), r.Currency, r.Problem.States[a.PriceState])
+		r.money(a.PriceOfRobustness), r.Currency, r.Problem.States[a.PriceState])
 }
 
 // solverLines describe the robust and the nominal certificates.
@@ -132,9 +132,9 @@ func (r *RobustAdvice) gainCells(rank int, g robust.Gain) []string {
 	if g.Exact {
 		newR = "0 (known exactly)"
 	}
-	change, where, advice := Money(g.MaxChange, 2), r.Problem.States[g.MaxState], r.adviceChanges(g)
+	change, where, advice := r.money(g.MaxChange), r.Problem.States[g.MaxState], r.adviceChanges(g)
 	if g.Screened {
-		change, where = "0.00", "-"
+		change, where = r.money(0), "-"
 		advice = "cannot change the answer"
 	} else if advice == "" {
 		advice = "none"
@@ -154,8 +154,8 @@ func (r *RobustAdvice) adviceTable() ([]string, []bool, [][]string) {
 		if a.Nominal.Policy[s] != rob.Policy[s] {
 			nominal = p.Actions[a.Nominal.Policy[s]]
 		}
-		rows[s] = []string{r.stateLabel(s), p.Actions[rob.Policy[s]], Money(rob.WorstCase[s], 2), Money(rob.Lower[s], 2), Money(rob.Upper[s], 2),
-			Money(a.NominalCost[s], 2), nominal, Money(a.Price[s], 2)}
+		rows[s] = []string{r.stateLabel(s), p.Actions[rob.Policy[s]], r.money(rob.WorstCase[s]), r.money(rob.Lower[s]), r.money(rob.Upper[s]),
+			r.money(a.NominalCost[s]), nominal, r.money(a.Price[s])}
 	}
 	return header, numeric, rows
 }
@@ -478,13 +478,24 @@ func (r *RobustAdvice) Page() RobustPage {
 	}
 	header, numeric, rows := r.adviceTable()
 	header[0] = "Condition"
-	pg.Advice = PageTable{Header: header, Numeric: numeric, Rows: rows}
+	pg.Advice = PageTable{Header: header, Numeric: numeric, Rows: rows,
+		Note: "Advice: the robust advice. Worst case: a proven upper bound on its expected cost (present value) over every matrix in the sets; " +
+			"lower and upper bound: proven bounds on the least worst case of any policy. Under nominal matrices: the robust advice's expected cost with the config's rows. " +
+			"Nominal advice: the advice for the config's rows (same: as the robust advice). Price: what following the robust advice costs under the nominal matrices " +
+			"above the nominal advice, from that condition."}
 	if len(a.Settle) == 0 {
 		pg.SettleIntro = "No row has a set larger than one point: more data would change nothing."
 	} else {
 		pg.SettleIntro = fmt.Sprintf("Which data would settle it: how much the worst-case cost falls if one row had four times the observations (%s), largest first. "+
 			"Inspect the conditions at the top of this list more closely before the next review.", r.settleRule())
-		pg.Settle = PageTable{Header: settleHeader, Numeric: settleNumeric, Rows: r.settleRows()}
+		pg.Settle = PageTable{Header: settleHeader, Numeric: settleNumeric, Rows: r.settleRows(),
+			Note: "Row: an action and the condition it is taken in (one row of its transition matrix). Observations: the transitions counted in that row " +
+				"(none: known exactly; -: not counted). Radius: the size of the row's set now; with 4× data: its size with four times the observations. " +
+				"Worst case falls by: the largest fall of the worst-case cost over conditions, in the condition under most in. " +
+				"Advice would change in: the conditions whose robust advice would change, and to what."}
+		if n := len(a.Settle) - settleShown; n > 0 {
+			pg.Settle.Note += fmt.Sprintf(" %d further rows are ranked in the JSON and CSV outputs of solve.", n)
+		}
 	}
 	pg.Closing = append(r.solverLines(), r.notes()...)
 	return pg

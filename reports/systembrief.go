@@ -26,12 +26,7 @@ func (b *SystemBrief) Fields() []TextField {
 	for i, c := range s.System.Components {
 		p := fmt.Sprintf("components[%d]", i)
 		out = append(out, TextField{p + ".name", c.Name})
-		for k, st := range c.Model.States {
-			out = append(out, TextField{fmt.Sprintf("%s.states[%d].name", p, k), st.Name})
-		}
-		for k, a := range c.Model.Actions {
-			out = append(out, TextField{fmt.Sprintf("%s.actions[%d].name", p, k), a.Name})
-		}
+		out = append(out, nameFields(p+".", c.Model.StateNames(), c.Model.ActionNames())...)
 	}
 	return out
 }
@@ -88,10 +83,6 @@ func (b *SystemBrief) front() front {
 	}
 	f.recommendation = []string{rec, cost, certificateWords(&s.Header, r.Status, r.Gap, "structured value iteration")}
 	f.notes = append(f.notes, groups...)
-	rate := Percent(s.Discount.RatePerYear(), 2) + " per year (real)"
-	if !s.Discount.ByRate() {
-		rate = "given as a discount factor"
-	}
 	var scales []string
 	for _, c := range sys.Components {
 		scales = append(scales, c.Name+": "+strings.Join(c.Model.StateNames(), ", "))
@@ -101,7 +92,7 @@ func (b *SystemBrief) front() front {
 		downRule = "any component in an unsafe state puts the machine out of use"
 	}
 	f.assumptions = []string{
-		"Discount rate: " + rate + "; discount factor " + Fixed(s.Discount.Factor(), 6) + " per period.",
+		"Discount rate: " + s.rateWords() + "; discount factor " + Fixed(s.Discount.Factor(), 6) + " per period.",
 		"Period: " + Years(s.periodYears()) + "; costs in " + cur + " at constant prices, charged at the start of each period.",
 		"Shutdown: " + s.money(sys.Shutdown) + " " + cur + " in each period with work on any component; " + downRule + ".",
 		"Condition scales, best first: " + strings.Join(scales, "; ") + ".",

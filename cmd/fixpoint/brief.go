@@ -12,6 +12,7 @@ import (
 	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
+	"fixpoint/optimize"
 	"fixpoint/reports"
 )
 
@@ -19,19 +20,34 @@ func (a *app) newBrief() *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "brief FILE -o BRIEF.pdf",
 		Short: "Print the brief of a class config, a system file or a fleet plan as a PDF",
-		Long: `brief solves a class config or a system file and writes a printable PDF. Page 1
-carries the recommendation in plain words with its answer.Certificate, the advice per
-condition (or, for a system, what to do to each component and what to bring
-forward when the machine is stopped anyway, and what joint planning saves), the
-key assumptions, the config file with its SHA-256, the fixpoint version, the
-date, who it was prepared for and by (--prepared-for, --prepared-by), and a
-sign-off. A class brief follows with charts of the condition mix, spend and
-survival over the years, and ends with the answer.Certificate and the inputs. Every
-page carries the caution box. For a fleet file it prints the budget plan.
+		Long: `brief solves a class config, a system file or a fleet file and writes a
+printable PDF. Page 1 is the page to sign: the recommendation in plain words
+with its certificate, a table (the advice per condition; for a system what to
+do to each component, what to bring forward when the machine is stopped
+anyway and what joint planning saves; for a fleet the work list of the first
+period with its cost by class), the key assumptions, the config file with its
+SHA-256, the fixpoint version, the date, who it was prepared for and by
+(--prepared-for, --prepared-by), and a sign-off. What does not fit continues on
+page 2, never the sign-off. Every page carries the caution box.
 
-A class config with criterion: average (or --criterion average) gives the
-long-run average-cost brief: the average cost per year and the relative value
-of each condition instead of present values.
+A class brief follows with charts of the condition mix, spend and survival
+over the years, a page comparing discount rates (discount.compare or --rates),
+the page "How sure are we?" with --robust or the --robust-* settings (as for
+solve: the advice for the worst transition matrices the data allow, beside
+the nominal advice page 1 shows), and the certificate with the inputs. A class
+with criterion: average (or --criterion average) gives the long-run
+average-cost brief. A class with an inspection block gives the joint advice
+(at each inspection the action and when to inspect again, with the statutory
+rule) on page 1, the page "When to look again", and charts of the expected
+inspections and spend per calendar year.
+
+A fleet brief gives the problem solved with its proven bounds and what the
+budget costs on page 1; then the planned spend per calendar year against the
+budget, the deferred units and the condition mix of each class, the inspection
+calendar of classes with an inspection block, the page "Budget plan by
+discount rate" with --rates (bounds and planned spend per year at each rate,
+the years where the plan changes marked), and the files read with their
+SHA-256. --budget, --gap, --years and --rate apply as for plan.
 
 The forecast charts follow --units units (default 100) starting in the best
 state, or the population given by --mix or --from, over --years years
@@ -47,7 +63,9 @@ where they are.`,
   fixpoint brief configs/pumps.yaml -o brief.pdf --rates 2%,4%,6% --date 2026-12-01
   fixpoint brief configs/pumps.yaml -o brief.pdf --prepared-for "Asset board" --prepared-by "R. Example"
   fixpoint brief configs/crane.yaml -o crane-brief.pdf
-  fixpoint brief configs/east-zone.yaml -o fleet-brief.pdf`,
+  fixpoint brief configs/pumps.yaml -o brief.pdf --robust-radius 0.1
+  fixpoint brief configs/relief-valves.yaml -o relief-brief.pdf
+  fixpoint brief configs/east-zone.yaml -o fleet-brief.pdf --rates 3%,5%,7% --prepared-by "R. Example"`,
 		Args: exactArgs(1, "one class config, system file or fleet file"),
 		RunE: func(cmd *cobra.Command, args []string) error { return a.brief(cmd, args[0]) },
 	}
@@ -58,9 +76,10 @@ where they are.`,
 	settings.AddTarget(f)
 	settings.AddStart(f, "100")
 	settings.AddYears(f, "horizon of the charts in `years` (default 20; for a fleet, the fleet file's)")
-	settings.AddRates(f, "annual `rates` to compare on a page of their own (default: the config's discount.compare)")
+	settings.AddRates(f, "annual `rates` to compare on a page of their own (class: default the config's discount.compare; fleet: the plan at each rate)")
 	settings.AddFleet(f)
 	settings.AddSystem(f)
+	settings.AddRobust(f)
 	settings.AddImprint(f)
 	settings.AddDate(f)
 	f.StringP("output", "o", "", "the PDF `file` to write (required)")
@@ -125,28 +144,31 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	write := func(w interface{ WritePDF(io.Writer) error }) error {
 		return glyphHint(path, out.Write(cmd.Context(), a.stdout, func(wr io.Writer) error { return w.WritePDF(wr) }))
 	}
-	if f.Fleet != nil {
-		if err := a.src.NotFor("a fleet file", " (they shape a class or system brief)",
-			"method", "tol", "max-iterations", "rate", "factor", "criterion", "target", "mix", "from", "units", "rates", "inflation",
-			"workers", "max-memory-gib", "prepared-for", "prepared-by", "font"); err != nil {
-			return err
-		}
-		ff := f.Fleet
-		fl, p, err := a.env(cmd).FleetPlan(ff, st.Fleet)
-		if err != nil {
-			return err
-		}
-		view := &reports.PlanReport{Header: a.env(cmd).FleetHeader(ff), Fleet: fl, Plan: p, Warnings: reports.PlanWarnings(fl, p, st.Fleet.Gap, ff.Currency)}
-		return write(&reports.FleetBrief{Plan: view, Date: st.Date})
-	}
 	fonts, err := a.fonts(st.Font)
 	if err != nil {
 		return err
 	}
 	im := reports.Imprint{Date: st.Date, PreparedFor: st.PreparedFor, PreparedBy: st.PreparedBy, Fonts: fonts}
-	if f.System != nil {
+	switch {
+	case f.Fleet != nil:
+		if err := a.src.NotFor("a fleet file", " (they shape a class or system brief)",
+			"method", "tol", "max-iterations", "criterion", "target", "mix", "from", "units", "workers", "max-memory-gib", "max-hours"); err != nil {
+			return err
+		}
+		if err := a.robustNotFor(st.Robust.On, "a fleet file", " (robust advice is for class configs)"); err != nil {
+			return err
+		}
+		b, err := a.env(cmd).FleetBrief(f.Fleet, st, im)
+		if err != nil {
+			return err
+		}
+		return write(b)
+	case f.System != nil:
 		if err := a.src.NotFor("a system file", " (its joint model is solved by value iteration, under the discounted criterion, with no forecast pages)",
 			"method", "criterion", "target", "mix", "from", "units", "years", "rates", "inflation", "budget", "gap"); err != nil {
+			return err
+		}
+		if err := a.robustNotFor(st.Robust.On, "a system file", " (robust advice is for class configs)"); err != nil {
 			return err
 		}
 		view, err := a.env(cmd).SystemAdvice(f.System, st.Override, st.Solver, answer.JointLimits{Workers: st.Workers, MaxMemoryGiB: st.MaxMemoryGiB, MaxHours: st.MaxHours, Report: false})
@@ -161,7 +183,9 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	if err := a.src.NotFor("a class config", " (they apply to fleet or system files)", "budget", "gap", "workers", "max-memory-gib", "max-hours"); err != nil {
 		return err
 	}
-	a.inspectionUnused(cmd, f.Class)
+	if f.Class.Inspection != nil {
+		return a.briefInspection(cmd, f.Class, st, im, write)
+	}
 	r, err := answer.Prepare(f.Class, st.Override, st.Criterion)
 	if err != nil {
 		return err
@@ -170,8 +194,14 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 		if err := a.src.NotFor("the average criterion", " (it has no discounting)", "rate", "factor", "target", "rates", "inflation"); err != nil {
 			return err
 		}
+		if err := a.robustNotFor(st.Robust.On, "the average criterion", " (robust advice is for the discounted criterion)"); err != nil {
+			return err
+		}
 	}
-	b, err := a.env(cmd).ClassBrief(r, st, im)
+	if st.Robust.On && st.Solver.Method == optimize.LinearProgram {
+		return usagef("method lp does not apply to robust advice (the robust problem is not a linear program); use auto, value or policy")
+	}
+	b, err := a.env(cmd).ClassBrief(f.Class, r, st, im)
 	if err != nil {
 		return err
 	}
@@ -181,5 +211,32 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	if r.Average {
 		return answer.AverageCheck(b.Average.Result)
 	}
-	return answer.Check(b.Advice.Result)
+	if err := answer.Check(b.Advice.Result); err != nil || b.Robust == nil {
+		return err
+	}
+	return answer.RobustCheck(b.Robust.Analysis)
+}
+
+// briefInspection writes the brief of a class with an inspection block:
+// the joint advice (action and next inspection) on page 1 and the page
+// "When to look again".
+func (a *app) briefInspection(cmd *cobra.Command, c *modelfile.Class, st settings.Brief, im reports.Imprint, write func(interface{ WritePDF(io.Writer) error }) error) error {
+	why := " (the joint advice of an inspection block is solved under the discounted criterion, with no life figures, no rate comparison and no robust form)"
+	if err := a.src.NotFor("a class with an inspection block", why, append(answer.InspectionNotFor, "rates", "inflation")...); err != nil {
+		return err
+	}
+	if err := a.robustNotFor(st.Robust.On, "a class with an inspection block", why); err != nil {
+		return err
+	}
+	if len(c.Compare) > 0 {
+		a.note(c.Path + ": brief does not compare discount rates for a class with an inspection block (discount.compare is not used)")
+	}
+	b, err := a.env(cmd).InspectionBrief(c, st, im)
+	if err != nil {
+		return err
+	}
+	if err := write(b); err != nil {
+		return err
+	}
+	return answer.InspectionCheck(b.Advice.Result)
 }

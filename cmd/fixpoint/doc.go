@@ -16,7 +16,9 @@
 //	fixpoint plan FILE         fleet          the budget-constrained plan with proven bounds
 //	fixpoint brief FILE -o PDF class, system, fleet  the signable brief (--prepared-for, --prepared-by;
 //	                                          --font or Debian's fonts-droid-fallback for CJK names;
-//	                                          a name no font prints is refused with exit 1)
+//	                                          a name no font prints is refused with exit 1);
+//	                                          --robust adds "How sure are we?" (class), --rates
+//	                                          a page of the advice or the budget plan by rate
 //	fixpoint fit FILE          records CSV    transition rows estimated from inspection records
 //	fixpoint init [PATH]       -              a commented starter of every kind (--kind)
 //	fixpoint completion SHELL  -              a shell completion script (cobra's)
@@ -30,8 +32,9 @@
 // and the hidden-failure figures (--criterion and --target do not apply);
 // forecast counts inspections per calendar year; plan reports each such
 // class's inspection calendar beside the budget plan, which itself assumes
-// the condition known every period; check says the block is valid;
-// compare, sensitivity and brief note that they do not use it. Every
+// the condition known every period; brief shows the joint advice on page
+// 1 and adds the page "When to look again"; check says the block is
+// valid; compare and sensitivity note that they do not use it. Every
 // output says that the statutory interval and a competent person's scheme
 // of examination take precedence over the advised interval.
 //

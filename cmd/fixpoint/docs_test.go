@@ -23,6 +23,7 @@ func TestDocsBriefImages(t *testing.T) {
 		{"brief-class", []string{demo}},
 		{"brief-fleet", []string{demoFleet}},
 		{"brief-system", []string{filepath.Join("..", "..", "configs", "crane.yaml")}},
+		{"brief-inspection", []string{filepath.Join("..", "..", "configs", "relief-valves.yaml")}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			pdf := filepath.Join(t.TempDir(), tc.name+".pdf")

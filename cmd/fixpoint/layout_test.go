@@ -11,6 +11,7 @@ import (
 	"path/filepath"
 	"regexp"
 	"runtime"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -216,26 +217,40 @@ func layoutProblems(t *testing.T, path, date string, signable bool) []string {
 	return problems
 }
 
-// hostile are the hostile class and system files (invented data in
-// testdata/hostile): twelve states with 40-character names and a
+// hostile are the hostile class, system and fleet files (invented data
+// in testdata/hostile): twelve states with 40-character names and a
 // 100-character model name with ten rates; Chinese, Japanese and Korean
 // names with yen near 10^9 and half-year periods; Cyrillic and German
-// names; the average criterion; a machine of six components.
+// names; the average criterion; a machine of six components; a fleet of
+// twenty classes with long names, yen near 10^9 and half-year periods,
+// alone and with ten rates; a fleet with an inspection calendar whose
+// budget cannot cover the mandatory work; robust advice for the twelve
+// states; and an inspection block with 40-character names, yen and
+// half-year periods.
 var hostile = []struct {
 	name string
+	kind string // class, system or fleet
 	args []string
 	cjk  bool
 }{
-	{"long", []string{"testdata/hostile/long.yaml"}, false},
-	{"long-average", []string{"testdata/hostile/long.yaml", "--criterion", "average", "--mix",
+	{"long", "class", []string{"testdata/hostile/long.yaml"}, false},
+	{"long-average", "class", []string{"testdata/hostile/long.yaml", "--criterion", "average", "--mix",
 		"surface_corrosion_with_pitting_grade_00_=40,coating intact minor blistering grade 05=35.5,surface_corrosion_with_pitting_grade_10_=24.5"}, false},
-	{"cjk", []string{"testdata/hostile/cjk.yaml", "--prepared-for", "ケストレル渓谷水道 資産委員会", "--prepared-by", "김 예시"}, true},
-	{"europe", []string{"testdata/hostile/europe.yaml", "--prepared-by", "Jürgen Beispiel-Überprüfer"}, false},
-	{"average", []string{"testdata/hostile/average.yaml"}, false},
-	{"machine6", []string{"testdata/hostile/machine6.yaml", "--prepared-for", "Kestrel Valley operations (invented)"}, false},
-	{"crane", []string{"../../configs/crane.yaml"}, false},
-	{"pumps", []string{demo, "--rates", "0:12%:2%"}, false},
+	{"cjk", "class", []string{"testdata/hostile/cjk.yaml", "--prepared-for", "ケストレル渓谷水道 資産委員会", "--prepared-by", "김 예시"}, true},
+	{"europe", "class", []string{"testdata/hostile/europe.yaml", "--prepared-by", "Jürgen Beispiel-Überprüfer"}, false},
+	{"average", "class", []string{"testdata/hostile/average.yaml"}, false},
+	{"machine6", "system", []string{"testdata/hostile/machine6.yaml", "--prepared-for", "Kestrel Valley operations (invented)"}, false},
+	{"crane", "system", []string{"../../configs/crane.yaml"}, false},
+	{"pumps", "class", []string{demo, "--rates", "0:12%:2%"}, false},
+	{"fleet20", "fleet", []string{hostileFleet, "--prepared-for", "Kestrel Valley asset board (invented)", "--prepared-by", "R. Example"}, false},
+	{"fleet20-rates", "fleet", []string{hostileFleet, "--rates", "1%:10%:1%"}, false},
+	{"relief-fleet", "fleet", []string{"../../configs/relief-fleet.yaml"}, false},
+	{"robust", "class", []string{"testdata/hostile/long.yaml", "--robust-radius", "0.1"}, false},
+	{"inspection", "class", []string{"testdata/hostile/inspection.yaml", "--units", "240"}, false},
 }
+
+// hostileFleet is the fleet of twenty classes.
+const hostileFleet = "testdata/hostile/fleet20/fleet.yaml"
 
 // haveCJKFont skips without the fallback font (Debian fonts-droid-fallback)
 // unless CI=true.
@@ -268,10 +283,15 @@ func TestBriefLayoutHostile(t *testing.T) {
 					words[strings.Trim(w.text, "()[],;")] = true
 				}
 			}
-			if tc.name == "machine6" || tc.name == "crane" {
-				return // system briefs: TestSystemBrief checks their figures
+			var figs []string
+			switch tc.kind {
+			case "system":
+				return // TestSystemBrief checks their figures
+			case "fleet":
+				figs = fleetFigures(t, tc.args[0])
+			default:
+				figs = wholeFigures(t, tc.args)
 			}
-			figs := wholeFigures(t, tc.args)
 			if len(figs) == 0 {
 				t.Fatal("solve gave no figures to look for")
 			}
@@ -318,6 +338,29 @@ func wholeFigures(t *testing.T, args []string) []string {
 	return want
 }
 
+// fleetFigures are the bounds, the cost of the budget, the work list's
+// spend and the planned spend per year that plan --format json gives for
+// a fleet file, formatted as the fleet brief prints them (whole units).
+func fleetFigures(t *testing.T, fleet string) []string {
+	var doc struct {
+		Lower    float64 `json:"lower_bound"`
+		Fluid    float64 `json:"fluid_cost"`
+		Cost     float64 `json:"cost_of_budget"`
+		WorkList struct {
+			Spend float64
+		} `json:"work_list"`
+		Years []struct {
+			Spend float64 `json:"planned_spend"`
+		}
+	}
+	runJSON(t, &doc, "plan", fleet, "--format", "json", "--simulate", "0")
+	want := []string{reports.Money(doc.Lower, 0), reports.Money(doc.Fluid, 0), reports.Money(doc.Cost, 0), reports.Money(doc.WorkList.Spend, 0)}
+	for _, y := range doc.Years {
+		want = append(want, reports.Money(y.Spend, 0))
+	}
+	return want
+}
+
 // A name with a character no font has is refused, naming the character
 // and the field; nothing is written.
 func TestBriefRefusesMissingGlyphs(t *testing.T) {
@@ -348,7 +391,7 @@ func TestBriefDeterministicAcrossCores(t *testing.T) {
 	for _, tc := range hostile {
 		// The class briefs' solvers run on one goroutine; the joint solve
 		// of a system splits its sweeps among the cores.
-		if tc.name != "long" && tc.name != "machine6" && tc.name != "crane" {
+		if !slices.Contains([]string{"long", "machine6", "crane", "relief-fleet", "robust", "inspection"}, tc.name) {
 			continue
 		}
 		t.Run(tc.name, func(t *testing.T) {
@@ -370,36 +413,6 @@ func TestBriefDeterministicAcrossCores(t *testing.T) {
 			}
 		})
 	}
-}
-
-// The current fleet brief, for a fleet of 20 classes, is checked for
-// layout too (it has no sign-off yet).
-func TestFleetBriefLayout20Classes(t *testing.T) {
-	dir := t.TempDir()
-	for _, f := range []string{"pumps.yaml", "valves.yaml"} {
-		data, err := os.ReadFile(filepath.Join("..", "..", "configs", f))
-		if err != nil {
-			t.Fatal(err)
-		}
-		os.WriteFile(filepath.Join(dir, f), data, 0o644)
-	}
-	var fleet, inv strings.Builder
-	fleet.WriteString("# INVENTED: 20 classes of the fictional Kestrel Valley Water\nversion: 1\nname: \"Kestrel Valley all zones (invented), twenty classes\"\ncurrency: EUR\nclasses:\n")
-	inv.WriteString("unit,class,condition\n")
-	for c := range 20 {
-		file, state := "pumps.yaml", "light_wear"
-		if c%2 == 1 {
-			file, state = "valves.yaml", "good"
-		}
-		fmt.Fprintf(&fleet, "  class_%02d_kestrel_zone: %s\n", c+1, file)
-		for u := range 3 {
-			fmt.Fprintf(&inv, "KV-%02d-%d,class_%02d_kestrel_zone,%s\n", c+1, u, c+1, state)
-		}
-	}
-	fleet.WriteString("inventory: inventory.csv\nbudget:\n  years: 10\n  per_year: 90000\n")
-	os.WriteFile(filepath.Join(dir, "inventory.csv"), []byte(inv.String()), 0o644)
-	os.WriteFile(filepath.Join(dir, "fleet.yaml"), []byte(fleet.String()), 0o644)
-	checkLayout(t, writeBrief(t, filepath.Join(dir, "fleet.yaml")), "2026-12-01", false)
 }
 
 // The layout check can fail: a page with overprinted words, a word in

@@ -3,12 +3,9 @@ package main
 import (
 	"github.com/spf13/cobra"
 
-	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
-	"fixpoint/costs"
 	"fixpoint/optimize/fleet"
-	"fixpoint/reports"
 )
 
 func (a *app) newPlan() *cobra.Command {
@@ -69,24 +66,12 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 		}
 		return a.planRates(cmd, ff, st)
 	}
-	var d costs.Discount
-	if st.Override.Given() {
-		if d, err = answer.Override(ff.Classes[0].Period, st.Override); err != nil {
-			return err
-		}
-	}
-	f, p, err := a.env(cmd).FleetPlan(ff, st.Fleet, d)
+	view, err := a.env(cmd).FleetReport(ff, st.Fleet, st.Override)
 	if err != nil {
 		return err
 	}
-	h := a.env(cmd).FleetHeader(ff)
-	h.Discount = f.Discount
-	view := &reports.PlanReport{Header: h, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Fleet.Gap, ff.Currency)}
-	if view.Inspections, err = a.env(cmd).FleetInspections(ff, len(f.Budget)); err != nil {
-		return err
-	}
 	if st.Simulate > 0 {
-		if view.Practice, err = fleet.Simulate(cmd.Context(), f, p, fleet.FollowPractice, st.Simulate, st.Seed, 0, nil); err != nil {
+		if view.Practice, err = fleet.Simulate(cmd.Context(), view.Fleet, view.Plan, fleet.FollowPractice, st.Simulate, st.Seed, 0, nil); err != nil {
 			return err
 		}
 		view.Seed = st.Seed

@@ -151,21 +151,31 @@ func (e *Env) InspectionAdvice(c *modelfile.Class, o settings.Override, s optimi
 // the population start over years whole years (0: 10), every unit
 // inspected at time 0.
 func (e *Env) InspectionCalendar(c *modelfile.Class, start []float64, years float64, o settings.Override, s optimize.Settings) (*reports.InspectionCalendar, error) {
-	if years == 0 {
-		years = 10
-	}
-	if years != math.Trunc(years) {
-		return nil, settings.Errorf("setting years: %g is not a whole number of years; the inspection calendar counts calendar years", years)
+	n, err := calendarYears(years, 10)
+	if err != nil {
+		return nil, err
 	}
 	r, p, res, err := e.InspectionRun(c, o, s)
 	if err != nil {
 		return nil, err
 	}
-	cal, err := p.Calendar(e.Ctx, res.Policy, start, int(years))
+	cal, err := p.Calendar(e.Ctx, res.Policy, start, n)
 	if err != nil {
 		return nil, err
 	}
 	return &reports.InspectionCalendar{Header: e.Header(r.Class), Problem: p, Result: res, Calendar: cal, Start: start}, nil
+}
+
+// calendarYears is the horizon of an inspection calendar: years (0:
+// def), which must be whole.
+func calendarYears(years, def float64) (int, error) {
+	if years == 0 {
+		years = def
+	}
+	if years != math.Trunc(years) {
+		return 0, settings.Errorf("setting years: %g is not a whole number of years; the inspection calendar counts calendar years", years)
+	}
+	return int(years), nil
 }
 
 // InspectionCheckLine says, for check, that a class's inspection block is

@@ -1,6 +1,8 @@
 package answer
 
 import (
+	"path/filepath"
+
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
 	"fixpoint/costs"
@@ -13,6 +15,54 @@ import (
 func (e *Env) FleetHeader(ff *modelfile.Fleet) reports.Header {
 	c := ff.Classes[0]
 	return reports.Header{Model: ff.Name, Currency: ff.Currency, Period: c.Period, Discount: c.Discount, Source: ff.Path, SHA256: ff.SHA256, Version: e.Version}
+}
+
+// FleetReport plans a fleet (at the discount of o when given, else the
+// classes' own) and wraps the plan with its warnings and the inspection
+// calendar of the classes with an inspection block.
+func (e *Env) FleetReport(ff *modelfile.Fleet, st settings.Fleet, o settings.Override) (*reports.PlanReport, error) {
+	var d costs.Discount
+	if o.Given() {
+		var err error
+		if d, err = Override(ff.Classes[0].Period, o); err != nil {
+			return nil, err
+		}
+	}
+	f, p, err := e.FleetPlan(ff, st, d)
+	if err != nil {
+		return nil, err
+	}
+	h := e.FleetHeader(ff)
+	h.Discount = f.Discount
+	view := &reports.PlanReport{Header: h, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Gap, ff.Currency)}
+	if view.Inspections, err = e.FleetInspections(ff, len(f.Budget)); err != nil {
+		return nil, err
+	}
+	return view, nil
+}
+
+// FleetSources are the files a fleet was read from, with their SHA-256:
+// the fleet file (by its name), each class config once in the fleet
+// file's order and the inventory (by their paths from the fleet file's
+// directory, as the fleet file names them), so that the list does not
+// depend on where the command ran.
+func FleetSources(ff *modelfile.Fleet) []reports.SourceFile {
+	dir := filepath.Dir(ff.Path)
+	rel := func(p string) string {
+		if r, err := filepath.Rel(dir, p); err == nil {
+			return filepath.ToSlash(r)
+		}
+		return p
+	}
+	out := []reports.SourceFile{{Role: "fleet file", Path: filepath.Base(ff.Path), SHA256: ff.SHA256}}
+	seen := map[string]bool{}
+	for _, c := range ff.Classes {
+		if !seen[c.Path] {
+			seen[c.Path] = true
+			out = append(out, reports.SourceFile{Role: "class config", Path: rel(c.Path), SHA256: c.SHA256})
+		}
+	}
+	return append(out, reports.SourceFile{Role: "inventory", Path: rel(ff.Inventory), SHA256: ff.InventorySHA256})
 }
 
 // FleetPlan applies --budget and --years to a fleet file and plans it at

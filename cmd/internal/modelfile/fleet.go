@@ -2,7 +2,9 @@ package modelfile
 
 import (
 	"context"
+	"crypto/sha256"
 	"encoding/csv"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -37,8 +39,9 @@ type Fleet struct {
 	// Names and Classes in file order.
 	Names   []string
 	Classes []*Class
-	// Inventory is the path of the inventory CSV.
-	Inventory string
+	// Inventory is the path of the inventory CSV, InventorySHA256 the hex
+	// digest of its bytes.
+	Inventory, InventorySHA256 string
 	// Counts[c][s] are the units of class c in condition s.
 	Counts [][]float64
 	Units  int
@@ -92,6 +95,8 @@ func (ff *Fleet) decode(l *loader, d *doc, root *yaml.Node) {
 			ff.Inventory = path
 			data, err := l.read(path, maxInvBytes)
 			if err == nil {
+				sum := sha256.Sum256(data)
+				ff.InventorySHA256 = hex.EncodeToString(sum[:])
 				err = ff.decodeInventory(d.ctx, path, data)
 			}
 			if err != nil {

@@ -175,7 +175,7 @@ func (l *loader) file(path string, data []byte, want Kind) (*File, error) {
 	}
 	switch f.Kind {
 	case FleetFile:
-		f.Fleet = &Fleet{Path: path, Name: path}
+		f.Fleet = &Fleet{Path: path, Name: path, SHA256: f.SHA256}
 		f.Fleet.decode(l, d, root)
 	case SystemFile:
 		f.System = &System{Header: Header{Path: path, Name: path}}

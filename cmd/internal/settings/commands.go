@@ -486,6 +486,8 @@ type Brief struct {
 	// lack ("" looks for the Droid Sans Fallback font of Debian's
 	// fonts-droid-fallback).
 	Font string
+	// Robust adds the page "How sure are we?" to a class brief.
+	Robust Robust
 }
 
 // AddImprint declares --prepared-for, --prepared-by and --font.
@@ -558,6 +560,9 @@ func (s *Source) Brief(today time.Time, sourceDateEpoch string) (st Brief, err e
 		*k.to = v
 	}
 	st.Font = s.text("font")
+	if st.Robust, err = s.Robust(); err != nil {
+		return
+	}
 	st.Date, err = s.date(today, sourceDateEpoch)
 	return
 }
