@@ -68,17 +68,6 @@ func (b *InspectionBrief) layout() (*doc, error) {
 	return d, nil
 }
 
-// decisions says the advice per condition found: "found good: leave,
-// then inspect again in 9 months; ...".
-func (v *InspectionAdvice) decisions() string {
-	p, r := v.Problem, v.Result
-	parts := make([]string, len(p.States))
-	for s := range p.States {
-		parts[s] = "found " + p.States[s] + ": " + Decision(p, p.Choices[s][r.Policy[s]])
-	}
-	return strings.Join(parts, "; ")
-}
-
 func (b *InspectionBrief) front() front {
 	v := b.Advice
 	p, r, cur := v.Problem, v.Result, v.Currency

@@ -84,15 +84,6 @@ type doc struct {
 	marks map[string]int
 }
 
-// newDoc starts an A4 document with the Go fonts only (see newDocWith).
-func newDoc(title, header string, date time.Time) *doc {
-	d, err := newDocWith(title, header, Imprint{Date: date})
-	if err != nil {
-		panic(err) // the Go fonts always parse
-	}
-	return d
-}
-
 // newDocWith starts an A4 document with the Go fonts (UTF-8, so "€" and
 // accented, Greek and Cyrillic names print) and the imprint's fallback
 // fonts, fixed dates and a sorted catalog for byte-identical output, and
@@ -378,12 +369,6 @@ func (d *doc) textLines(x float64, lines []string, lh float64, align string, w f
 		d.putAligned(x, d.y(), w, lh, l, align)
 		d.setY(d.y() + lh)
 	}
-}
-
-// title starts a page with the brief's title, the model name and the date.
-func (d *doc) title(text, model string, date time.Time) {
-	d.pdf.AddPage()
-	d.titleBlock(text, model, "Date: "+date.Format("2 January 2006")+"   ·   prepared with fixpoint (decision support)", true)
 }
 
 // titleBlock draws (or, with draw false, only measures) the title, the
