@@ -148,6 +148,8 @@ func TestFlagsThatDoNotApply(t *testing.T) {
 		{[]string{"forecast", demoFleet, "--simulate", "10", "--from", "sound"}, "--from does not apply to a fleet file"},
 		{[]string{"forecast", demo, "--from", "sound", "--budget", "5"}, "--budget does not apply to a class config"},
 		{[]string{"solve", demo, "--criterion", "average", "--rate", "3%"}, "--rate does not apply to the average criterion"},
+		{[]string{"solve", "../../configs/relief-valves.yaml", "--robust"}, "--robust does not apply to a class with an inspection block"},
+		{[]string{"solve", "../../configs/relief-valves.yaml", "--robust-radius", "0.1"}, "--robust-radius does not apply to a class with an inspection block"},
 	} {
 		code, _, stderr := runCLI(t, tc.args...)
 		if code != exitUsage || !strings.Contains(stderr, tc.want) {

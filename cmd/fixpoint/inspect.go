@@ -22,6 +22,9 @@ func (a *app) solveInspection(cmd *cobra.Command, c *modelfile.Class, st setting
 		" (it is solved under the discounted criterion, and its long-run inspection figures replace the life figures)", answer.InspectionNotFor...); err != nil {
 		return err
 	}
+	if err := a.robustNotFor(st.Robust.On, "a class with an inspection block", " (robust advice is for classes without one)"); err != nil {
+		return err
+	}
 	view, err := a.env(cmd).InspectionAdvice(c, st.Override, st.Solver)
 	if err != nil {
 		return err

@@ -18,7 +18,7 @@ func (a *app) newSolve() *cobra.Command {
 builds the Markov decision process and solves it to proven optimality. It
 prints, for every condition, the advised action, its expected present-value
 cost, proven lower and upper bounds on the optimal cost, the runner-up action
-and its margin, then the threshold rule and the answer.Certificate.
+and its margin, then the threshold rule and the certificate.
 
 With an inspection block in the class config, solve decides the next inspection
 with the action: per condition "overhaul, then inspect again in 6 months", the
@@ -28,7 +28,7 @@ scheme of examination take precedence over the advised interval.
 
 --robust gives, for a class config, the advice that is best for the worst
 transition matrices its uncertainty block allows (--robust-set, --robust-confidence
-answer.Override the block; --robust-radius R puts one radius on every row), with the
+override the block; --robust-radius R puts one radius on every row), with the
 nominal advice beside it, the price of robustness, the confidence statement and
 which rows more data would settle.
 
