@@ -19,7 +19,7 @@ import (
 func AddSolver(f *pflag.FlagSet) {
 	f.String("method", "auto", "solution method: auto, value, policy or lp")
 	f.String("tol", fmt.Sprint(optimize.DefaultTol), "target proven gap, absolute, in `currency` units")
-	f.String("max-iterations", "0", "cap on sweeps or steps; 0 = the method's default (`n`)")
+	f.String("max-iterations", "0", "cap of `n` sweeps or steps; 0 = the method's default")
 }
 
 // Solver reads --method, --tol and --max-iterations.
@@ -104,9 +104,9 @@ func AddTarget(f *pflag.FlagSet) {
 
 // AddSystem declares --workers and --max-memory-gib.
 func AddSystem(f *pflag.FlagSet) {
-	f.String("workers", "0", "goroutines for a system's joint solve; 0 = all cores (`n`)")
-	f.String("max-memory-gib", "4", "refuse joint models needing more memory than this (`GiB`)")
-	f.String("max-hours", "1", "refuse joint models whose solve may take longer than this (`hours`, an upper bound on the time)")
+	f.String("workers", "0", "`n` goroutines for a system's joint solve; 0 = all cores")
+	f.String("max-memory-gib", "4", "refuse joint models needing more than this many `GiB` of memory")
+	f.String("max-hours", "1", "refuse joint models whose solve may take more than this many `hours` (an upper bound on the time)")
 }
 
 // Criterion reads --criterion.
@@ -224,7 +224,7 @@ type Start struct {
 func AddStart(f *pflag.FlagSet, units string) {
 	f.String("mix", "", "starting units per condition, e.g. `good=30,fair=50,worn=20` (counts or shares)")
 	f.String("from", "", "start every unit in this `state` (with --units)")
-	f.String("units", units, "number of units for --from (`n`)")
+	f.String("units", units, "`n` units, all starting in the --from state")
 }
 
 // Start reads --mix, --from and --units.
@@ -316,8 +316,8 @@ type Fleet struct {
 
 // AddFleet declares --budget and --gap (and --years when withYears).
 func AddFleet(f *pflag.FlagSet) {
-	f.String("budget", "", "budget per year overriding the fleet file (`amount`)")
-	f.String("gap", "0.0001", "target relative gap between the bounds (`g`)")
+	f.String("budget", "", "budget `amount` per year overriding the fleet file")
+	f.String("gap", "0.0001", "target relative gap `g` between the bounds")
 }
 
 // Fleet reads --budget, --years and --gap.
@@ -365,7 +365,7 @@ type Forecast struct {
 // AddSimulation declares --simulate, --seed, --follow and --progress.
 func AddSimulation(f *pflag.FlagSet) {
 	f.String("simulate", "0", "fleet files: Monte-Carlo `runs` of the plan (or of the advice with --follow advice)")
-	f.String("seed", "1", "seed of the random numbers (`n`)")
+	f.String("seed", "1", "seed `n` of the random numbers")
 	f.String("follow", "plan", "fleet files: simulate the plan's policy (plan), the whole-unit practice (practice) or the unconstrained advice (advice)")
 	f.String("progress", "auto", "progress bar on stderr: auto (a terminal and over a second), always or never")
 }
@@ -492,8 +492,8 @@ type Brief struct {
 
 // AddImprint declares --prepared-for, --prepared-by and --font.
 func AddImprint(f *pflag.FlagSet) {
-	f.String("prepared-for", "", "who the brief is prepared for, printed on page 1 (`name`)")
-	f.String("prepared-by", "", "who prepared the brief, printed on page 1 and as the PDF's author (`name`)")
+	f.String("prepared-for", "", "`name` of whom the brief is prepared for, printed on page 1")
+	f.String("prepared-by", "", "`name` of who prepared the brief, printed on page 1 and as the PDF's author")
 	f.String("font", "", "TrueType `file` (.ttf) for characters the built-in fonts lack, such as Chinese, Japanese or Korean "+
 		"(default: Droid Sans Fallback from the Debian package fonts-droid-fallback, when installed)")
 }

@@ -25,7 +25,7 @@ func Reports() []string { return []string{"table", "json", "csv", "xlsx"} }
 // AddOutput declares --format (one of formats, the first the default),
 // --output and --force.
 func AddOutput(f *pflag.FlagSet, formats ...string) {
-	f.String("format", formats[0], "output format: "+strings.Join(formats, ", ")+" (default: from the -o file's extension, else "+formats[0]+")")
+	f.String("format", "", "output format: "+strings.Join(formats, ", ")+" (default: from the -o file's extension, else "+formats[0]+")")
 	f.StringP("output", "o", "", "write to this `file` instead of standard output")
 	f.Bool("force", false, "replace the output file if it exists")
 }
@@ -38,6 +38,9 @@ var extensions = map[string]string{".csv": "csv", ".json": "json", ".yaml": "yam
 // extension is an error.
 func (s *Source) Output(formats ...string) (Output, error) {
 	o := Output{Format: s.text("format"), Path: s.text("output")}
+	if o.Format == "" {
+		o.Format = formats[0]
+	}
 	if o.Path == "-" {
 		o.Path = ""
 	}
