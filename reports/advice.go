@@ -266,9 +266,7 @@ func (a *Advice) json() adviceJSON {
 		Thresholds: a.Thresholds(), Life: a.lifeJSON(), Caution: Caution,
 		Notes: a.notes(r.Policy, p.Actions, a.Warnings),
 	}
-	if rate, ok := a.rate(); ok {
-		out.DiscountRate = &rate
-	}
+	out.DiscountRate = a.jsonRate()
 	tied := tiedActions(p, r.Ties)
 	for s := range r.Policy {
 		st := adviceState{State: p.States[s], Unsafe: a.Unsafe[s], Action: p.Actions[r.Policy[s]],

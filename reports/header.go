@@ -46,6 +46,15 @@ func (h *Header) periodYears() float64 { return h.Period.Years() }
 // rate (rather than a factor).
 func (h *Header) rate() (float64, bool) { return h.Discount.RatePerYear(), h.Discount.ByRate() }
 
+// jsonRate is the discount rate per year for JSON: nil when the discount
+// was given as a factor.
+func (h *Header) jsonRate() *float64 {
+	if rate, ok := h.rate(); ok {
+		return &rate
+	}
+	return nil
+}
+
 // discountLine describes the discounting in words.
 func (h *Header) discountLine() string {
 	s := fmt.Sprintf("Discount factor %s per period of %s", Fixed(h.Discount.Factor(), 6), h.Period)

@@ -472,9 +472,7 @@ func (v *InspectionAdvice) WriteJSON(w io.Writer) error {
 		Certificate: adviceCertificate{MaxGap: r.Gap, BellmanResidual: r.Residual, Status: r.Status.String(), Tolerance: r.Tol, TieTolerance: r.TieTol},
 		Statutory:   InspectionRule, Limit: LimitSentence(p), Timing: InspectionTiming, Notes: v.notes(), Caution: Caution,
 		Fixed: []inspectFixedJSON{}}
-	if rate, ok := v.rate(); ok {
-		out.DiscountRate = &rate
-	}
+	out.DiscountRate = v.jsonRate()
 	tied := make(map[int][]int)
 	for _, t := range r.Ties {
 		tied[t.State] = t.Choices

@@ -345,9 +345,7 @@ func (r *RobustAdvice) json() robustJSON {
 		PriceState: p.States[a.PriceState], Statement: sets.Statement,
 		Sets: []robustSetJSON{}, Settle: []robustGainJSON{}, Notes: r.notes(), Caution: Caution,
 	}
-	if rate, ok := r.rate(); ok {
-		out.DiscountRate = &rate
-	}
+	out.DiscountRate = r.jsonRate()
 	tied := tiedActions(p, rob.Ties)
 	for s := range rob.Policy {
 		st := robustStateJSON{State: p.States[s], Unsafe: r.unsafe(s), Action: p.Actions[rob.Policy[s]],

@@ -118,12 +118,15 @@ func (s *Sensitivity) margins() []sensitivityMargin {
 func (s *Sensitivity) WriteJSON(w io.Writer) error {
 	p, r := s.Problem, s.Result
 	out := struct {
-		Model    string              `json:"model"`
-		Currency string              `json:"currency"`
-		Margins  []sensitivityMargin `json:"margins"`
-		Figures  []sensitivityFigure `json:"figures"`
-		Caution  string              `json:"caution"`
-	}{Model: s.Model, Currency: s.Currency, Margins: append([]sensitivityMargin{}, s.margins()...), Figures: []sensitivityFigure{}, Caution: Caution}
+		Model          string              `json:"model"`
+		Currency       string              `json:"currency"`
+		PeriodYears    float64             `json:"period_years"`
+		DiscountRate   *float64            `json:"discount_rate"`
+		DiscountFactor float64             `json:"discount_factor"`
+		Margins        []sensitivityMargin `json:"margins"`
+		Figures        []sensitivityFigure `json:"figures"`
+		Caution        string              `json:"caution"`
+	}{Model: s.Model, Currency: s.Currency, PeriodYears: s.periodYears(), DiscountRate: s.jsonRate(), DiscountFactor: s.Discount.Factor(), Margins: append([]sensitivityMargin{}, s.margins()...), Figures: []sensitivityFigure{}, Caution: Caution}
 	change := func(state, action int) *sensitivityChange {
 		if state < 0 {
 			return nil

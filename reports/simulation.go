@@ -117,16 +117,20 @@ func (r *SimulationReport) WriteJSON(w io.Writer) error {
 		Expected map[string]map[string]float64   `json:"expected_units"`
 	}
 	out := struct {
-		Model        string    `json:"model"`
-		Runs         int       `json:"runs"`
-		Seed         uint64    `json:"seed"`
-		Follow       string    `json:"follow"`
-		Cost         quantJSON `json:"cost"`
-		ExpectedCost float64   `json:"expected_cost"`
-		Years        []year    `json:"years"`
-		Periods      []period  `json:"periods"`
-		Caution      string    `json:"caution"`
-	}{Model: r.Model, Runs: s.Runs, Seed: r.Seed, Follow: s.Rule.String(), Cost: qj(s.Cost), ExpectedCost: s.ExpectedCost, Caution: Caution}
+		Model          string    `json:"model"`
+		Currency       string    `json:"currency"`
+		PeriodYears    float64   `json:"period_years"`
+		DiscountRate   *float64  `json:"discount_rate"`
+		DiscountFactor float64   `json:"discount_factor"`
+		Runs           int       `json:"runs"`
+		Seed           uint64    `json:"seed"`
+		Follow         string    `json:"follow"`
+		Cost           quantJSON `json:"cost"`
+		ExpectedCost   float64   `json:"expected_cost"`
+		Years          []year    `json:"years"`
+		Periods        []period  `json:"periods"`
+		Caution        string    `json:"caution"`
+	}{Model: r.Model, Currency: r.Currency, PeriodYears: r.periodYears(), DiscountRate: r.jsonRate(), DiscountFactor: r.Discount.Factor(), Runs: s.Runs, Seed: r.Seed, Follow: s.Rule.String(), Cost: qj(s.Cost), ExpectedCost: s.ExpectedCost, Caution: Caution}
 	for y := range s.Spend {
 		out.Years = append(out.Years, year{Year: y + 1, Budget: r.Fleet.Budget[y], Spend: qj(s.Spend[y]), Total: qj(s.Total[y]),
 			ExpectedSpend: s.ExpectedSpend[y], Over: s.OverBudget[y]})

@@ -168,8 +168,7 @@ func (s *SystemAdvice) WriteJSON(w io.Writer) error {
 	}
 	o := out{Model: s.Model, Kind: "system", Currency: s.Currency, PeriodYears: s.periodYears(), DiscountFactor: sys.Discount.Factor(),
 		Method: "value", Iterations: r.Sweeps, Thresholds: s.rulesText(), Caution: Caution, States: make([]systemState, 0, len(r.Policy))}
-	rate := s.Discount.RatePerYear()
-	o.DiscountRate = &rate
+	o.DiscountRate = s.jsonRate()
 	for _, c := range sys.Components {
 		o.Components = append(o.Components, c.Name)
 	}
