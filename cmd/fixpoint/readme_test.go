@@ -7,8 +7,8 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"regexp"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 
