@@ -470,3 +470,36 @@ func TestREADMESynopsis(t *testing.T) {
 		}
 	}
 }
+
+// TestREADMEConfigs writes each ```yaml block preceded by "<!-- checked -->"
+// into configs/ of a scratch copy (so that a fleet's relative paths
+// resolve), without the lines ending in "{...}" (blocks documented
+// elsewhere), and wants `fixpoint check` to accept it.
+func TestREADMEConfigs(t *testing.T) {
+	checked := 0
+	inScratch(t, func() {
+		for _, b := range readmeBlocks(t) {
+			if b.info != "yaml" || strings.TrimSpace(b.before) != "<!-- checked -->" {
+				continue
+			}
+			var keep []string
+			for _, l := range b.body {
+				if code, _, _ := strings.Cut(l, "#"); !strings.HasSuffix(strings.TrimSpace(code), "{...}") {
+					keep = append(keep, l)
+				}
+			}
+			path := filepath.Join("configs", fmt.Sprintf("readme-%d.yaml", b.line))
+			if err := os.WriteFile(path, []byte(strings.Join(keep, "\n")+"\n"), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			var stdout, stderr bytes.Buffer
+			if code := run([]string{"check", path}, bytes.NewReader(nil), &stdout, &stderr); code != 0 {
+				t.Errorf("README.md:%d: fixpoint check: exit %d:\n%s", b.line, code, stderr.String())
+			}
+			checked++
+		}
+	})
+	if checked < 2 {
+		t.Errorf("README.md: %d checked configs, want at least 2", checked)
+	}
+}
