@@ -137,16 +137,16 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
+	fonts, err := a.fonts(st.Font) // before the output check: a font read is an input
+	if err != nil {
+		return err
+	}
 	out := a.target(st.Output)
 	if err := out.Check(); err != nil {
 		return err
 	}
 	write := func(w interface{ WritePDF(io.Writer) error }) error {
 		return glyphHint(path, out.Write(cmd.Context(), a.stdout, func(wr io.Writer) error { return w.WritePDF(wr) }))
-	}
-	fonts, err := a.fonts(st.Font)
-	if err != nil {
-		return err
 	}
 	im := reports.Imprint{Date: st.Date, PreparedFor: st.PreparedFor, PreparedBy: st.PreparedBy, Fonts: fonts}
 	switch {

@@ -365,3 +365,52 @@ func TestSolverEdges(t *testing.T) {
 		t.Errorf("rate 1e-12: exit %d, want a refusal suggesting the average criterion: %s", code, stderr)
 	}
 }
+
+// The output format follows the -o file's extension; an extension naming
+// a kind of file the command does not write, or contradicting --format,
+// is refused before any work and writes nothing; .txt takes any text
+// format; a file read in the run (here the --font file) is never the
+// output.
+func TestOutputExtensions(t *testing.T) {
+	dir := t.TempDir()
+	for _, tc := range []struct {
+		args []string
+		code int
+		want string // in stderr for a refusal; the file's first bytes for a write
+	}{
+		{[]string{"solve", demo, "-o", "a.csv"}, 0, "# Advisory only"},
+		{[]string{"solve", demo, "-o", "a.json"}, 0, "{"},
+		{[]string{"solve", demo, "--format", "csv", "-o", "a.txt"}, 0, "# Advisory only"},
+		{[]string{"solve", demo, "-o", "b.txt"}, 0, "Kestrel Valley"},
+		{[]string{"fit", demoRecords, "--config", demo, "--bootstrap", "0", "-o", "f.json"}, 0, "{"},
+		{[]string{"solve", demo, "--format", "table", "-o", "c.csv"}, exitUsage, "--format table contradicts the output file"},
+		{[]string{"solve", demo, "--format", "xlsx", "-o", "c.txt"}, exitUsage, "--format xlsx contradicts the output file"},
+		{[]string{"solve", demo, "-o", "c.pdf"}, exitUsage, "named as a PDF file, which this command does not write"},
+		{[]string{"plan", demoFleet, "-o", "c.pdf"}, exitUsage, "a PDF brief is written by fixpoint brief"},
+		{[]string{"fit", demoRecords, "--config", demo, "-o", "c.csv"}, exitUsage, "named as a CSV file, which this command does not write (it writes table, json, yaml)"},
+		{[]string{"brief", demo, "-o", "c.csv"}, exitUsage, "name the file .pdf"},
+		{[]string{"brief", demo, "-o", "c.xlsx"}, exitUsage, "named as a workbook"},
+	} {
+		args := append([]string{}, tc.args...)
+		out := filepath.Join(dir, args[len(args)-1])
+		args[len(args)-1] = out
+		code, _, stderr := runCLI(t, args...)
+		data, _ := os.ReadFile(out)
+		switch {
+		case code != tc.code:
+			t.Errorf("%v: exit %d, want %d: %s", tc.args, code, tc.code, stderr)
+		case code != 0 && (!strings.Contains(stderr, tc.want) || data != nil):
+			t.Errorf("%v: stderr %q (file written: %v), want %q and no file", tc.args, stderr, data != nil, tc.want)
+		case code == 0 && !strings.HasPrefix(string(data), tc.want):
+			t.Errorf("%v: the file starts %.40q, want %q", tc.args, data, tc.want)
+		}
+	}
+	font := filepath.Join(dir, "font.ttf")
+	if err := os.WriteFile(font, []byte("not a font"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr := runCLI(t, "brief", demo, "--font", font, "-o", font, "--force")
+	if data, _ := os.ReadFile(font); code != exitUsage || string(data) != "not a font" || !strings.Contains(stderr, "is the input file") {
+		t.Errorf("brief --font F -o F --force: exit %d, %s; the font file now holds %.20q", code, stderr, data)
+	}
+}

@@ -90,7 +90,7 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	merged := a.target(settings.Output{Path: st.Output.Path, Force: st.Output.Force})
+	merged := a.target(settings.Output{Path: st.Output.Path, Force: st.Output.Force, Misnamed: st.Output.Misnamed})
 	if err := merged.Check(); err != nil {
 		return err
 	}

@@ -213,7 +213,7 @@ func (a *app) env(cmd *cobra.Command) *answer.Env {
 
 // target returns where a command writes o, protecting every input.
 func (a *app) target(o settings.Output) outfile.Target {
-	return outfile.Target{Path: o.Path, Force: o.Force, Inputs: a.inputs, Notes: a.note}
+	return outfile.Target{Path: o.Path, Force: o.Force, Inputs: a.inputs, Notes: a.note, Refuse: o.Misnamed}
 }
 
 // note prints a note on stderr; warn a warning.

@@ -51,6 +51,10 @@ type Target struct {
 	// Notes receives what the write did that the user should know
 	// (a read-only file replaced); may be nil.
 	Notes func(string)
+	// Refuse, when set, is returned by Check after the inputs are
+	// checked (an output named as a kind of file the command does not
+	// write).
+	Refuse error
 }
 
 // Check refuses an output that is one of the inputs, a directory, or an
@@ -68,6 +72,9 @@ func (t Target) Check() error {
 		if sameFile(in, real, info) {
 			return &Error{fmt.Sprintf("output %s is the input file %s; fixpoint never overwrites a file it reads", t.Path, in)}
 		}
+	}
+	if t.Refuse != nil {
+		return t.Refuse
 	}
 	switch {
 	case info == nil:

@@ -15,6 +15,10 @@ type Output struct {
 	// Path is the output file, or "" for standard output.
 	Path  string
 	Force bool
+	// Misnamed refuses an output file named as a kind of file the command
+	// does not write (-o advice.pdf for solve). It is reported by the
+	// output check after the check that the output is not an input.
+	Misnamed error
 }
 
 // Reports are the formats of the commands whose results are tables
@@ -53,15 +57,49 @@ func (s *Source) Output(formats ...string) (Output, error) {
 	switch {
 	case !slices.Contains(formats, o.Format):
 		return o, Errorf("unknown format %q; want one of %s", clip(o.Format), strings.Join(formats, ", "))
-	case o.Path == "" || !known || !slices.Contains(formats, implied):
-		// An extension this command does not write says nothing.
+	case o.Path == "" || !known:
+		// No extension, or one that says nothing about the format.
+	case implied == "table" && o.Format != "pdf" && o.Format != "xlsx":
+		// .txt holds any text format.
+	case !slices.Contains(formats, implied):
+		o.Misnamed = Errorf("the output file %s is named as %s, which this command does not write (it writes %s)%s; name the file %s",
+			o.Path, fileKind[implied], strings.Join(formats, ", "), briefHint(implied), extensionsOf(formats))
+		return o, nil
 	case !s.given("format"):
 		o.Format = implied
-	case implied != o.Format && implied != "table":
-		return o, Errorf("--format %s contradicts the output file %s (a %s file); drop --format or rename the file", o.Format, o.Path, implied)
+	case implied != o.Format:
+		return o, Errorf("--format %s contradicts the output file %s (named as %s); drop --format or rename the file", o.Format, o.Path, fileKind[implied])
 	}
 	if o.Format == "xlsx" && o.Path == "" {
 		return o, Errorf("--format xlsx writes a workbook, which goes to a file, not to standard output: give -o FILE.xlsx")
 	}
 	return o, nil
+}
+
+// fileKind names the kind of file an extension implies, for messages.
+var fileKind = map[string]string{"csv": "a CSV file", "json": "a JSON file", "yaml": "a YAML file", "pdf": "a PDF file",
+	"xlsx": "a workbook", "table": "a text file"}
+
+// briefHint points from a PDF output to the brief command.
+func briefHint(format string) string {
+	if format == "pdf" {
+		return "; a PDF brief is written by fixpoint brief"
+	}
+	return ""
+}
+
+// extensionsOf lists the file extensions of formats, for messages.
+func extensionsOf(formats []string) string {
+	var exts []string
+	for _, f := range formats {
+		for _, e := range []string{".txt", ".csv", ".json", ".yaml", ".xlsx", ".pdf"} {
+			if extensions[e] == f {
+				exts = append(exts, e)
+			}
+		}
+	}
+	if len(exts) == 1 {
+		return exts[0]
+	}
+	return strings.Join(exts[:len(exts)-1], ", ") + " or " + exts[len(exts)-1] + " (or with no extension)"
 }
