@@ -3,6 +3,7 @@ package reports
 import (
 	"fmt"
 	"io"
+	"slices"
 	"strconv"
 
 	"fixpoint/costs"
@@ -22,6 +23,23 @@ type PlanRates struct {
 	Discounts []costs.Discount
 	Plans     []*fleet.Plan
 	Changed   [][]bool
+	// Inflation is the annual inflation rate when HasInflation: the rates
+	// were given as nominal and converted to real by the Fisher relation.
+	Inflation    float64
+	HasInflation bool
+}
+
+// nominal is the nominal rate of plan i (with inflation).
+func (r *PlanRates) nominal(i int) float64 {
+	return costs.NominalRate(r.Discounts[i].RatePerYear(), r.Inflation)
+}
+
+// ratesAre says what the rates are, for titles and JSON.
+func (r *PlanRates) ratesAre() string {
+	if r.HasInflation {
+		return fmt.Sprintf("real rates, converted from nominal at %s inflation by the Fisher relation", Percent(r.Inflation, 2))
+	}
+	return "real rates"
 }
 
 // measure is one per-year figure of the plans: its title, its value,
@@ -43,13 +61,18 @@ func (r *PlanRates) measures() []measure {
 	}
 }
 
-func (r *PlanRates) rateLabel(i int) string { return Percent(r.Discounts[i].RatePerYear(), 2) }
+func (r *PlanRates) rateLabel(i int) string {
+	if r.HasInflation {
+		return Percent(r.nominal(i), 2) + " (real " + Percent(r.Discounts[i].RatePerYear(), 2) + ")"
+	}
+	return Percent(r.Discounts[i].RatePerYear(), 2)
+}
 
 // WriteTable writes the bounds at each rate, then one table per figure
 // with a row per year and a column per rate; a "*" marks a year whose plan
 // differs from the plan at the rate to its left.
 func (r *PlanRates) WriteTable(w io.Writer) error {
-	fmt.Fprintf(w, "%s: budget plan by discount rate (real rates; %s)\n", r.Model, r.Currency)
+	fmt.Fprintf(w, "%s: budget plan by discount rate (%s; %s)\n", r.Model, r.ratesAre(), r.Currency)
 	var rows [][]string
 	for i, p := range r.Plans {
 		rows = append(rows, []string{r.rateLabel(i), Money(p.Lower, 0), Money(p.Fluid, 0), Percent(max(0, p.Gap), 3), Money(p.Unconstrained, 0),
@@ -102,6 +125,7 @@ type planRateYear struct {
 
 type planRate struct {
 	Rate           float64        `json:"rate"`
+	Nominal        *float64       `json:"nominal_rate,omitempty"`
 	DiscountFactor float64        `json:"discount_factor"`
 	Problem        string         `json:"problem"`
 	Lower          float64        `json:"lower_bound"`
@@ -118,6 +142,10 @@ func (r *PlanRates) rows() []planRate {
 		d := r.Discounts[i]
 		pr := planRate{Rate: d.RatePerYear(), DiscountFactor: d.Factor(), Problem: p.Statement.Kind.String(), Lower: p.Lower, Fluid: p.Fluid,
 			Gap: max(0, p.Gap), Unconstrained: p.Unconstrained, CostOfBudget: p.Fluid - p.Unconstrained}
+		if r.HasInflation {
+			nom := r.nominal(i)
+			pr.Nominal = &nom
+		}
 		deferred := p.YearDeferred()
 		for y, b := range r.Fleet.Budget {
 			pr.Years = append(pr.Years, planRateYear{Year: y + 1, Budget: b, PlannedSpend: p.Spend[y], MandatorySpend: p.Mandatory[y],
@@ -138,24 +166,55 @@ func (r *PlanRates) WriteJSON(w io.Writer) error {
 		Currency    string     `json:"currency"`
 		PeriodYears float64    `json:"period_years"`
 		RatesAre    string     `json:"rates_are"`
+		Inflation   *float64   `json:"inflation"`
 		Rates       []planRate `json:"rates"`
 		Caution     string     `json:"caution"`
-	}{r.Model, r.Currency, r.periodYears(), "real", r.rows(), Caution})
+	}{r.Model, r.Currency, r.periodYears(), ratesAreJSON(r.HasInflation), inflationJSON(r.Inflation, r.HasInflation), r.rows(), Caution})
 }
 
-// WriteCSV writes one row per rate and year after the comment lines:
-// rate, year, budget, planned_spend, planned_mandatory_spend,
-// deferred_units, budget_price, changed.
+// ratesAreJSON and inflationJSON are the "rates_are" and "inflation" of
+// the JSON of comparisons and plans across rates.
+func ratesAreJSON(hasInflation bool) string {
+	if hasInflation {
+		return "real, converted from nominal by the Fisher relation"
+	}
+	return "real"
+}
+
+func inflationJSON(inflation float64, has bool) *float64 {
+	if !has {
+		return nil
+	}
+	return &inflation
+}
+
+// WriteCSV writes one row per rate and year after the comment lines (a
+// rates line saying whether they were converted from nominal): rate,
+// nominal_rate (empty without inflation), discount_factor, problem,
+// lower_bound, fluid_cost, gap, unconstrained_cost, cost_of_budget (the
+// plan's figures, repeated on each of its rows), year, budget,
+// planned_spend, planned_mandatory_spend, deferred_units, budget_price,
+// changed.
 func (r *PlanRates) WriteCSV(w io.Writer) error {
 	if err := r.writeCSVPreamble(w, "expected present cost of the fleet at each rate (fluid plan)"); err != nil {
 		return err
 	}
+	if _, err := fmt.Fprintf(w, "# rates: %s\n", r.ratesAre()); err != nil {
+		return err
+	}
 	cw := newCSV(w)
-	cw.Write([]string{"rate", "year", "budget", "planned_spend", "planned_mandatory_spend", "deferred_units", "budget_price", "changed"})
+	cw.Write([]string{"rate", "nominal_rate", "discount_factor", "problem", "lower_bound", "fluid_cost", "gap", "unconstrained_cost", "cost_of_budget",
+		"year", "budget", "planned_spend", "planned_mandatory_spend", "deferred_units", "budget_price", "changed"})
 	for _, pr := range r.rows() {
+		nom := ""
+		if pr.Nominal != nil {
+			nom = Fixed(*pr.Nominal, 8)
+		}
+		plan := []string{Fixed(pr.Rate, 8), nom, Fixed(pr.DiscountFactor, 8), pr.Problem, Fixed(pr.Lower, 6), Fixed(pr.Fluid, 6),
+			strconv.FormatFloat(pr.Gap, 'g', 6, 64), Fixed(pr.Unconstrained, 6), Fixed(pr.CostOfBudget, 6)}
 		for _, y := range pr.Years {
-			cw.Write([]string{Fixed(pr.Rate, 8), strconv.Itoa(y.Year), Fixed(y.Budget, 6), Fixed(y.PlannedSpend, 6), Fixed(y.MandatorySpend, 6),
-				Fixed(y.DeferredUnits, 6), Fixed(y.BudgetPrice, 6), strconv.FormatBool(y.Changed)})
+			cw.Write(append(slices.Clone(plan), strconv.Itoa(y.Year), Fixed(y.Budget, 6), Fixed(y.PlannedSpend, 6), Fixed(y.MandatorySpend, 6),
+				Fixed(y.DeferredUnits, 6), Fixed(y.BudgetPrice, 6), strconv.FormatBool(y.Changed)))
 		}
 	}
 	cw.Flush()

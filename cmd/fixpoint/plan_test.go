@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
@@ -235,5 +236,41 @@ func TestPlanAcrossRates(t *testing.T) {
 	}
 	if code, _, stderr := runCLI(t, "plan", demoFleet, "--rates", "3%,5%", "--rate", "4%"); code != exitUsage || !strings.Contains(stderr, "--rate does not apply to a plan across rates") {
 		t.Errorf("--rates with --rate: exit %d, %s", code, stderr)
+	}
+}
+
+// plan --rates takes the rates lowest first, each once, so that "changed"
+// always compares with the next lower rate; with --inflation the rates
+// are nominal, converted by the Fisher relation, and the JSON and CSV
+// carry both.
+func TestPlanRatesOrderAndInflation(t *testing.T) {
+	code, stdout, stderr := runCLI(t, "plan", demoFleet, "--rates", "7%,3%,7%", "--inflation", "2%", "--format", "json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var doc struct {
+		Inflation *float64 `json:"inflation"`
+		Rates     []struct {
+			Rate    float64  `json:"rate"`
+			Nominal *float64 `json:"nominal_rate"`
+		} `json:"rates"`
+	}
+	if err := json.Unmarshal([]byte(stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if doc.Inflation == nil || math.Abs(*doc.Inflation-0.02) > 1e-15 || len(doc.Rates) != 2 {
+		t.Fatalf("inflation %v, %d rates; want 0.02 and 2 rates", doc.Inflation, len(doc.Rates))
+	}
+	for i, nominal := range []float64{0.03, 0.07} {
+		real := (1+nominal)/1.02 - 1 // the Fisher relation, computed here
+		r := doc.Rates[i]
+		if r.Nominal == nil || math.Abs(*r.Nominal-nominal) > 1e-12 || math.Abs(r.Rate-real) > 1e-12 {
+			t.Errorf("rates[%d] = real %g nominal %v, want real %g nominal %g", i, r.Rate, r.Nominal, real, nominal)
+		}
+	}
+	code, stdout, _ = runCLI(t, "plan", demoFleet, "--rates", "7%,3%", "--inflation", "2%", "--format", "csv")
+	if code != 0 || !strings.Contains(stdout, "\n# rates: real rates, converted from nominal at 2.00% inflation by the Fisher relation\n") ||
+		!strings.Contains(stdout, "\nrate,nominal_rate,discount_factor,problem,lower_bound,fluid_cost,gap,") || !strings.Contains(stdout, ",0.03000000,") {
+		t.Errorf("plan --rates --inflation CSV lacks the rates line, the plan columns or the nominal rate:\n%.900s", stdout)
 	}
 }

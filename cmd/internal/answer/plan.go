@@ -2,6 +2,7 @@ package answer
 
 import (
 	"path/filepath"
+	"slices"
 
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
@@ -110,7 +111,13 @@ func (e *Env) PlanRates(ff *modelfile.Fleet, st settings.Fleet, rates settings.R
 	period := ff.Classes[0].Period
 	view := &reports.PlanRates{Header: e.FleetHeader(ff)}
 	view.Discount = costs.Discount{} // each plan has its own
-	for _, r := range rates.List {
+	view.Inflation, view.HasInflation = rates.Inflation, rates.HasInflation
+	// Lowest rate first (the Fisher relation keeps the order), each once,
+	// so that a year marked changed differs from the next lower rate.
+	list := slices.Clone(rates.List)
+	slices.Sort(list)
+	list = slices.Compact(list)
+	for _, r := range list {
 		if rates.HasInflation {
 			r = costs.RealRate(r, rates.Inflation)
 		}
