@@ -49,8 +49,8 @@ func (a *app) newCheck() *cobra.Command {
 					return &modelfile.Fault{File: path, Msg: modelfile.Plain(err)}
 				}
 				bytes := est.Bytes
-				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, up to %s of memory and about %s to solve (upper bounds)\n",
-					path, f.System.Name, len(f.System.Components), reports.Money(n, 0), reports.Money(acts, 0), answer.ByteSizeText(bytes), answer.DurationText(est.Seconds))
+				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, up to %s of memory and %s to solve (upper bounds)\n",
+					path, f.System.Name, len(f.System.Components), reports.Money(n, 0), reports.Money(acts, 0), answer.ByteSizeText(bytes), answer.AboutDuration(est.Seconds))
 			default:
 				c := f.Class
 				disc := "average criterion (no discounting)"

@@ -4,6 +4,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 )
@@ -143,5 +144,32 @@ func TestSystemTimeGuard(t *testing.T) {
 		if code, _, stderr := runCLI(t, append([]string{"solve", demoSystem}, bad...)...); code != exitUsage {
 			t.Errorf("%v: exit %d, want 2: %s", bad, code, stderr)
 		}
+	}
+}
+
+// An uncertified joint solve says why, with the remedy that fits: with
+// costs near 10^12 the iteration converges and the rounding allowance of
+// float64 keeps the gap above the tolerance (loosen --tol; raising
+// --max-iterations would not help), while a cap of 2 sweeps is a cap.
+func TestSystemUncertifiedRemedy(t *testing.T) {
+	data, err := os.ReadFile(demoSystem)
+	if err != nil {
+		t.Fatal(err)
+	}
+	num := regexp.MustCompile(`: (\d{2,})\b`)
+	lines := strings.Split(string(data), "\n")
+	for i, l := range lines {
+		if strings.Contains(l, "cost") {
+			lines[i] = num.ReplaceAllString(l, ": ${1}0000000")
+		}
+	}
+	huge := writeFile(t, "huge-crane.yaml", strings.Join(lines, "\n"))
+	code, _, stderr := runCLI(t, "solve", huge, "--format", "json")
+	if code != exitUncertified || !strings.Contains(stderr, "allowance for floating-point rounding") || strings.Contains(stderr, "--max-iterations") {
+		t.Errorf("solve (costs near 1e11): exit %d, %s; want 3 and the rounding remedy", code, stderr)
+	}
+	code, _, stderr = runCLI(t, "solve", demoSystem, "--max-iterations", "2", "--format", "json")
+	if code != exitUncertified || !strings.Contains(stderr, "stopped at its cap of 2 sweeps; raise --max-iterations") {
+		t.Errorf("solve --max-iterations 2: exit %d, %s; want 3 and the cap remedy", code, stderr)
 	}
 }

@@ -204,6 +204,13 @@ type Result struct {
 	RunnerUp []int32
 	Margin   []float64
 	Workers  int
+	// Rounding is the width the floating-point rounding allowance adds to
+	// every bracket; Shortfall says why Status is NotCertified:
+	// optimize.IterationCap (MaxSweeps reached first) or
+	// optimize.RoundingFloor (the iteration converged, the allowance is
+	// what keeps Gap above Tol).
+	Rounding  float64
+	Shortfall optimize.Shortfall
 }
 
 // Settings controls Solve.
@@ -313,6 +320,12 @@ func Solve(ctx context.Context, sys *Machine, s *Settings) (*Result, error) {
 			lo, hi = span(st.best, v)
 			r.Sweeps = sweep + 1
 			r.finish(j, v, st, lo, hi, prevLower)
+			if r.Status != optimize.Certified {
+				r.Shortfall = optimize.RoundingFloor
+				if gap > set.Tol/2 {
+					r.Shortfall = optimize.IterationCap
+				}
+			}
 			if err := ctx.Err(); err != nil {
 				return nil, err
 			}
@@ -356,6 +369,7 @@ func (r *Result) finish(j *joint, v []float64, st *sweepState, lo, hi float64, p
 		terms *= longest
 	}
 	round := float64(terms+3*j.k) * 0x1p-52 * (cmax + vmax) / (1 - g)
+	r.Rounding = 2 * round
 	for s := range n {
 		r.Policy[s] = st.arg[s]
 		r.Lower[s] = max(st.best[s]+g/(1-g)*lo, prevLower[s]) - round

@@ -75,13 +75,14 @@ func (e *Env) sizeGuard(sf *modelfile.System, m *system.Machine, s *system.Setti
 			reports.Money(est.States, 0), reports.Money(est.Actions, 0), ByteSizeText(est.Bytes), DurationText(est.Seconds), est.Sweeps, est.Workers, strings.Join(over, " and "))}
 	}
 	if est.Seconds > 10 {
-		e.Note(fmt.Sprintf("the joint model has %s states and %s actions: up to %s of memory and up to %d sweeps, about %s at most (an upper bound: real solves took 3 to 16 times fewer sweeps)",
-			reports.Money(est.States, 0), reports.Money(est.Actions, 0), ByteSizeText(est.Bytes), est.Sweeps, DurationText(est.Seconds)))
+		e.Note(fmt.Sprintf("the joint model has %s states and %s actions: up to %s of memory and up to %d sweeps, %s at most (an upper bound: real solves took 3 to 16 times fewer sweeps)",
+			reports.Money(est.States, 0), reports.Money(est.Actions, 0), ByteSizeText(est.Bytes), est.Sweeps, AboutDuration(est.Seconds)))
 	}
 	return nil
 }
 
-// DurationText formats seconds: "40 s", "12.5 min", "3.2 h".
+// DurationText formats seconds: "40 s", "12.5 min", "3.2 h", "under a
+// second"; AboutDuration prefixes "about" where it reads well.
 func DurationText(s float64) string {
 	switch {
 	case s >= 3600:
@@ -93,6 +94,13 @@ func DurationText(s float64) string {
 		return "under a second"
 	}
 	return fmt.Sprintf("%.0f s", s)
+}
+
+func AboutDuration(s float64) string {
+	if s < 1 {
+		return DurationText(s)
+	}
+	return "about " + DurationText(s)
 }
 
 // ByteSizeText formats a byte count for messages: "1.5 GiB".
@@ -160,6 +168,9 @@ func SystemCheck(r *system.Result) error {
 	if r.Status == optimize.Certified {
 		return nil
 	}
-	return &Uncertified{fmt.Sprintf("the answer is not certified: proven gap %.3g is above the tolerance %.3g after %d sweeps; raise --max-iterations or loosen --tol",
-		r.Gap, r.Tol, r.Sweeps)}
+	if r.Shortfall == optimize.RoundingFloor {
+		return Certificate{Status: r.Status, Shortfall: r.Shortfall, Gap: r.Gap, Tol: r.Tol, Rounding: r.Rounding}.Err()
+	}
+	return &Uncertified{fmt.Sprintf("the answer is not certified: proven gap %.3g is above the tolerance %.3g: the solver stopped at its cap of %d sweeps; raise --max-iterations or loosen --tol",
+		r.Gap, r.Tol, r.Sweeps-1)} // the last sweep is the certificate's
 }
