@@ -225,7 +225,7 @@ func (c *Comparison) WriteJSON(w io.Writer) error { return writeJSON(w, c.json()
 // condition: rate, nominal_rate (empty without inflation), discount_factor,
 // state, action, value (empty at rate 0), equivalent_annual_cost, changed.
 func (c *Comparison) WriteCSV(w io.Writer) error {
-	if err := c.writeCSVPreamble(w, "expected discounted cost at each rate below (rate 0: long-run average)"); err != nil {
+	if err := c.writeCSVPreambleRates(w, "expected discounted cost at each rate below (rate 0: long-run average)", csvRatesLine(c.HasInflation, c.Inflation)); err != nil {
 		return err
 	}
 	cw := newCSV(w)

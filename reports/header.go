@@ -107,6 +107,21 @@ func writeCSVNotes(w io.Writer, notes []string) error {
 // caution, then what its numbers are (model, currency, period, discount
 // or criterion), so that a bare file still says what it holds.
 func (h *Header) writeCSVPreamble(w io.Writer, criterion string) error {
+	return h.writeCSVPreambleRates(w, criterion, "")
+}
+
+// csvRatesLine says what the rates of a CSV's rows are, for its rates line.
+func csvRatesLine(hasInflation bool, inflation float64) string {
+	if hasInflation {
+		return fmt.Sprintf("real rates per year in the rate column, converted from the nominal rates in the nominal_rate column at %s inflation by the Fisher relation", Percent(inflation, 2))
+	}
+	return "real rates per year, in the rate column"
+}
+
+// writeCSVPreambleRates is writeCSVPreamble for a file whose rows run at
+// several rates: with rates non-empty, a rates line saying what the rates
+// are takes the place of the config's own discount, which no row uses.
+func (h *Header) writeCSVPreambleRates(w io.Writer, criterion, rates string) error {
 	lines := []string{Caution, "model: " + h.Model, "currency: " + h.Currency}
 	if h.Period.Valid() {
 		lines = append(lines, "period: "+h.Period.String())
@@ -117,7 +132,10 @@ func (h *Header) writeCSVPreamble(w io.Writer, criterion string) error {
 	case criterion != "":
 		lines = append(lines, "criterion: "+criterion)
 	}
-	if !h.Discount.IsZero() && criterion != "average" {
+	switch {
+	case rates != "":
+		lines = append(lines, "rates: "+rates+"; costs at the start of each period")
+	case !h.Discount.IsZero() && criterion != "average":
 		lines = append(lines, "discount: "+h.Discount.String()+"; costs at the start of each period")
 	}
 	for _, l := range lines {

@@ -196,10 +196,7 @@ func inflationJSON(inflation float64, has bool) *float64 {
 // planned_spend, planned_mandatory_spend, deferred_units, budget_price,
 // changed.
 func (r *PlanRates) WriteCSV(w io.Writer) error {
-	if err := r.writeCSVPreamble(w, "expected present cost of the fleet at each rate (fluid plan)"); err != nil {
-		return err
-	}
-	if _, err := fmt.Fprintf(w, "# rates: %s\n", r.ratesAre()); err != nil {
+	if err := r.writeCSVPreambleRates(w, "expected present cost of the fleet at each rate (fluid plan)", csvRatesLine(r.HasInflation, r.Inflation)); err != nil {
 		return err
 	}
 	cw := newCSV(w)

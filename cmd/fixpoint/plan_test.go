@@ -269,7 +269,7 @@ func TestPlanRatesOrderAndInflation(t *testing.T) {
 		}
 	}
 	code, stdout, _ = runCLI(t, "plan", demoFleet, "--rates", "7%,3%", "--inflation", "2%", "--format", "csv")
-	if code != 0 || !strings.Contains(stdout, "\n# rates: real rates, converted from nominal at 2.00% inflation by the Fisher relation\n") ||
+	if code != 0 || !strings.Contains(stdout, "\n# rates: real rates per year in the rate column, converted from the nominal rates in the nominal_rate column at 2.00% inflation by the Fisher relation; costs at the start of each period\n") ||
 		!strings.Contains(stdout, "\nrate,nominal_rate,discount_factor,problem,lower_bound,fluid_cost,gap,") || !strings.Contains(stdout, ",0.03000000,") {
 		t.Errorf("plan --rates --inflation CSV lacks the rates line, the plan columns or the nominal rate:\n%.900s", stdout)
 	}
