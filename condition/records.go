@@ -46,34 +46,80 @@ const MaxRecords = 2_000_000
 // "did you mean" hint. A missing header or column, or more than MaxRecords
 // records, is an error.
 func ReadRecords(r io.Reader, states []string) ([]Record, []Warning, error) {
-	return readRecords(r, states, MaxRecords)
+	recs, _, warn, err := readRecords(r, states, MaxRecords, false)
+	return recs, warn, err
 }
 
-func readRecords(r io.Reader, states []string, limit int) ([]Record, []Warning, error) {
+// RecordSurvey describes a records file read without a condition scale:
+// the conditions and work it names, in order of first appearance, its
+// units and its span of dates.
+type RecordSurvey struct {
+	Records, Units int
+	Conditions     []string
+	Actions        []string
+	// First and Last are the earliest and latest dates (days since
+	// 1970-01-01); both 0 without records.
+	First, Last int
+}
+
+// SurveyRecords reads records as ReadRecords does, but takes every
+// condition name as it comes instead of checking it against a scale: what
+// a file holds before it is fitted against a class config. Records with
+// no unit or a bad date are reported as warnings and left out.
+func SurveyRecords(r io.Reader) (*RecordSurvey, []Warning, error) {
+	recs, conds, warn, err := readRecords(r, nil, MaxRecords, true)
+	if err != nil {
+		return nil, nil, err
+	}
+	sv := &RecordSurvey{Records: len(recs), Conditions: conds}
+	units := map[string]bool{}
+	acts := map[string]bool{}
+	for i, rec := range recs {
+		units[rec.Unit] = true
+		if rec.Action != "" && !acts[rec.Action] {
+			acts[rec.Action] = true
+			sv.Actions = append(sv.Actions, rec.Action)
+		}
+		if i == 0 || rec.Day < sv.First {
+			sv.First = rec.Day
+		}
+		if i == 0 || rec.Day > sv.Last {
+			sv.Last = rec.Day
+		}
+	}
+	sv.Units = len(units)
+	return sv, warn, nil
+}
+
+// readRecords reads records against states; with open, a condition not in
+// states is appended to them instead of being left out. It returns the
+// states it ends with.
+func readRecords(r io.Reader, states []string, limit int, open bool) ([]Record, []string, []Warning, error) {
+	states = slices.Clone(states)
 	cr := csv.NewReader(r)
 	cr.FieldsPerRecord = -1
 	cr.Comment = '#'
 	cr.ReuseRecord = true
 	header, err := cr.Read()
 	if errors.Is(err, io.EOF) {
-		return nil, nil, errors.New("condition: records: the file is empty; want a header unit,date,condition[,action]")
+		return nil, nil, nil, errors.New("condition: records: the file is empty; want a header unit,date,condition[,action]")
 	}
 	if err != nil {
-		return nil, nil, fmt.Errorf("condition: records: %w", err)
+		return nil, nil, nil, fmt.Errorf("condition: records: %w", err)
 	}
 	col := map[string]int{"unit": -1, "date": -1, "condition": -1, "action": -1}
 	for i, h := range header {
 		h = strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))
 		if j, ok := col[h]; ok {
 			if j >= 0 {
-				return nil, nil, fmt.Errorf("condition: records: line 1: column %q appears twice", h)
+				return nil, nil, nil, fmt.Errorf("condition: records: line 1: column %q appears twice", h)
 			}
 			col[h] = i
 		}
 	}
 	for _, name := range []string{"unit", "date", "condition"} {
 		if col[name] < 0 {
-			return nil, nil, fmt.Errorf("condition: records: line 1: the header has no %q column; want unit,date,condition[,action]", name)
+			return nil, nil, nil, fmt.Errorf("condition: records: line 1: the header has no %q column; want unit,date,condition[,action]", name)
 		}
 	}
 	index := make(map[string]int, len(states))
@@ -87,6 +133,7 @@ func readRecords(r io.Reader, states []string, limit int) ([]Record, []Warning, 
 		near = newSuggester(states)
 	)
 	noUnit := &problemKind{many: "%d records have no unit and are left out"}
+	noCond := &problemKind{many: "%d records have no condition and are left out"}
 	badDate := &problemKind{many: "%d records have a date that is not YYYY-MM-DD and are left out"}
 	unknown := &problemKind{many: "%d records have an unknown condition and are left out", tail: "; want one of " + want}
 	field := func(rec []string, name string) string {
@@ -103,13 +150,13 @@ func readRecords(r io.Reader, states []string, limit int) ([]Record, []Warning, 
 		if err != nil {
 			var pe *csv.ParseError
 			if errors.As(err, &pe) {
-				return nil, nil, fmt.Errorf("condition: records: line %d: %v", pe.Line, pe.Err)
+				return nil, nil, nil, fmt.Errorf("condition: records: line %d: %v", pe.Line, pe.Err)
 			}
-			return nil, nil, fmt.Errorf("condition: records: %w", err)
+			return nil, nil, nil, fmt.Errorf("condition: records: %w", err)
 		}
 		line, _ := cr.FieldPos(0)
 		if len(out) >= limit {
-			return nil, nil, fmt.Errorf("condition: records: more than %d records; split the file", limit)
+			return nil, nil, nil, fmt.Errorf("condition: records: more than %d records; split the file", limit)
 		}
 		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
 			continue
@@ -124,7 +171,16 @@ func readRecords(r io.Reader, states []string, limit int) ([]Record, []Warning, 
 			log.add(badDate, line, fmt.Sprintf("date %s is not YYYY-MM-DD; record left out", quoted(date)), quoted(date))
 			continue
 		}
+		if open && cond == "" {
+			log.add(noCond, line, "no condition; record left out", "")
+			continue
+		}
 		s, ok := index[cond]
+		if !ok && open {
+			s, ok = len(states), true
+			index[cond] = s
+			states = append(states, cond)
+		}
 		if !ok {
 			// The message of a lone occurrence and the short detail
 			// are built for the first few occurrences only.
@@ -145,7 +201,7 @@ func readRecords(r io.Reader, states []string, limit int) ([]Record, []Warning, 
 	}
 	warn := log.warnings()
 	slices.SortStableFunc(warn, func(a, b Warning) int { return a.Line - b.Line })
-	return out, warn, nil
+	return out, states, warn, nil
 }
 
 // parseDay parses YYYY-MM-DD strictly (years 1000..9999) into days since

@@ -2,6 +2,7 @@ package condition
 
 import (
 	"fmt"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -93,7 +94,7 @@ func TestBuildPanelReportsProblems(t *testing.T) {
 
 func TestReadRecordsLimit(t *testing.T) {
 	in := "unit,date,condition\n" + strings.Repeat("a,2020-01-01,good\n", 11)
-	if _, _, err := readRecords(strings.NewReader(in), scale3, 10); err == nil || !strings.Contains(err.Error(), "more than 10 records; split the file") {
+	if _, _, _, err := readRecords(strings.NewReader(in), scale3, 10, false); err == nil || !strings.Contains(err.Error(), "more than 10 records; split the file") {
 		t.Errorf("err = %v", err)
 	}
 }
@@ -230,5 +231,35 @@ func TestBuildPanelSummarisesRepeats(t *testing.T) {
 				t.Errorf("BuildPanel(%d units of each fault): warnings lack %q:\n%s", n, want, text)
 			}
 		}
+	}
+}
+
+// SurveyRecords takes conditions as they come, in order of first
+// appearance, and still leaves out records with no unit, no condition or a
+// bad date, with warnings (hand-made file; expected values counted by hand).
+func TestSurveyRecords(t *testing.T) {
+	in := "unit,date,condition,action\n" +
+		"u1,2021-01-01,good,\n" +
+		"u1,2022-01-01,fair,\n" +
+		"u2,2020-06-30,good,\n" +
+		"u2,2023-03-01,poor,repair\n" +
+		",2021-01-01,good,\n" +
+		"u3,2021-02-30,good,\n" +
+		"u3,2021-03-01,,\n"
+	sv, warn, err := SurveyRecords(strings.NewReader(in))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if sv.Records != 4 || sv.Units != 2 || !slices.Equal(sv.Conditions, []string{"good", "fair", "poor"}) || !slices.Equal(sv.Actions, []string{"repair"}) {
+		t.Errorf("survey %+v", sv)
+	}
+	if d, _ := parseDay("2020-06-30"); sv.First != d {
+		t.Errorf("first day %d, want %d", sv.First, d)
+	}
+	if d, _ := parseDay("2023-03-01"); sv.Last != d {
+		t.Errorf("last day %d, want %d", sv.Last, d)
+	}
+	if len(warn) != 3 {
+		t.Errorf("want 3 warnings (no unit, bad date, no condition), got %v", warn)
 	}
 }

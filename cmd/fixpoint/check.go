@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"io"
 	"os"
 	"slices"
 
@@ -18,17 +19,29 @@ import (
 func (a *app) newCheck() *cobra.Command {
 	return &cobra.Command{
 		Use:   "check FILE",
-		Short: "Validate a class config, system file or fleet file and list every problem found",
+		Short: "Validate a class config, system file, fleet file or inspection records and list every problem found",
 		Example: `  fixpoint check configs/pumps.yaml
-  fixpoint check configs/east-zone.yaml`,
-		Args: exactArgs(1, "one class config, system or fleet file"),
+  fixpoint check configs/east-zone.yaml
+  fixpoint check configs/pump-inspections.csv`,
+		Args: exactArgs(1, "one class config, system, fleet or inspection-records file"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			path := args[0]
-			f, err := a.load(cmd, path, modelfile.ClassFile, modelfile.SystemFile, modelfile.FleetFile)
+			f, err := a.load(cmd, path, modelfile.ClassFile, modelfile.SystemFile, modelfile.FleetFile, modelfile.RecordsFile)
 			if err != nil {
 				return err
 			}
 			switch {
+			case f.Kind == modelfile.RecordsFile:
+				fh, err := os.Open(f.Path)
+				if err != nil {
+					return &modelfile.Fault{File: path, Msg: modelfile.OpenProblem(err)}
+				}
+				defer fh.Close()
+				line, err := answer.RecordsCheck(cmd.Context(), path, io.LimitReader(fh, maxRecordBytes), a.warn)
+				if err != nil {
+					return err
+				}
+				fmt.Fprintln(a.stdout, line)
 			case f.Fleet != nil:
 				ff := f.Fleet
 				fmt.Fprintf(a.stdout, "%s: ok: fleet %q, %s, %s, %s of budget, periods of %s\n",
@@ -114,6 +127,9 @@ is an invented placeholder. init never overwrites a file.`,
 				return err
 			}
 			if path == "-" {
+				if len(files) > 1 {
+					return usagef("a %s starter is %d files (the fleet file, its class config and its inventory); give a path, not -", kind, len(files))
+				}
 				_, err := a.stdout.Write(files[0].Data)
 				return err
 			}

@@ -38,7 +38,7 @@ var kinds = []string{"class", "system", "fleet", "records", "inventory", "settin
 // arguments that job needs.
 var accepts = map[string]map[string][]string{
 	"solve":       {"class": nil, "system": nil},
-	"check":       {"class": nil, "system": nil, "fleet": nil},
+	"check":       {"class": nil, "system": nil, "fleet": nil, "records": nil},
 	"compare":     {"class": nil},
 	"sensitivity": {"class": nil},
 	"forecast":    {"class": {"--from", "sound"}, "fleet": {"--simulate", "20"}},

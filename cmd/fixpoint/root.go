@@ -170,7 +170,7 @@ var takers = map[modelfile.Kind]string{
 	modelfile.ClassFile:     "solve, check, compare, sensitivity, forecast and brief take class configs",
 	modelfile.SystemFile:    "solve, check and brief take system files",
 	modelfile.FleetFile:     "plan, check, brief and forecast --simulate take fleet files",
-	modelfile.RecordsFile:   "fit takes inspection-records CSV files",
+	modelfile.RecordsFile:   "fit and check take inspection-records CSV files",
 	modelfile.InventoryFile: "an inventory is read through the fleet file that names it (plan, check, brief, forecast --simulate)",
 	modelfile.SettingsFile:  "a settings file is given with --settings FILE",
 	modelfile.EmptyFile:     "write a model with fixpoint init",

@@ -1,13 +1,18 @@
 package answer
 
 import (
+	"context"
 	"errors"
+	"fmt"
+	"io"
+	"runtime"
+	"strings"
+	"time"
+
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
 	"fixpoint/condition"
-	"fmt"
-	"runtime"
-	"strings"
+	"fixpoint/reports"
 )
 
 // EstimateError reports a failed estimate; when the records could not
@@ -48,4 +53,43 @@ func FitOptions(st settings.Fit, states []string, period float64, passive int) c
 	}
 	o.Bootstrap, o.Seed, o.Level, o.Workers = st.Bootstrap, st.Seed, st.Level, max(1, min(workers, 64))
 	return o
+}
+
+// RecordsCheck reads an inspection-records CSV without a condition scale
+// and says in one line what it holds, for check; its data problems go to
+// warn. A file with no usable record is a fault listing them.
+func RecordsCheck(ctx context.Context, path string, r io.Reader, warn func(string)) (string, error) {
+	sv, ws, err := condition.SurveyRecords(r)
+	if err != nil {
+		return "", &modelfile.Fault{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: records: ")}
+	}
+	if err := ctx.Err(); err != nil {
+		return "", err
+	}
+	if sv.Records == 0 {
+		return "", EstimateError(path, &condition.InsufficientDataError{Msg: "no usable records"}, ws)
+	}
+	for _, w := range ws {
+		if w.Line > 0 {
+			warn(fmt.Sprintf("%s:%d: %s", path, w.Line, w.Message))
+		} else {
+			warn(path + ": " + w.Message)
+		}
+	}
+	day := func(d int) string { return time.Unix(int64(d)*86400, 0).UTC().Format("2006-01-02") }
+	work := "none recorded"
+	if len(sv.Actions) > 0 {
+		work = strings.Join(sv.Actions, ", ")
+	}
+	return fmt.Sprintf("%s: ok: inspection records, %s of %s from %s to %s; conditions named: %s; work: %s (fit them against a class config with fixpoint fit %s --config CLASS.yaml)",
+		path, plural(sv.Records, "record", "records"), plural(sv.Units, "unit", "units"), day(sv.First), day(sv.Last),
+		strings.Join(sv.Conditions, ", "), work, path), nil
+}
+
+// plural says n things: "1 record", "3 records".
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return reports.Money(float64(n), 0) + " " + many
 }
