@@ -650,6 +650,8 @@ func workbookCases(t *testing.T) []struct {
 	calendar := []string{"By year", "Advice", "Charts", "Summary", "Assumptions"}
 	robust := []string{"Robust advice", "Settle", "Sets", "Summary", "Assumptions"}
 	yenValves := variant(t, reliefValves, "currency: EUR", "currency: JPY")
+	formulaValves := variant(t, reliefValves, `"Kestrel Valley pressure relief valves (invented demo)"`, `'=HYPERLINK("http://example.invalid","open me")'`,
+		"stuck", `"@stuck"`, "good", `"+good"`, "passing", `"-passing"`)
 	planRates := []string{"Bounds by rate", "Planned spend", "Mandatory spend", "Deferred units", "Budget price", "Assumptions"}
 	simulation := []string{"By year", "Units per period", "Charts", "Summary", "Assumptions"}
 	return []struct {
@@ -667,6 +669,7 @@ func workbookCases(t *testing.T) []struct {
 		{"solve/system", []string{"solve", demoSystem}, []string{"Components", "Grouping", "Joint advice", "Summary", "Assumptions"}, 0, checkSystem},
 		{"solve/inspection", []string{"solve", reliefValves}, inspection, 0, checkInspectionAdvice},
 		{"solve/inspection-yen", []string{"solve", yenValves}, inspection, 0, checkInspectionAdvice},
+		{"solve/inspection-formula-names", []string{"solve", formulaValves}, inspection, 0, checkInspectionAdvice},
 		{"solve/robust", []string{"solve", demo, "--robust-radius", "0.5"}, robust, 0, checkRobust},
 		{"solve/robust-yen", []string{"solve", yen, "--robust-radius", "0.1"}, robust, 0, checkRobust},
 		{"solve/robust-confidence", []string{"solve", fittedDemo, "--robust-confidence", "0.9"}, robust, 0, checkRobust},
@@ -680,6 +683,7 @@ func workbookCases(t *testing.T) []struct {
 		{"forecast/two-year", []string{"forecast", twoYears, "--mix", "sound=60,light_wear=30,heavy_wear=10", "--years", "20"}, forecast, 2, checkForecast},
 		{"forecast/average", []string{"forecast", average, "--from", "sound"}, forecast, 2, checkForecast},
 		{"forecast/inspection", []string{"forecast", reliefValves, "--from", "good", "--units", "50", "--years", "8"}, calendar, 2, checkInspectionCalendar},
+		{"forecast/inspection-formula-names", []string{"forecast", formulaValves, "--from", "+good", "--units", "20"}, calendar, 2, checkInspectionCalendar},
 		{"forecast/inspection-mix", []string{"forecast", reliefValves, "--mix", "good=30,sluggish=15,stuck=5", "--years", "12"}, calendar, 2, checkInspectionCalendar},
 		{"plan", []string{"plan", demoFleet, "--simulate", "200"}, plan, 4, checkPlan},
 		{"plan/mandatory-first", []string{"plan", demoFleet, "--budget", "0", "--simulate", "0"}, plan, 3, checkPlan},
@@ -888,6 +892,13 @@ func TestWorkbooksSecondReader(t *testing.T) {
 		{"solve/robust-formula-names", "Robust advice", "A4", [3]any{"s", "+sound", "General"}},
 		{"solve/robust-formula-names", "Robust advice", "A6", [3]any{"s", "@heavy_wear", "General"}},
 		{"plan", "Condition mix", "B4", [3]any{"n", nil, "0.00%"}},
+		{"solve/inspection-formula-names", "Advice", "A4", [3]any{"s", "+good", "General"}},
+		{"solve/inspection-formula-names", "Advice", "A6", [3]any{"s", "@stuck", "General"}},
+		{"solve/inspection-formula-names", "Advice", "A7", [3]any{"s", "-passing", "General"}},
+		{"solve/inspection-formula-names", "Fixed intervals", "D3", [3]any{"s", "extra cost from +good (EUR)", "General"}},
+		{"forecast/inspection-formula-names", "Advice", "A4", [3]any{"s", "+good", "General"}},
+		{"forecast/inspection-formula-names", "By year", "A2", [3]any{"s", `=HYPERLINK("http://example.invalid","open me"): expected inspections and spend per calendar year ` +
+			"under the inspection advice (20.00 units, every one inspected at the start of year 1; EUR, undiscounted)", "General"}},
 	} {
 		got := value(tc.book, tc.sheet, tc.ref)
 		if got[0] != tc.want[0] || got[2] != tc.want[2] || tc.want[1] != nil && !sameCell(got[1], tc.want[1]) {
