@@ -18,15 +18,16 @@ import (
 // plan's shares and expected units per class and condition, the
 // condition mix of each class per calendar year, the inspection calendar
 // (when the fleet has one), a chart of the planned spend against the
-// budget (and one of the simulated practice, when simulated) and one of
-// each class's condition mix (up to fleetChartClasses classes), the
+// budget (and one of the simulated practice, when simulated), one of the
+// units deferred per period and one of each class's condition mix (up to
+// fleetChartClasses classes), the
 // problem solved with its bounds, and the assumptions.
 func (r *PlanReport) WriteXLSX(w io.Writer) error {
 	p, cur := r.Plan, r.Currency
 	b := newWorkbook(&r.Header, "budget plan of a fleet")
 	years, at := r.yearSheet(b)
 	r.workListSheet(b)
-	r.periodSheets(b)
+	byPeriod := r.periodSheets(b)
 	mix, classCols := r.mixSheet(b)
 	if len(r.Inspections) > 0 {
 		inspectionSheet(b, r.Inspections, cur)
@@ -39,7 +40,8 @@ func (r *PlanReport) WriteXLSX(w io.Writer) error {
 			"Work spend per year of the simulated whole-unit practice (median and P10-P90) against the plan and the budget")
 		next += 22
 	}
-	r.mixCharts(charts, next, mix, classCols)
+	deferredChart(charts, next, byPeriod, len(r.Plan.PeriodYear))
+	r.mixCharts(charts, next+21, mix, classCols)
 	r.summarySheet(b)
 	facts := append([]fact{{"criterion", "expected present cost of the fleet under the yearly budgets (expected-count model)"}},
 		r.discountFacts()...)
@@ -193,8 +195,9 @@ func periodCells(p *fleet.Plan, k int) []any {
 
 // periodSheets adds the figures per period, the plan's shares per
 // class, condition and action, and the expected units per class and
-// condition.
-func (r *PlanReport) periodSheets(b *workbook) {
+// condition; it returns the sheet of the figures per period, whose last
+// column is the units deferred.
+func (r *PlanReport) periodSheets(b *workbook) *sheet {
 	p, f, cur := r.Plan, r.Fleet, r.Currency
 	lead := periodColumns(p.Period)
 	s := b.sheet("By period", r.Model+": the plan per period (expected-count model)",
@@ -229,6 +232,27 @@ func (r *PlanReport) periodSheets(b *workbook) {
 	for _, sh := range []*sheet{shares, counts} {
 		sh.note("Beyond period 1 the fleet's condition is not known: these are the plan's policy and its expected units (fractions of units), not a work list.")
 	}
+	return s
+}
+
+// deferredChart places at row of s a column chart of the expected units
+// deferred per period (as the brief draws them), read from the last
+// column of the sheet of figures per period.
+func deferredChart(s *sheet, row int, byPeriod *sheet, periods int) {
+	if periods == 0 {
+		return
+	}
+	last, col := byPeriod.data+periods-1, len(byPeriod.cols)
+	gap, vary := uint(50), false
+	s.chart(1, row, &excelize.Chart{Type: excelize.Col, GapWidth: &gap, VaryColors: &vary,
+		Series: []excelize.ChartSeries{{Name: byPeriod.cellRef(col, headRow), Categories: byPeriod.ref(1, byPeriod.data, last),
+			Values: byPeriod.ref(col, byPeriod.data, last), Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{hex(stateRamp[2])}}}},
+		Title:     chartTitle("Units deferred (expected): the unconstrained advice would work on them, the plan waits"),
+		Legend:    excelize.ChartLegend{Position: "bottom"},
+		Dimension: excelize.ChartDimension{Width: 760, Height: 380},
+		XAxis:     excelize.ChartAxis{Title: chartTitle("period")},
+		YAxis:     excelize.ChartAxis{MajorGridLines: true, Title: chartTitle("units")},
+	})
 }
 
 // yearPeriod is the period whose starting units stand for calendar year

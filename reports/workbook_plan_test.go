@@ -35,8 +35,8 @@ func chartXML(t *testing.T, b []byte) []string {
 func TestPlanWorkbookCharts(t *testing.T) {
 	r := planReport(t, testFleet(t, 1, []float64{30, 15, 5}, 20000, 5), true)
 	charts := chartXML(t, xlsxBytes(t, r))
-	if len(charts) != 3 {
-		t.Fatalf("%d charts, want 3 (spend against the budget, practice bands, condition mix)", len(charts))
+	if len(charts) != 4 {
+		t.Fatalf("%d charts, want 4 (spend against the budget, practice bands, units deferred, condition mix)", len(charts))
 	}
 	spend := charts[0]
 	bar, line := strings.Index(spend, "<barChart>"), strings.Index(spend, "<lineChart>")
@@ -60,7 +60,10 @@ func TestPlanWorkbookCharts(t *testing.T) {
 	}
 	// The condition mix: the class's three conditions stacked, read from
 	// the Condition mix sheet, on a share axis from 0 to 1.
-	mix := charts[2]
+	if deferred := charts[2]; !strings.Contains(deferred, "<f>&#39;By period&#39;!$D$4:$D$8</f>") {
+		t.Errorf("deferred chart: it does not read the units deferred ('By period'!$D$4:$D$8)")
+	}
+	mix := charts[3]
 	for _, want := range []string{`<grouping val="stacked">`, "<f>&#39;Condition mix&#39;!$B$4:$B$8</f>", "<f>&#39;Condition mix&#39;!$D$4:$D$8</f>",
 		`<max val="1">`, `<min val="0">`, `formatCode="0%"`} {
 		if !strings.Contains(mix, want) {
