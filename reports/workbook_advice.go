@@ -5,6 +5,8 @@ import (
 	"io"
 	"math"
 
+	"github.com/xuri/excelize/v2"
+
 	"fixpoint/optimize"
 )
 
@@ -146,6 +148,33 @@ func (a *Advice) lifeWorkbook(b *workbook) {
 		}
 		s.add(k, a.Period.Start(k), left, l.PolicySurvival[0][k])
 	}
+	a.survivalChart(s, passive, l.Horizon+1)
+}
+
+// survivalChart places beside the Survival table a native line chart of
+// its curves against the years (as the brief draws them): under the
+// advice, and left alone where that is defined.
+func (a *Advice) survivalChart(s *sheet, passive bool, rows int) {
+	last := s.data + rows - 1
+	cats := s.ref(2, s.data, last)
+	line := func(col int, colour rgb, dash excelize.LineDashType) excelize.ChartSeries {
+		fill := excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{hex(colour)}}
+		return excelize.ChartSeries{Name: s.cellRef(col, headRow), Categories: cats, Values: s.ref(col, s.data, last), Fill: fill,
+			Line: excelize.LineOptions{Type: excelize.LineSolid, Width: 2, Dash: dash}, Marker: excelize.ChartMarker{Symbol: "none"}}
+	}
+	series := []excelize.ChartSeries{line(4, ink, excelize.LineDashSolid)}
+	if passive {
+		series = append(series, line(3, stateRamp[2], excelize.LineDashDash))
+	}
+	top, bottom := 1.0, 0.0
+	s.chart(6, s.data, &excelize.Chart{Type: excelize.Line, Series: series,
+		Title:     chartTitle(fmt.Sprintf("Survival: probability that one unit starting %s has not yet reached %s", a.Problem.States[0], a.targetName())),
+		Legend:    excelize.ChartLegend{Position: "bottom"},
+		Dimension: excelize.ChartDimension{Width: 640, Height: 360},
+		XAxis:     excelize.ChartAxis{Title: chartTitle("after (years)"), TickLabelSkip: max(1, rows/10)},
+		YAxis: excelize.ChartAxis{MajorGridLines: true, Maximum: &top, Minimum: &bottom,
+			NumFmt: excelize.ChartNumFmt{CustomNumFmt: "0%"}, Title: chartTitle("probability")},
+	})
 }
 
 // WriteXLSX writes the average-criterion answer as a workbook: the advice

@@ -16,24 +16,32 @@ import (
 // WriteXLSX writes the plan as a workbook: the figures per calendar year,
 // the whole-unit work list of period 1, the figures per period, the
 // plan's shares and expected units per class and condition, the
-// inspection calendar (when the fleet has one), a chart of the planned
-// spend against the budget (and one of the simulated practice, when
-// simulated), the problem solved with its bounds, and the assumptions.
+// condition mix of each class per calendar year, the inspection calendar
+// (when the fleet has one), a chart of the planned spend against the
+// budget (and one of the simulated practice, when simulated), one of the
+// units deferred per period and one of each class's condition mix (up to
+// fleetChartClasses classes), the
+// problem solved with its bounds, and the assumptions.
 func (r *PlanReport) WriteXLSX(w io.Writer) error {
 	p, cur := r.Plan, r.Currency
 	b := newWorkbook(&r.Header, "budget plan of a fleet")
 	years, at := r.yearSheet(b)
 	r.workListSheet(b)
-	r.periodSheets(b)
+	byPeriod := r.periodSheets(b)
+	mix, classCols := r.mixSheet(b)
 	if len(r.Inspections) > 0 {
 		inspectionSheet(b, r.Inspections, cur)
 	}
-	charts := b.sheet("Charts", r.Model+": the plan's spend per calendar year against the budget")
+	charts := b.sheet("Charts", r.Model+": the plan's spend per calendar year against the budget, and the condition mix of each class")
 	spendChart(charts, years, at, len(r.Fleet.Budget), cur)
+	next := charts.data + 22
 	if r.Practice != nil {
-		bandChart(charts, charts.data+22, years, at, len(r.Fleet.Budget), cur,
+		bandChart(charts, next, years, at, len(r.Fleet.Budget), cur,
 			"Work spend per year of the simulated whole-unit practice (median and P10-P90) against the plan and the budget")
+		next += 22
 	}
+	deferredChart(charts, next, byPeriod, len(r.Plan.PeriodYear))
+	r.mixCharts(charts, next+21, mix, classCols)
 	r.summarySheet(b)
 	facts := append([]fact{{"criterion", "expected present cost of the fleet under the yearly budgets (expected-count model)"}},
 		r.discountFacts()...)
@@ -187,8 +195,9 @@ func periodCells(p *fleet.Plan, k int) []any {
 
 // periodSheets adds the figures per period, the plan's shares per
 // class, condition and action, and the expected units per class and
-// condition.
-func (r *PlanReport) periodSheets(b *workbook) {
+// condition; it returns the sheet of the figures per period, whose last
+// column is the units deferred.
+func (r *PlanReport) periodSheets(b *workbook) *sheet {
 	p, f, cur := r.Plan, r.Fleet, r.Currency
 	lead := periodColumns(p.Period)
 	s := b.sheet("By period", r.Model+": the plan per period (expected-count model)",
@@ -222,6 +231,109 @@ func (r *PlanReport) periodSheets(b *workbook) {
 	shares.note("A condition's shares sum to 100%; the passive action's share is the units left alone. Period 1's work list rounds these shares to whole units on the inventory.")
 	for _, sh := range []*sheet{shares, counts} {
 		sh.note("Beyond period 1 the fleet's condition is not known: these are the plan's policy and its expected units (fractions of units), not a work list.")
+	}
+	return s
+}
+
+// deferredChart places at row of s a column chart of the expected units
+// deferred per period (as the brief draws them), read from the last
+// column of the sheet of figures per period.
+func deferredChart(s *sheet, row int, byPeriod *sheet, periods int) {
+	if periods == 0 {
+		return
+	}
+	last, col := byPeriod.data+periods-1, len(byPeriod.cols)
+	gap, vary := uint(50), false
+	s.chart(1, row, &excelize.Chart{Type: excelize.Col, GapWidth: &gap, VaryColors: &vary,
+		Series: []excelize.ChartSeries{{Name: byPeriod.cellRef(col, headRow), Categories: byPeriod.ref(1, byPeriod.data, last),
+			Values: byPeriod.ref(col, byPeriod.data, last), Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{hex(stateRamp[2])}}}},
+		Title:     chartTitle("Units deferred (expected): the unconstrained advice would work on them, the plan waits"),
+		Legend:    excelize.ChartLegend{Position: "bottom"},
+		Dimension: excelize.ChartDimension{Width: 760, Height: 380},
+		XAxis:     excelize.ChartAxis{Title: chartTitle("period")},
+		YAxis:     excelize.ChartAxis{MajorGridLines: true, Title: chartTitle("units")},
+	})
+}
+
+// yearPeriod is the period whose starting units stand for calendar year
+// y: the first period that starts in it, else (a period longer than a
+// year) the period it lies in.
+func yearPeriod(p *fleet.Plan, y int) int {
+	at := 0
+	for k, py := range p.PeriodYear {
+		if py == y {
+			return k
+		}
+		if py < y {
+			at = k
+		}
+	}
+	return at
+}
+
+// mixSheet adds the condition mix of each class per calendar year: the
+// share of the class's expected units in each condition at the start of
+// the year. It returns the sheet and the column (1-based) of each
+// class's first condition.
+func (r *PlanReport) mixSheet(b *workbook) (*sheet, []int) {
+	p, f := r.Plan, r.Fleet
+	cols := columnList{{"year", intCell}}
+	at := make([]int, len(f.Classes))
+	for c, fc := range f.Classes {
+		at[c] = len(cols) + 1
+		for s := range fc.Model.States {
+			cols.add(fc.Name+": "+r.stateName(c, s), percentCell)
+		}
+	}
+	s := b.sheet("Condition mix", r.Model+": condition mix of each class per calendar year, the share of its expected units in each condition at the start of the year, under the plan", cols...)
+	for y := range f.Budget {
+		k := yearPeriod(p, y)
+		row := []any{y + 1}
+		for c := range f.Classes {
+			total := 0.0
+			for _, x := range p.Expected[c][k] {
+				total += x
+			}
+			for _, x := range p.Expected[c][k] {
+				row = append(row, x/total)
+			}
+		}
+		s.add(row...)
+	}
+	s.note("Units at the start of the year's first period (of the period the year lies in when a period is longer than a year). " +
+		"Beyond period 1 the fleet's condition is not known: these are the plan's expected units (fractions of units), not a work list.")
+	return s, at
+}
+
+// mixCharts places at row of s a stacked column chart of the condition
+// mix per calendar year of each class, up to fleetChartClasses of them,
+// read from the sheet mix whose class blocks start at the columns at.
+func (r *PlanReport) mixCharts(s *sheet, row int, mix *sheet, at []int) {
+	f := r.Fleet
+	last := mix.data + len(f.Budget) - 1
+	if len(f.Budget) == 0 {
+		return
+	}
+	cats := mix.ref(1, mix.data, last)
+	gap, overlap, vary := uint(40), 100, false
+	top, bottom := 1.0, 0.0
+	for c, fc := range f.Classes[:min(len(f.Classes), fleetChartClasses)] {
+		var series []excelize.ChartSeries
+		for i, colour := range ramp(stateRamp, len(fc.Model.States)) {
+			series = append(series, excelize.ChartSeries{Name: mix.cellRef(at[c]+i, headRow), Categories: cats,
+				Values: mix.ref(at[c]+i, mix.data, last), Fill: excelize.Fill{Type: "pattern", Pattern: 1, Color: []string{hex(colour)}}})
+		}
+		s.chart(1, row+21*c, &excelize.Chart{Type: excelize.ColStacked, Series: series, GapWidth: &gap, Overlap: &overlap, VaryColors: &vary,
+			Title:     chartTitle("Expected condition mix of " + fc.Name + " (share of its units at the start of each year, under the plan)"),
+			Legend:    excelize.ChartLegend{Position: "bottom"},
+			Dimension: excelize.ChartDimension{Width: 760, Height: 380},
+			XAxis:     excelize.ChartAxis{Title: chartTitle("year")},
+			YAxis: excelize.ChartAxis{MajorGridLines: true, Maximum: &top, Minimum: &bottom,
+				NumFmt: excelize.ChartNumFmt{CustomNumFmt: "0%"}, Title: chartTitle("share of units")},
+		})
+	}
+	if n := len(f.Classes) - fleetChartClasses; n > 0 {
+		s.text(1, row+21*fleetChartClasses, fmt.Sprintf("%d further classes are not charted; their condition mix is on the Condition mix sheet.", n), s.b.wrapped)
 	}
 }
 

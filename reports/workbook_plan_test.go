@@ -4,9 +4,13 @@ import (
 	"bytes"
 	"fmt"
 	"io"
+	"math"
 	"regexp"
+	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/xuri/excelize/v2"
 )
 
 // chartXML returns the XML of every chart of a workbook, in the order
@@ -31,8 +35,8 @@ func chartXML(t *testing.T, b []byte) []string {
 func TestPlanWorkbookCharts(t *testing.T) {
 	r := planReport(t, testFleet(t, 1, []float64{30, 15, 5}, 20000, 5), true)
 	charts := chartXML(t, xlsxBytes(t, r))
-	if len(charts) != 2 {
-		t.Fatalf("%d charts, want 2 (spend against the budget, practice bands)", len(charts))
+	if len(charts) != 4 {
+		t.Fatalf("%d charts, want 4 (spend against the budget, practice bands, units deferred, condition mix)", len(charts))
 	}
 	spend := charts[0]
 	bar, line := strings.Index(spend, "<barChart>"), strings.Index(spend, "<lineChart>")
@@ -53,6 +57,21 @@ func TestPlanWorkbookCharts(t *testing.T) {
 	if first < 0 || !strings.HasPrefix(bands[first:], "<ser><idx val=\"0\"></idx><order val=\"0\"></order><tx><strRef><f>&#39;By year&#39;!$B$3</f>") {
 		end := min(len(bands), max(first, 0)+160)
 		t.Errorf("practice chart: first series %q, want the budget ('By year'!$B$3)", bands[max(first, 0):end])
+	}
+	// The condition mix: the class's three conditions stacked, read from
+	// the Condition mix sheet, on a share axis from 0 to 1.
+	if deferred := charts[2]; !strings.Contains(deferred, "<f>&#39;By period&#39;!$D$4:$D$8</f>") {
+		t.Errorf("deferred chart: it does not read the units deferred ('By period'!$D$4:$D$8)")
+	}
+	mix := charts[3]
+	for _, want := range []string{`<grouping val="stacked">`, "<f>&#39;Condition mix&#39;!$B$4:$B$8</f>", "<f>&#39;Condition mix&#39;!$D$4:$D$8</f>",
+		`<max val="1">`, `<min val="0">`, `formatCode="0%"`} {
+		if !strings.Contains(mix, want) {
+			t.Errorf("condition mix chart: no %s", want)
+		}
+	}
+	if n := strings.Count(mix, "<ser>"); n != 3 {
+		t.Errorf("condition mix chart: %d series, want 3 (one per condition)", n)
 	}
 }
 
@@ -98,6 +117,27 @@ func TestPlanWorkbookIdleYears(t *testing.T) {
 		if got, _ := f.GetCellValue("By year", tc.ref); got != tc.want {
 			t.Errorf("By year!%s = %q, want %q", tc.ref, got, tc.want)
 		}
+	}
+	// A year that starts no period shows the mix of the period it lies in;
+	// the shares of a year sum to 1.
+	for _, col := range []string{"B", "C", "D"} {
+		y1, _ := f.GetCellValue("Condition mix", col+"4", excelize.Options{RawCellValue: true})
+		y2, _ := f.GetCellValue("Condition mix", col+"5", excelize.Options{RawCellValue: true})
+		if y1 == "" || y1 != y2 {
+			t.Errorf("Condition mix!%s5 = %q, want year 1's %q (year 2 lies in period 1)", col, y2, y1)
+		}
+	}
+	sum := 0.0
+	for _, col := range []string{"B", "C", "D"} {
+		v, _ := f.GetCellValue("Condition mix", col+"6", excelize.Options{RawCellValue: true})
+		x, err := strconv.ParseFloat(v, 64)
+		if err != nil {
+			t.Fatalf("Condition mix!%s6 = %q: %v", col, v, err)
+		}
+		sum += x
+	}
+	if math.Abs(sum-1) > 1e-12 {
+		t.Errorf("Condition mix: year 3's shares sum to %.15g, want 1", sum)
 	}
 	rows, err := f.GetRows("By period")
 	if err != nil {

@@ -106,9 +106,6 @@ func (a *app) solve(cmd *cobra.Command, path string) error {
 	if err := a.src.NotFor("a class config", " (they size the joint model of a system file)", "workers", "max-memory-gib", "max-hours"); err != nil {
 		return err
 	}
-	if st.Output.Format == "xlsx" && (f.Class.Inspection != nil || st.Robust.On) {
-		return usagef("inspection and robust advice have no workbook yet; use --format table, json or csv")
-	}
 	if f.Class.Inspection != nil {
 		return a.solveInspection(cmd, f.Class, st)
 	}

@@ -159,6 +159,7 @@ func checkPlan(t *testing.T, f *excelize.File, js map[string]any) {
 		}
 	}
 
+	checkMix(t, f, js)
 	if cal := obj(js["inspection_calendar"]); cal != nil {
 		checkInspections(t, f, cal)
 	}

@@ -644,8 +644,14 @@ func workbookCases(t *testing.T) []struct {
 	advice := []string{"Advice", "Summary", "Life", "Survival", "Assumptions"}
 	compare := []string{"Advice by rate", "Present value by rate", "Switch points", "Summary", "EAC chart", "Assumptions"}
 	forecast := []string{"Units per period", "Spend per period", "By year", "Charts", "Summary", "Assumptions"}
-	plan := []string{"By year", "Work list", "By period", "Shares", "Expected units", "Charts", "Summary", "Assumptions"}
-	planInspections := append(slices.Clone(plan[:5]), "Inspections", "Charts", "Summary", "Assumptions")
+	plan := []string{"By year", "Work list", "By period", "Shares", "Expected units", "Condition mix", "Charts", "Summary", "Assumptions"}
+	planInspections := append(slices.Clone(plan[:6]), "Inspections", "Charts", "Summary", "Assumptions")
+	inspection := []string{"Advice", "Decisions", "Fixed intervals", "Summary", "Assumptions"}
+	calendar := []string{"By year", "Advice", "Charts", "Summary", "Assumptions"}
+	robust := []string{"Robust advice", "Settle", "Sets", "Summary", "Assumptions"}
+	yenValves := variant(t, reliefValves, "currency: EUR", "currency: JPY")
+	formulaValves := variant(t, reliefValves, `"Kestrel Valley pressure relief valves (invented demo)"`, `'=HYPERLINK("http://example.invalid","open me")'`,
+		"stuck", `"@stuck"`, "good", `"+good"`, "passing", `"-passing"`)
 	planRates := []string{"Bounds by rate", "Planned spend", "Mandatory spend", "Deferred units", "Budget price", "Assumptions"}
 	simulation := []string{"By year", "Units per period", "Charts", "Summary", "Assumptions"}
 	return []struct {
@@ -655,12 +661,20 @@ func workbookCases(t *testing.T) []struct {
 		charts int
 		check  func(*testing.T, *excelize.File, map[string]any)
 	}{
-		{"solve", []string{"solve", demo}, advice, 0, checkAdvice},
-		{"solve/half-year", []string{"solve", "testdata/accents.yaml"}, advice, 0, checkAdvice},
-		{"solve/yen", []string{"solve", yen}, advice, 0, checkAdvice},
-		{"solve/formula-names", []string{"solve", formulaNames}, advice, 0, checkAdvice},
+		{"solve", []string{"solve", demo}, advice, 1, checkAdvice},
+		{"solve/half-year", []string{"solve", "testdata/accents.yaml"}, advice, 1, checkAdvice},
+		{"solve/yen", []string{"solve", yen}, advice, 1, checkAdvice},
+		{"solve/formula-names", []string{"solve", formulaNames}, advice, 1, checkAdvice},
 		{"solve/average", []string{"solve", demo, "--criterion", "average"}, []string{"Advice", "Summary", "Assumptions"}, 0, checkAverage},
 		{"solve/system", []string{"solve", demoSystem}, []string{"Components", "Grouping", "Joint advice", "Summary", "Assumptions"}, 0, checkSystem},
+		{"solve/inspection", []string{"solve", reliefValves}, inspection, 0, checkInspectionAdvice},
+		{"solve/inspection-yen", []string{"solve", yenValves}, inspection, 0, checkInspectionAdvice},
+		{"solve/inspection-formula-names", []string{"solve", formulaValves}, inspection, 0, checkInspectionAdvice},
+		{"solve/robust", []string{"solve", demo, "--robust-radius", "0.5"}, robust, 0, checkRobust},
+		{"solve/robust-yen", []string{"solve", yen, "--robust-radius", "0.1"}, robust, 0, checkRobust},
+		{"solve/robust-confidence", []string{"solve", fittedDemo, "--robust-confidence", "0.9"}, robust, 0, checkRobust},
+		{"solve/robust-kl", []string{"solve", fittedDemo, "--robust-confidence", "0.9", "--robust-set", "kl"}, robust, 0, checkRobust},
+		{"solve/robust-formula-names", []string{"solve", formulaNames, "--robust-radius", "0.5"}, robust, 0, checkRobust},
 		{"compare", []string{"compare", demo, "--rates", "0%:30%:5%"}, compare, 1, checkCompare},
 		{"compare/inflation", []string{"compare", demo, "--rates", "4%,6%,9%,12%", "--inflation", "2.5%"}, compare, 1, checkCompare},
 		{"sensitivity", []string{"sensitivity", demo}, []string{"Margins", "Cost ranges", "Assumptions"}, 0, checkSensitivity},
@@ -668,10 +682,13 @@ func workbookCases(t *testing.T) []struct {
 		{"forecast/half-year", []string{"forecast", "testdata/accents.yaml", "--from", "état neuf", "--years", "6"}, forecast, 2, checkForecast},
 		{"forecast/two-year", []string{"forecast", twoYears, "--mix", "sound=60,light_wear=30,heavy_wear=10", "--years", "20"}, forecast, 2, checkForecast},
 		{"forecast/average", []string{"forecast", average, "--from", "sound"}, forecast, 2, checkForecast},
-		{"plan", []string{"plan", demoFleet, "--simulate", "200"}, plan, 2, checkPlan},
-		{"plan/mandatory-first", []string{"plan", demoFleet, "--budget", "0", "--simulate", "0"}, plan, 1, checkPlan},
-		{"plan/inspections", []string{"plan", "../../configs/relief-fleet.yaml", "--simulate", "200"}, planInspections, 2, checkPlan},
-		{"plan/formula-names", []string{"plan", formulaFleet(t), "--simulate", "50"}, plan, 2, checkPlan},
+		{"forecast/inspection", []string{"forecast", reliefValves, "--from", "good", "--units", "50", "--years", "8"}, calendar, 2, checkInspectionCalendar},
+		{"forecast/inspection-formula-names", []string{"forecast", formulaValves, "--from", "+good", "--units", "20"}, calendar, 2, checkInspectionCalendar},
+		{"forecast/inspection-mix", []string{"forecast", reliefValves, "--mix", "good=30,sluggish=15,stuck=5", "--years", "12"}, calendar, 2, checkInspectionCalendar},
+		{"plan", []string{"plan", demoFleet, "--simulate", "200"}, plan, 5, checkPlan},
+		{"plan/mandatory-first", []string{"plan", demoFleet, "--budget", "0", "--simulate", "0"}, plan, 4, checkPlan},
+		{"plan/inspections", []string{"plan", "../../configs/relief-fleet.yaml", "--simulate", "200"}, planInspections, 4, checkPlan},
+		{"plan/formula-names", []string{"plan", formulaFleet(t), "--simulate", "50"}, plan, 5, checkPlan},
 		{"plan/rates", []string{"plan", demoFleet, "--rates", "3%,5%,7%"}, planRates, 0, checkPlanRates},
 		{"plan/rates-changed", []string{"plan", demoFleet, "--rates", "3%,7%,12%"}, planRates, 0, checkPlanRatesChanged},
 		{"forecast/simulate", []string{"forecast", demoFleet, "--simulate", "200"}, simulation, 1, checkSimulation},
@@ -864,6 +881,24 @@ func TestWorkbooksSecondReader(t *testing.T) {
 		{"plan/formula-names", "Expected units", "C6", [3]any{"s", "@heavy_wear", "General"}},
 		{"plan/rates-changed", "Bounds by rate", "A6", [3]any{"n", 0.12, "0.00%"}},
 		{"forecast/simulate", "By year", "I4", [3]any{"n", nil, "0.00%"}},
+		{"solve/inspection", "Advice", "F4", [3]any{"n", nil, "0"}},
+		{"solve/inspection", "Advice", "H4", [3]any{"n", nil, "#,##0.00"}},
+		{"solve/inspection-yen", "Advice", "H4", [3]any{"n", nil, "#,##0"}},
+		{"solve/inspection-yen", "Fixed intervals", "D5", [3]any{"n", nil, "#,##0"}},
+		{"forecast/inspection", "By year", "I4", [3]any{"n", nil, "#,##0.00"}},
+		{"solve/robust", "Robust advice", "D4", [3]any{"n", nil, "#,##0.00"}},
+		{"solve/robust-yen", "Robust advice", "D4", [3]any{"n", nil, "#,##0"}},
+		{"solve/robust-confidence", "Summary", "B6", [3]any{"n", 0.9, "0.00%"}},
+		{"solve/robust-formula-names", "Robust advice", "A4", [3]any{"s", "+sound", "General"}},
+		{"solve/robust-formula-names", "Robust advice", "A6", [3]any{"s", "@heavy_wear", "General"}},
+		{"plan", "Condition mix", "B4", [3]any{"n", nil, "0.00%"}},
+		{"solve/inspection-formula-names", "Advice", "A4", [3]any{"s", "+good", "General"}},
+		{"solve/inspection-formula-names", "Advice", "A6", [3]any{"s", "@stuck", "General"}},
+		{"solve/inspection-formula-names", "Advice", "A7", [3]any{"s", "-passing", "General"}},
+		{"solve/inspection-formula-names", "Fixed intervals", "D3", [3]any{"s", "extra cost from +good (EUR)", "General"}},
+		{"forecast/inspection-formula-names", "Advice", "A4", [3]any{"s", "+good", "General"}},
+		{"forecast/inspection-formula-names", "By year", "A2", [3]any{"s", `=HYPERLINK("http://example.invalid","open me"): expected inspections and spend per calendar year ` +
+			"under the inspection advice (20.00 units, every one inspected at the start of year 1; EUR, undiscounted)", "General"}},
 	} {
 		got := value(tc.book, tc.sheet, tc.ref)
 		if got[0] != tc.want[0] || got[2] != tc.want[2] || tc.want[1] != nil && !sameCell(got[1], tc.want[1]) {
