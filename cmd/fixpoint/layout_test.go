@@ -589,7 +589,10 @@ func TestBriefDeterministicAcrossCores(t *testing.T) {
 }
 
 // The layout check can fail: a page with overprinted words, a word in
-// the margin, a number split across lines and no caution fails it.
+// the margin, a number split across lines and no caution fails it; so do
+// a sign-off run into the caution box, a near-empty page before the
+// last, and blocks of the engine that overlap, leave the frame or break
+// a table badly.
 func TestLayoutCheckCatchesFaults(t *testing.T) {
 	pdf := gofpdf.New("P", "mm", "A4", "")
 	pdf.AddUTF8FontFromBytes("go", "", goregular.TTF)
@@ -609,6 +612,57 @@ func TestLayoutCheckCatchesFaults(t *testing.T) {
 		`no "CAUTION: advisory only"`, `no "Sign-off"`} {
 		if !strings.Contains(got, want) {
 			t.Errorf("layout check missed %s; it said:\n%s", want, got)
+		}
+	}
+
+	// A sign-off run into the caution box with a word inside it, a page
+	// 2 with a few lines only before the last page, a word below the text
+	// frame, and a caution box that differs from the last page's.
+	pdf = gofpdf.New("P", "mm", "A4", "")
+	pdf.AddUTF8FontFromBytes("go", "", goregular.TTF)
+	pdf.AddPage()
+	pdf.SetFont("go", "", 9)
+	pdf.Text(30, 30, "Recommendation")
+	pdf.Text(30, 240, "Sign-off")
+	pdf.Text(30, 248, "Name")
+	pdf.Text(60, 248, "stray")
+	pdf.Text(30, 258, "Role")
+	pdf.Text(30, 266, "Date")
+	pdf.Text(30, 268, "CAUTION: advisory only")
+	for range 2 {
+		pdf.AddPage()
+		pdf.Text(30, 40, "a page of text")
+		pdf.Text(30, 268, "CAUTION: advisory only")
+	}
+	path = filepath.Join(t.TempDir(), "bad2.pdf")
+	if err := pdf.OutputFileAndClose(path); err != nil {
+		t.Fatal(err)
+	}
+	got = strings.Join(layoutProblems(t, path, "2026-12-01", true), "\n")
+	for _, want := range []string{`the sign-off (`, `overlaps the caution box`, `"stray" lies in the sign-off block`, `page 2 is only`,
+		`"Role" at`, `runs below the text frame`, `page 1: the caution box holds`} {
+		if !strings.Contains(got, want) {
+			t.Errorf("layout check missed %s; it said:\n%s", want, got)
+		}
+	}
+
+	// The engine's blocks: a sign-off over the caution, a key
+	// assumptions block on page 2, a table broken 5+1 whose continued
+	// part has neither header nor title, and a chart below the frame.
+	l := reports.Layout{Pages: 2, Blocks: []reports.Block{
+		{Kind: "sign-off", Page: 1, X: 18, Y: 230, W: 174, H: 40},
+		{Kind: "caution", Page: 1, X: 18, Y: 261, W: 174, H: 21},
+		{Kind: "key assumptions", Page: 2, X: 18, Y: 20, W: 174, H: 30},
+		{Kind: "table", Page: 1, X: 18, Y: 100, W: 174, H: 40, Of: "Advice per condition", Header: true, From: 0, Rows: 5, Total: 6},
+		{Kind: "table", Page: 2, X: 18, Y: 60, W: 174, H: 10, Of: "Advice per condition", From: 5, Rows: 1, Total: 6},
+		{Kind: "chart", Page: 2, X: 18, Y: 200, W: 174, H: 70},
+	}}
+	got = strings.Join(blockProblems("bad", l), "\n")
+	for _, want := range []string{`sign-off (page 1, 230.0-270.0 mm) overlaps caution`, `sign-off (page 1, 230.0-270.0 mm) lies outside the text frame`,
+		`key assumptions (page 2, 20.0-50.0 mm) is not on page 1`, `a part of 1 of the table's 6 rows`, `a continued part without the header row`,
+		`a continued part titled "", want "Advice per condition (continued)"`, `chart (page 2, 200.0-270.0 mm) lies outside the text frame`} {
+		if !strings.Contains(got, want) {
+			t.Errorf("block check missed %s; it said:\n%s", want, got)
 		}
 	}
 }
