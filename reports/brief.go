@@ -168,17 +168,6 @@ func (d *doc) drawFront(h *Header, im Imprint, f front) (continued bool) {
 		recH += d.paragraphBlock(r, bodySize, ink, lineH, false)
 	}
 	contH := d.paragraphBlock(contNote, smallSize, muted, 3.8, false)
-	assumptions := f.assumptions
-	tail := d.keyAssumptionsBlock(assumptions, false) + d.signOffBlock(false)
-	if f.short != nil && d.y()+recH+contH+tail > contentBottom {
-		assumptions = f.short
-		tail = d.keyAssumptionsBlock(assumptions, false) + d.signOffBlock(false)
-	}
-	d.mark("recommendation")
-	d.headingBlock("Recommendation", true)
-	for _, r := range f.recommendation {
-		d.paragraph(r)
-	}
 	f.table.title = f.tableTitle
 	notesH := 0.0
 	if len(f.notes) > 0 {
@@ -187,18 +176,36 @@ func (d *doc) drawFront(h *Header, im Imprint, f front) (continued bool) {
 	headH := d.headingBlock(f.tableTitle, false)
 	noteH := d.paragraphBlock(f.tableNote, smallSize, muted, 3.8, false) + 1
 	wholeH := headH + d.tableHeight(&f.table, len(f.table.rows)) + noteH + 2
-	// Room is kept for the line saying what continues unless everything
-	// fits without it.
-	limit := contentBottom - tail
-	if d.y()+wholeH+notesH > limit {
-		limit -= contH
-	}
-	// The whole table goes on page 1 with its note when it fits; else its
-	// first rows (leaving at least minPartRows for page 2), the note
-	// following the rest on page 2; else all of it moves to page 2.
-	next, noteHere := 0, false
 	cols := d.layoutColumns(&f.table)[0]
-	if k := splitAt(len(f.table.rows), d.rowsFitting(&f.table, cols, 0, d.y()+headH, limit)); k > 0 {
+	// With the key assumptions as, the limit the table and notes must
+	// end above (room is kept for the line saying what continues unless
+	// everything fits without it) and the rows of the table page 1 takes
+	// (all when they fit; else its first rows, leaving at least
+	// minPartRows for page 2; else none, the table moving whole).
+	top := d.y() + recH
+	plan := func(as []string) (tail, limit float64, k int) {
+		tail = d.keyAssumptionsBlock(as, false) + d.signOffBlock(false)
+		limit = contentBottom - tail
+		if top+wholeH+notesH > limit {
+			limit -= contH
+		}
+		return tail, limit, splitAt(len(f.table.rows), d.rowsFitting(&f.table, cols, 0, top+headH, limit))
+	}
+	// The shorter assumptions, when given, are used when the whole ones
+	// would overfill page 1 or leave no room for the start of the table.
+	assumptions := f.assumptions
+	tail, limit, k := plan(assumptions)
+	if f.short != nil && (top+contH+tail > contentBottom || (k == 0 && len(f.table.rows) > 0)) {
+		assumptions = f.short
+		tail, limit, k = plan(assumptions)
+	}
+	d.mark("recommendation")
+	d.headingBlock("Recommendation", true)
+	for _, r := range f.recommendation {
+		d.paragraph(r)
+	}
+	next, noteHere := 0, false
+	if k > 0 {
 		d.headingBlock(f.tableTitle, true)
 		next = d.tableUntil(&f.table, 0, limit, k)
 	}
@@ -215,14 +222,14 @@ func (d *doc) drawFront(h *Header, im Imprint, f front) (continued bool) {
 	var more []string
 	switch {
 	case next == 0 && len(f.table.rows) > 0:
-		more = append(more, "the table, "+strings.ToLower(f.tableTitle[:1])+f.tableTitle[1:])
+		more = append(more, "the table “"+f.tableTitle+"”")
 	case next < len(f.table.rows):
-		more = append(more, "the rest of the table")
+		more = append(more, "the rest of the table “"+f.tableTitle+"”")
 	case !noteHere:
 		more = append(more, "the note on the table")
 	}
 	if !notesHere && len(f.notes) > 0 {
-		more = append(more, strings.ToLower(f.notesTitle[:1])+f.notesTitle[1:])
+		more = append(more, "“"+f.notesTitle+"”")
 	}
 	rest := len(more) > 0
 	if rest {

@@ -154,6 +154,28 @@ func newDocWith(title, header string, im Imprint) (*doc, error) {
 // mark records that the named block is on the current page.
 func (d *doc) mark(name string) { d.marks[name] = d.pdf.PageNo() }
 
+// pagesOf says on which pages the blocks of a kind (and, for tables,
+// title) placed so far are: "page 1", "pages 1-3"; "page 1" when none
+// is.
+func (d *doc) pagesOf(kind, of string) string {
+	first, last := 0, 0
+	for _, b := range d.blocks {
+		if b.Kind == kind && b.Of == of {
+			if first == 0 {
+				first = b.Page
+			}
+			last = b.Page
+		}
+	}
+	switch {
+	case first == 0:
+		return "page 1"
+	case first == last:
+		return fmt.Sprintf("page %d", first)
+	}
+	return fmt.Sprintf("pages %d-%d", first, last)
+}
+
 // block records a block of the full content width from y0 to y1 on the
 // current page.
 func (d *doc) block(kind string, y0, y1 float64) {
