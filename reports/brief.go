@@ -127,8 +127,7 @@ func (b *Brief) WritePDF(w io.Writer) error {
 	if err := d.fonts.check(b.Fields()); err != nil {
 		return err
 	}
-	b.pageFront(d)
-	b.pageCharts(d)
+	b.pageCharts(d, b.pageFront(d))
 	if b.Robust != nil {
 		b.pageRobust(d)
 	}
@@ -141,36 +140,35 @@ func (b *Brief) WritePDF(w io.Writer) error {
 
 // front is what page 1 of every brief carries: a recommendation, a
 // table, notes under a heading of their own, the key assumptions and the
-// sign-off.
+// sign-off. short, when not nil, is a shorter form of the assumptions
+// (the scales named by their ends, the rest referred to where it is
+// printed) for a page 1 that the full form would overfill.
 type front struct {
 	title, tableTitle, tableNote string
 	recommendation               []string
 	notesTitle                   string
 	notes                        []string
 	table                        pdfTable
-	assumptions                  []string
+	assumptions, short           []string
 }
-
-// minFrontRows is the fewest table rows page 1 shows; with less room the
-// whole table moves to page 2.
-const minFrontRows = 3
 
 // drawFront lays out page 1 so that the recommendation, the key
 // assumptions and the sign-off are always on it: the table and the notes
 // take the room left between them, and what does not fit (the rows that
-// overflow, the notes) continues on page 2 with a line saying so. It
-// reports whether page 2 was started.
+// overflow, the notes) continues on page 2 with a line saying so. The
+// table breaks only with at least minPartRows rows on each side, else it
+// moves to page 2 whole. It reports whether page 2 was started.
 func (d *doc) drawFront(h *Header, im Imprint, f front) (continued bool) {
 	d.pdf.AddPage()
 	d.titleBlock(f.title, h.Model, "", true)
 	d.traceBlock(traceOf(h, im), true)
-	const contNote = "Continued on the next page: the rest of the table and the notes on this advice."
-	tail := d.keyAssumptionsBlock(f.assumptions, false) + d.signOffBlock(false)
-	d.mark("recommendation")
-	d.headingBlock("Recommendation", true)
+	const contNote = "Continued on the next page: the rest of the table, the note on the table and the notes on this advice."
+	recH := d.headingBlock("Recommendation", false)
 	for _, r := range f.recommendation {
-		d.paragraph(r)
+		recH += d.paragraphBlock(r, bodySize, ink, lineH, false)
 	}
+	contH := d.paragraphBlock(contNote, smallSize, muted, 3.8, false)
+	f.table.title = f.tableTitle
 	notesH := 0.0
 	if len(f.notes) > 0 {
 		notesH = d.headingBlock(f.notesTitle, false) + d.bullets(f.notes, false)
@@ -178,23 +176,38 @@ func (d *doc) drawFront(h *Header, im Imprint, f front) (continued bool) {
 	headH := d.headingBlock(f.tableTitle, false)
 	noteH := d.paragraphBlock(f.tableNote, smallSize, muted, 3.8, false) + 1
 	wholeH := headH + d.tableHeight(&f.table, len(f.table.rows)) + noteH + 2
-	// Room is kept for the line saying what continues unless everything
-	// fits without it.
-	limit := contentBottom - tail
-	if d.y()+wholeH+notesH > limit {
-		limit -= d.paragraphBlock(contNote, smallSize, muted, 3.8, false)
+	cols := d.layoutColumns(&f.table)[0]
+	// With the key assumptions as, the limit the table and notes must
+	// end above (room is kept for the line saying what continues unless
+	// everything fits without it) and the rows of the table page 1 takes
+	// (all when they fit; else its first rows, leaving at least
+	// minPartRows for page 2; else none, the table moving whole).
+	top := d.y() + recH
+	plan := func(as []string) (tail, limit float64, k int) {
+		tail = d.keyAssumptionsBlock(as, false) + d.signOffBlock(false)
+		limit = contentBottom - tail
+		if top+wholeH+notesH > limit {
+			limit -= contH
+		}
+		return tail, limit, splitAt(len(f.table.rows), d.rowsFitting(&f.table, cols, 0, top+headH, limit))
 	}
-	// The whole table goes on page 1 with its note when it fits; else its
-	// first rows (at least minFrontRows of them), the note following the
-	// rest on page 2; else all of it moves to page 2.
+	// The shorter assumptions, when given, are used when the whole ones
+	// would overfill page 1 or leave no room for the start of the table.
+	assumptions := f.assumptions
+	tail, limit, k := plan(assumptions)
+	if f.short != nil && (top+contH+tail > contentBottom || (k == 0 && len(f.table.rows) > 0)) {
+		assumptions = f.short
+		tail, limit, k = plan(assumptions)
+	}
+	d.mark("recommendation")
+	d.headingBlock("Recommendation", true)
+	for _, r := range f.recommendation {
+		d.paragraph(r)
+	}
 	next, noteHere := 0, false
-	switch {
-	case d.y()+wholeH <= limit:
+	if k > 0 {
 		d.headingBlock(f.tableTitle, true)
-		next = d.tableUntil(&f.table, 0, limit, len(f.table.rows))
-	case d.y()+headH+d.tableHeight(&f.table, minFrontRows) <= limit:
-		d.headingBlock(f.tableTitle, true)
-		next = d.tableUntil(&f.table, 0, limit, min(minFrontRows, len(f.table.rows)))
+		next = d.tableUntil(&f.table, 0, limit, k)
 	}
 	if next == len(f.table.rows) && d.y()+noteH+1 <= limit {
 		d.setY(d.y() + 1)
@@ -208,32 +221,34 @@ func (d *doc) drawFront(h *Header, im Imprint, f front) (continued bool) {
 	}
 	var more []string
 	switch {
+	case next == 0 && len(f.table.rows) > 0:
+		more = append(more, "the table “"+f.tableTitle+"”")
 	case next < len(f.table.rows):
-		more = append(more, "the rest of the table")
+		more = append(more, "the rest of the table “"+f.tableTitle+"”")
 	case !noteHere:
 		more = append(more, "the note on the table")
 	}
 	if !notesHere && len(f.notes) > 0 {
-		more = append(more, strings.ToLower(f.notesTitle[:1])+f.notesTitle[1:])
+		more = append(more, "“"+f.notesTitle+"”")
 	}
 	rest := len(more) > 0
 	if rest {
 		d.note("Continued on the next page: " + joinAnd(more) + ".")
 	}
-	d.keyAssumptionsBlock(f.assumptions, true)
+	d.keyAssumptionsBlock(assumptions, true)
 	d.signOffBlock(true)
 	if !rest {
 		return false
 	}
 	d.pdf.AddPage()
 	if !noteHere {
-		title := f.tableTitle
-		if next > 0 {
-			title += " (continued)"
+		switch {
+		case next == 0:
+			d.headingBlock(f.tableTitle, true)
+		case next == len(f.table.rows):
+			d.headingBlock(f.tableTitle+" (continued)", true)
 		}
-		d.headingBlock(title, true)
 		if next < len(f.table.rows) {
-			cols := d.layoutColumns(&f.table)[0]
 			d.tablePart(&f.table, cols, next, contentBottom, 0)
 		}
 		d.setY(d.y() + 1)
@@ -248,7 +263,9 @@ func (d *doc) drawFront(h *Header, im Imprint, f front) (continued bool) {
 	return true
 }
 
-func (b *Brief) pageFront(d *doc) {
+// pageFront draws page 1; it reports whether page 2 was started with what
+// page 1 could not hold.
+func (b *Brief) pageFront(d *doc) bool {
 	h := b.head()
 	p := b.problem()
 	var notes []string
@@ -257,6 +274,7 @@ func (b *Brief) pageFront(d *doc) {
 	}
 	f := front{title: "Maintenance policy brief", tableTitle: "Advice per condition", notesTitle: "Notes on the advice",
 		notes: notes, assumptions: b.keyAssumptions()}
+	f.short = shortScale(f.assumptions, p.States, h, "the table of advice per condition")
 	cur := h.Currency
 	valueHead := "Expected cost, present value (" + cur + ")"
 	marginHead := "Margin (" + cur + ")"
@@ -289,7 +307,22 @@ func (b *Brief) pageFront(d *doc) {
 		}
 		f.table.rows = append(f.table.rows, []string{h.stateLabel(s), p.Actions[act], h.money(value[s]), runner, m})
 	}
-	d.drawFront(h, b.Imprint, f)
+	return d.drawFront(h, b.Imprint, f)
+}
+
+// shortScale is the assumptions with the condition scale (the item that
+// starts "Condition scale") named by its ends, for a page 1 that the
+// whole scale would overfill; where says where every condition is
+// named.
+func shortScale(items, states []string, h *Header, where string) []string {
+	out := slices.Clone(items)
+	for i, it := range out {
+		if strings.HasPrefix(it, "Condition scale") {
+			out[i] = fmt.Sprintf("Condition scale: %d conditions, best first, from %s to %s, each named in %s.", len(states), states[0], states[len(states)-1], where) +
+				unsafeText(h)
+		}
+	}
+	return out
 }
 
 // keyAssumptions are the assumptions a signer must agree with.
@@ -432,10 +465,12 @@ func populationText(states []string, counts []float64) string {
 	return countText(total) + " units starting as " + joinAnd(parts)
 }
 
-func (b *Brief) pageCharts(d *doc) {
+// pageCharts draws the charts: below the end of page 1's table when
+// onPage and room is left, else on a page of their own.
+func (b *Brief) pageCharts(d *doc, onPage bool) {
 	h := b.head()
 	p := b.problem()
-	d.pageTitle("What the advice means over the years")
+	d.section("What the advice means over the years", onPage, 95)
 	// By calendar year when a year holds whole periods; per period when a
 	// period is longer than a year.
 	f := b.Forecast.Forecast
@@ -692,7 +727,7 @@ func probDecimals(ps []float64) int {
 // probabilities (decimal-aligned) and the cost.
 func (d *doc) modelTables(h *Header, m *condition.Model, c *costs.Schedule, prefix string) {
 	d.heading(prefix+"Condition scale and running costs", 30)
-	st := pdfTable{header: []string{"Condition (best first)", "Unsafe", "Running cost per period (" + h.Currency + ")"},
+	st := pdfTable{title: prefix + "Condition scale and running costs", header: []string{"Condition (best first)", "Unsafe", "Running cost per period (" + h.Currency + ")"},
 		widths: []float64{40, 16, 34}, right: []bool{false, false, true}}
 	for s, state := range m.States {
 		unsafe := "no"
@@ -751,6 +786,7 @@ func (d *doc) modelTables(h *Header, m *condition.Model, c *costs.Schedule, pref
 				t.rows = append(t.rows, []string{from, m.States[e.To].Name, prob(e.P), cost})
 			}
 		}
+		t.title = title
 		d.need(d.headingBlock(title, false) + 16)
 		d.headingBlock(title, true)
 		if len(none) > 0 {

@@ -180,8 +180,9 @@ func (d *doc) measureChart(w, plotH float64, title string, legend []series) char
 func (d *doc) place(y, h float64) float64 {
 	if y+h > contentBottom {
 		d.pdf.AddPage()
-		return d.y()
+		y = d.y()
 	}
+	d.block("chart", y, y+h)
 	return y
 }
 

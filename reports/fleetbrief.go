@@ -237,6 +237,11 @@ func (b *FleetBrief) front() front {
 	f0.recommendation = []string{do, PlanStatement(f, p, cur), cert}
 	f0.notes = append(f0.notes, r.Warnings...)
 	f0.assumptions = b.keyAssumptions()
+	if len(r.Inspections) > 0 {
+		f0.short = slices.Clone(f0.assumptions)
+		f0.short[len(f0.short)-1] = "Inspections: the plan takes each unit's condition as known every period and charges no inspection cost to the budget; " +
+			"the inspection calendar, budgeted beside it, and the statutory rule are on a later page."
+	}
 	return f0
 }
 
@@ -305,11 +310,12 @@ func (b *FleetBrief) spendSeries() ([]series, string) {
 func (b *FleetBrief) pageSpend(d *doc, onPage bool) {
 	r := b.Plan
 	p, f, cur := r.Plan, r.Fleet, r.Currency
+	where := d.pagesOf("table", "Work list for "+firstPeriod(r))
 	d.section("What the plan means over the years", onPage, 95)
 	d.paragraph(fmt.Sprintf("The figures on this page are the plan's expected values: its policy applied to the expected units, from the inventory on. "+
 		"Planned spend is the expected work spend of the periods that start in a calendar year; it is what the budget rule holds to. "+
-		"The work list on page 1 is the whole-unit list of %s: it spends %s where the plan expects %s in that period.",
-		firstPeriod(r), amount(p.First.Spend, cur), amount(p.PeriodSpend[0], cur)))
+		"The work list on %s is the whole-unit list of %s: it spends %s where the plan expects %s in that period.",
+		where, firstPeriod(r), amount(p.First.Spend, cur), amount(p.PeriodSpend[0], cur)))
 	cats := make([]string, len(f.Budget))
 	for y := range cats {
 		cats[y] = strconv.Itoa(y + 1)

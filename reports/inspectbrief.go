@@ -61,8 +61,8 @@ func (b *InspectionBrief) layout() (*doc, error) {
 	if err := d.fonts.check(b.Fields()); err != nil {
 		return nil, err
 	}
-	d.drawFront(&v.Header, b.Imprint, b.front())
-	spilled := d.drawPage(v.LookAgain())
+	cont := d.drawFront(&v.Header, b.Imprint, b.front())
+	spilled := d.drawPage(v.LookAgain(), cont)
 	b.pageCharts(d, spilled)
 	b.pageInputs(d)
 	return d, nil
@@ -77,6 +77,7 @@ func (b *InspectionBrief) front() front {
 	}
 	f := front{title: "Maintenance and inspection brief", tableTitle: "Action and next inspection per condition found", notesTitle: "Notes on the advice",
 		notes: notes, assumptions: b.keyAssumptions()}
+	f.short = shortScale(f.assumptions, p.States, &v.Header, "the table of action and next inspection")
 	f.table = pdfTable{header: []string{"Condition found", "Advice", "Expected cost, present value (" + cur + ")", "Runner-up", "Margin (" + cur + ")"},
 		widths: []float64{20, 36, 18, 22, 12}, right: []bool{false, false, true, false, true}}
 	for s := range p.States {

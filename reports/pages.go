@@ -45,6 +45,7 @@ func (d *doc) headedTable(title string, t pdfTable) {
 	}
 	d.need(d.headingBlock(title, false) + h)
 	d.headingBlock(title, true)
+	t.title = title
 	d.table(t)
 }
 
@@ -86,11 +87,12 @@ func (d *doc) pageTable(t PageTable) {
 	}
 }
 
-// drawPage draws a Page on a page of its own: the title, the paragraphs,
-// the tables and the notes. It reports whether the page ran onto
-// another.
-func (d *doc) drawPage(pg Page) (spilled bool) {
-	d.pageTitle(pg.Title)
+// drawPage draws a Page: the title, the paragraphs, the tables and the
+// notes, on a page of its own or, when onPage, below what the current
+// page holds if room is left. It reports whether it ran onto another
+// page.
+func (d *doc) drawPage(pg Page, onPage bool) (spilled bool) {
+	d.section(pg.Title, onPage, 50)
 	start := d.pdf.PageNo()
 	for _, p := range pg.Paragraphs {
 		d.paragraph(p)

@@ -52,6 +52,32 @@ type Imprint struct {
 	Date                    time.Time
 	PreparedFor, PreparedBy string
 	Fonts                   []Font
+	// Layout, if not nil, receives the blocks of the brief as the layout
+	// engine placed them (for layout checks); it changes nothing printed.
+	Layout *Layout
+}
+
+// Layout is what the layout engine placed in a brief: the number of
+// pages and every block with its box.
+type Layout struct {
+	Pages  int
+	Blocks []Block
+}
+
+// Block is one block of a brief as placed on a page, its box in
+// millimetres from the top-left corner of the page. Kind is "caution",
+// "sign-off", "key assumptions", "table" (one part of a table on one
+// page) or "chart". For a table part, Of is the table's title ("" when it
+// has none), Title the title printed above the part, Header whether the
+// part starts with the header row, From the index of its first row, Rows
+// its rows and Total the rows of the table.
+type Block struct {
+	Kind              string
+	Page              int
+	X, Y, W, H        float64
+	Of, Title         string
+	Header            bool
+	From, Rows, Total int
 }
 
 // placed is one line of text as the layout engine put it on a page: its
@@ -82,6 +108,10 @@ type doc struct {
 	// marks are named points of the document (the page a block landed
 	// on), for the layout checks.
 	marks map[string]int
+	// blocks are the blocks placed so far; layout, when not nil, receives
+	// them with the page count in output.
+	blocks []Block
+	layout *Layout
 }
 
 // newDocWith starts an A4 document with the Go fonts (UTF-8, so "€" and
@@ -115,7 +145,7 @@ func newDocWith(title, header string, im Imprint) (*doc, error) {
 	// The layout engine breaks pages itself.
 	pdf.SetAutoPageBreak(false, 0)
 	pdf.AliasNbPages("{nb}")
-	d := &doc{pdf: pdf, header: header, fonts: fs, size: bodySize, colour: ink, marks: map[string]int{}}
+	d := &doc{pdf: pdf, header: header, fonts: fs, size: bodySize, colour: ink, marks: map[string]int{}, layout: im.Layout}
 	pdf.SetHeaderFunc(d.drawHeader)
 	pdf.SetFooterFunc(d.drawFooter)
 	return d, nil
@@ -123,6 +153,34 @@ func newDocWith(title, header string, im Imprint) (*doc, error) {
 
 // mark records that the named block is on the current page.
 func (d *doc) mark(name string) { d.marks[name] = d.pdf.PageNo() }
+
+// pagesOf says on which pages the blocks of a kind (and, for tables,
+// title) placed so far are: "page 1", "pages 1-3"; "page 1" when none
+// is.
+func (d *doc) pagesOf(kind, of string) string {
+	first, last := 0, 0
+	for _, b := range d.blocks {
+		if b.Kind == kind && b.Of == of {
+			if first == 0 {
+				first = b.Page
+			}
+			last = b.Page
+		}
+	}
+	switch {
+	case first == 0:
+		return "page 1"
+	case first == last:
+		return fmt.Sprintf("page %d", first)
+	}
+	return fmt.Sprintf("pages %d-%d", first, last)
+}
+
+// block records a block of the full content width from y0 to y1 on the
+// current page.
+func (d *doc) block(kind string, y0, y1 float64) {
+	d.blocks = append(d.blocks, Block{Kind: kind, Page: d.pdf.PageNo(), X: marginX, Y: y0, W: contentW, H: y1 - y0})
+}
 
 func (d *doc) drawHeader() {
 	p := d.pdf
@@ -158,6 +216,7 @@ func (d *doc) drawFooter() {
 	p.SetDrawColor(ink.R, ink.G, ink.B)
 	p.SetLineWidth(0.6)
 	p.Rect(marginX, y, contentW, footerH-5, "D")
+	d.block("caution", y, y+footerH-5)
 	d.font("B", smallSize, ink)
 	d.put(marginX+2.5, y+2, 3.6, "CAUTION: advisory only")
 	d.font("", 7.2, ink)
@@ -555,6 +614,7 @@ func (d *doc) signOffBlock(draw bool) float64 {
 		return h
 	}
 	d.mark("sign-off")
+	top := d.y()
 	d.headingBlock("Sign-off", true)
 	y0 := d.y()
 	colW := (contentW - gap) / 2
@@ -573,20 +633,34 @@ func (d *doc) signOffBlock(draw bool) float64 {
 		}
 	}
 	d.setY(y0 + 4.5 + float64(len(fields))*rowH + 1)
+	d.block("sign-off", top, d.y())
 	return h
 }
 
 // keyAssumptionsBlock draws (or measures) the key assumptions as a
 // headed list; it returns the height.
 func (d *doc) keyAssumptionsBlock(items []string, draw bool) float64 {
-	if draw {
-		d.mark("key assumptions")
+	if !draw {
+		return d.headingBlock("Key assumptions", false) + d.bullets(items, false)
 	}
-	return d.headingBlock("Key assumptions", draw) + d.bullets(items, draw)
+	d.mark("key assumptions")
+	page, top := d.pdf.PageNo(), d.y()
+	h := d.headingBlock("Key assumptions", true) + d.bullets(items, true)
+	if d.pdf.PageNo() == page {
+		d.block("key assumptions", top, d.y())
+	} else {
+		// Broken across pages: recorded as far as the end of the frame, so
+		// that the check sees it run over.
+		d.blocks = append(d.blocks, Block{Kind: "key assumptions", Page: page, X: marginX, Y: top, W: contentW, H: contentBottom - top + 1})
+	}
+	return h
 }
 
 // pdfTable is a table of wrapped text cells.
 type pdfTable struct {
+	// title is the table's title, printed above it by the caller and
+	// repeated with "(continued)" above every part on a later page.
+	title  string
 	header []string
 	// widths are relative; they are scaled to the content width, and
 	// widened where a column's numbers or words would not fit.
@@ -802,9 +876,48 @@ func (d *doc) tableUntil(t *pdfTable, from int, limit float64, minRows int) int 
 	return d.tablePart(t, groups[0], from, limit, minRows)
 }
 
+// minPartRows is the fewest rows a part of a table holds on a page when
+// the table breaks; a table of fewer than twice as many rows does not
+// break (it moves whole).
+const minPartRows = 3
+
+// splitAt returns how many of the n rows left of a table to draw on this
+// page when fit of them fit: all when all fit, else as many as fit while
+// leaving at least minPartRows for the next page, or 0 (the rest moves)
+// when that leaves fewer than minPartRows here.
+func splitAt(n, fit int) int {
+	if fit >= n {
+		return n
+	}
+	k := min(fit, n-minPartRows)
+	if k < minPartRows {
+		return 0
+	}
+	return k
+}
+
+// rowsFitting is how many rows of t from row from fit between y and
+// limit under the header, with columns cols.
+func (d *doc) rowsFitting(t *pdfTable, cols []int, from int, y, limit float64) int {
+	w := widthsOf(t, cols)
+	y += d.layRow(t, t.header, cols, w, true, -1).h
+	n := 0
+	for i := from; i < len(t.rows); i++ {
+		y += d.layRow(t, t.rows[i], cols, w, false, i).h
+		if y > limit {
+			break
+		}
+		n++
+	}
+	return n
+}
+
 // tablePart draws columns cols of the rows from row from. With minRows 0
 // it breaks pages as needed and draws every row; otherwise it stops at
 // limit and returns the first row not drawn (len(rows) when all are).
+// Every part on a page holds at least minPartRows rows unless the whole
+// table is shorter; a part on a later page repeats the title with
+// "(continued)" and the header row.
 func (d *doc) tablePart(t *pdfTable, cols []int, from int, limit float64, minRows int) int {
 	w := widthsOf(t, cols)
 	head := d.layRow(t, t.header, cols, w, true, -1)
@@ -813,38 +926,60 @@ func (d *doc) tablePart(t *pdfTable, cols []int, from int, limit float64, minRow
 		rows[i] = d.layRow(t, t.rows[i], cols, w, false, i)
 	}
 	bounded := minRows > 0
+	cont := ""
+	if t.title != "" {
+		cont = t.title + " (continued)"
+	}
 	i := from
+	title := ""
+	if from > 0 {
+		title = cont
+	}
 	for i < len(t.rows) {
-		// Rows that fit on this page, leaving no widow of fewer than three
-		// rows for the next page when this page can spare them.
 		y := d.y() + head.h
-		end := i
-		for end < len(t.rows) && y+rows[end].h <= limit {
+		if title != "" {
+			y += d.headingBlock(title, false)
+		}
+		fit := 0
+		for end := i; end < len(t.rows) && y+rows[end].h <= limit; end++ {
 			y += rows[end].h
-			end++
+			fit++
 		}
-		if left := len(t.rows) - end; left > 0 && left < 3 && end-i-(3-left) >= 3 {
-			end = len(t.rows) - 3
-		}
-		if end == i || (bounded && end-i < minRows && end < len(t.rows)) {
+		k := splitAt(len(t.rows)-i, fit)
+		if k == 0 {
 			if bounded {
 				return i
 			}
 			if d.y() > marginTop+1 {
 				d.pdf.AddPage()
+				if i > 0 {
+					title = cont
+				}
 				continue
 			}
-			end = i + 1 // a row taller than a page
+			k = max(fit, 1) // a part taller than a page
 		}
+		if title != "" {
+			d.headingBlock(title, true)
+		}
+		top := d.y()
 		d.drawRow(t, t.header, cols, w, head, true, -1)
+		end := i + k
 		for ; i < end; i++ {
 			d.drawRow(t, t.rows[i], cols, w, rows[i], false, i)
 		}
+		total := 0.0
+		for _, x := range w {
+			total += x
+		}
+		d.blocks = append(d.blocks, Block{Kind: "table", Page: d.pdf.PageNo(), X: marginX, Y: top, W: total, H: d.y() - top,
+			Of: t.title, Title: title, Header: true, From: end - k, Rows: k, Total: len(t.rows)})
 		if i < len(t.rows) {
 			if bounded {
 				return i
 			}
 			d.pdf.AddPage()
+			title = cont
 		}
 	}
 	return i
@@ -919,6 +1054,9 @@ func (d *doc) output(w io.Writer) error {
 	var buf bytes.Buffer
 	if err := d.pdf.Output(&buf); err != nil {
 		return fmt.Errorf("reports: PDF: %w", err)
+	}
+	if d.layout != nil {
+		*d.layout = Layout{Pages: d.pdf.PageNo(), Blocks: d.blocks}
 	}
 	out, err := withLang(buf.Bytes(), docLang)
 	if err != nil {

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strings"
 )
 
@@ -98,6 +99,8 @@ func (b *SystemBrief) front() front {
 		"Condition scales, best first: " + strings.Join(scales, "; ") + ".",
 		"Objective: least expected discounted cost of the whole machine over an unlimited horizon; unsafe conditions are never left as they are.",
 	}
+	f.short = slices.Clone(f.assumptions)
+	f.short[3] = fmt.Sprintf("Condition scales: each of the %d components' scales, best first, is listed with its inputs on the certificate pages.", len(sys.Components))
 	return f
 }
 

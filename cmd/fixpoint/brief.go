@@ -148,7 +148,7 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	write := func(w interface{ WritePDF(io.Writer) error }) error {
 		return glyphHint(path, out.Write(cmd.Context(), a.stdout, func(wr io.Writer) error { return w.WritePDF(wr) }))
 	}
-	im := reports.Imprint{Date: st.Date, PreparedFor: st.PreparedFor, PreparedBy: st.PreparedBy, Fonts: fonts}
+	im := reports.Imprint{Date: st.Date, PreparedFor: st.PreparedFor, PreparedBy: st.PreparedBy, Fonts: fonts, Layout: a.layout}
 	switch {
 	case f.Fleet != nil:
 		if err := a.src.NotFor("a fleet file", " (they shape a class or system brief)",

@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"fmt"
 	"html"
@@ -92,7 +93,146 @@ var (
 	printTop, printBottom  = 8 * mmPt, 292 * mmPt
 	bodyTop, cautionTop    = 14 * mmPt, (297 - 10 - 26) * mmPt
 	minBodyLinesOnLastPage = 5
+	// frameBottom is the bottom of the text frame (6 mm above the caution
+	// box), with 0.5 pt of slack.
+	frameBottom = (297-10-26-6)*mmPt + 0.5
+	// minPageFill is the least share of the text frame, from its top to
+	// the lowest word, that a page other than the last fills.
+	minPageFill = 0.25
 )
+
+// signOffWords are the words of the sign-off block.
+var signOffWords = map[string]bool{"Sign-off": true, "Reviewed": true, "by": true, "(competent": true, "person)": true,
+	"Approved": true, "Name": true, "Role": true, "Signature": true, "Date": true}
+
+// signOffProblems checks, from the words of page 1, that the sign-off
+// block (from its heading to its last "Date" line, with the rule under
+// it) holds no other word and ends above the caution box.
+func signOffProblems(name string, words []bboxWord) []string {
+	var out []string
+	top, bottom := -1.0, -1.0
+	for _, w := range words {
+		if w.text == "Sign-off" && top < 0 {
+			top = w.yMin
+		}
+	}
+	if top < 0 {
+		return nil // reported as no "Sign-off"
+	}
+	for _, w := range words {
+		if w.text == "Date" && w.yMin > top && w.yMin < top+40*mmPt {
+			bottom = max(bottom, w.yMax+2*mmPt)
+		}
+	}
+	if bottom < 0 {
+		return []string{fmt.Sprintf("%s page 1: the sign-off has no Date line", name)}
+	}
+	if bottom > cautionTop {
+		out = append(out, fmt.Sprintf("%s page 1: the sign-off (%.1f-%.1f mm) overlaps the caution box (from %.1f mm)", name, top/mmPt, bottom/mmPt, cautionTop/mmPt))
+	}
+	for _, w := range words {
+		if w.yMax > top+0.5 && w.yMin < bottom-0.5 && !signOffWords[w.text] && w.yMin < cautionTop {
+			out = append(out, fmt.Sprintf("%s page 1: %q lies in the sign-off block", name, w.text))
+		}
+	}
+	return out
+}
+
+// cautionText joins the words inside the caution box of a page, line by
+// line.
+func cautionText(words []bboxWord) string {
+	var in []bboxWord
+	for _, w := range words {
+		if w.yMin >= cautionTop && w.yMax <= cautionTop+21*mmPt {
+			in = append(in, w)
+		}
+	}
+	sort.SliceStable(in, func(i, j int) bool {
+		if !sameLine(in[i], in[j]) {
+			return in[i].yMin < in[j].yMin
+		}
+		return in[i].xMin < in[j].xMin
+	})
+	var parts []string
+	for _, w := range in {
+		parts = append(parts, w.text)
+	}
+	return strings.Join(parts, " ")
+}
+
+// blockProblems checks the blocks the layout engine placed (its own
+// measured extents): no two blocks of a page overlap and every block but
+// the caution lies in the text frame; the sign-off and the key
+// assumptions are on page 1, whole; a table that breaks keeps at least
+// three rows in every part, and a part on a later page repeats the
+// header row and the title with "(continued)".
+func blockProblems(name string, l reports.Layout) []string {
+	var out []string
+	report := func(format string, args ...any) { out = append(out, name+": "+fmt.Sprintf(format, args...)) }
+	desc := func(b reports.Block) string {
+		s := b.Kind
+		if b.Kind == "table" {
+			s = fmt.Sprintf("table %q rows %d-%d", b.Of, b.From+1, b.From+b.Rows)
+		}
+		return fmt.Sprintf("%s (page %d, %.1f-%.1f mm)", s, b.Page, b.Y, b.Y+b.H)
+	}
+	const frameTop, frameBottom = 14.0, 297 - 10 - 26 - 6 + 0.3
+	onFirst := map[string]int{}
+	for i, a := range l.Blocks {
+		if a.Kind != "caution" && (a.Y < frameTop || a.Y+a.H > frameBottom) {
+			report("%s lies outside the text frame (%.0f-%.1f mm)", desc(a), frameTop, frameBottom)
+		}
+		if a.Kind == "sign-off" || a.Kind == "key assumptions" {
+			onFirst[a.Kind]++
+			if a.Page != 1 {
+				report("%s is not on page 1", desc(a))
+			}
+		}
+		for _, b := range l.Blocks[i+1:] {
+			if a.Page != b.Page {
+				continue
+			}
+			ix := min(a.X+a.W, b.X+b.W) - max(a.X, b.X)
+			iy := min(a.Y+a.H, b.Y+b.H) - max(a.Y, b.Y)
+			if ix > 0.3 && iy > 0.3 {
+				report("%s overlaps %s", desc(a), desc(b))
+			}
+		}
+		if a.Kind != "table" {
+			continue
+		}
+		if a.Rows < a.Total && a.Rows < 3 {
+			report("%s: a part of %d of the table's %d rows (at least 3 on each side of a break)", desc(a), a.Rows, a.Total)
+		}
+		if a.From > 0 && !a.Header {
+			report("%s: a continued part without the header row", desc(a))
+		}
+		if a.From > 0 && a.Of != "" && a.Title != a.Of+" (continued)" {
+			report("%s: a continued part titled %q, want %q", desc(a), a.Title, a.Of+" (continued)")
+		}
+	}
+	for _, k := range []string{"sign-off", "key assumptions"} {
+		if onFirst[k] != 1 {
+			report("%d %s blocks, want 1", onFirst[k], k)
+		}
+	}
+	return out
+}
+
+// writeBriefLayout writes a brief as writeBrief does and returns, beside
+// its path, the blocks the layout engine placed.
+func writeBriefLayout(t *testing.T, config string, extra ...string) (string, reports.Layout) {
+	t.Helper()
+	out := filepath.Join(t.TempDir(), "brief.pdf")
+	var l reports.Layout
+	var stdout, stderr bytes.Buffer
+	a := &app{stdin: bytes.NewReader(nil), stdout: &stdout, stderr: &stderr, layout: &l}
+	args := append([]string{"brief", config, "-o", out, "--date", "2026-12-01"}, extra...)
+	if code := a.run(context.Background(), args); code != 0 {
+		t.Fatalf("brief: exit %d: %s", code, stderr.String())
+	}
+	return out, l
+}
 
 // splitNumber reports whether a word at a line's end and the first word
 // of the next line are one number broken in two ("38,647," / "410.54",
@@ -163,6 +303,7 @@ func layoutProblems(t *testing.T, path, date string, signable bool) []string {
 			}
 		}
 		body := map[int]bool{}
+		lowest := bodyTop
 		// Words in reading order from the top; each is compared with the
 		// words that start above its bottom edge plus a line.
 		sort.SliceStable(words, func(i, j int) bool { return words[i].yMin < words[j].yMin })
@@ -175,6 +316,10 @@ func layoutProblems(t *testing.T, path, date string, signable bool) []string {
 			}
 			if a.yMin > bodyTop && a.yMax < cautionTop {
 				body[int(a.yMin/4)] = true
+				lowest = max(lowest, a.yMax)
+			}
+			if a.yMin > bodyTop && a.yMin < cautionTop && a.yMax > frameBottom {
+				report("%s page %d: %q at %.1f-%.1f mm runs below the text frame into the caution box", filepath.Base(path), p+1, a.text, a.yMin/mmPt, a.yMax/mmPt)
 			}
 			h := a.yMax - a.yMin
 			for _, b := range words[i+1:] {
@@ -196,6 +341,16 @@ func layoutProblems(t *testing.T, path, date string, signable bool) []string {
 		}
 		if p > 0 && len(body) < minBodyLinesOnLastPage {
 			report("%s page %d holds only %d lines", filepath.Base(path), p+1, len(body))
+		}
+		if fill := (lowest - bodyTop) / (frameBottom - bodyTop); p < len(pages)-1 && fill < minPageFill {
+			report("%s page %d is only %.0f%% full (the text frame down to its lowest word; at least %.0f%% on every page but the last)",
+				filepath.Base(path), p+1, 100*fill, 100*minPageFill)
+		}
+		if c := cautionText(words); c != cautionText(pages[len(pages)-1]) || !strings.HasPrefix(c, "CAUTION: advisory only") {
+			report("%s page %d: the caution box holds %q, unlike the last page's", filepath.Base(path), p+1, c)
+		}
+		if p == 0 && signable {
+			problems = append(problems, signOffProblems(filepath.Base(path)+"", words)...)
 		}
 		if p == 0 && signable {
 			for _, want := range []string{"Recommendation", "Key assumptions", "Sign-off", "Signature", "SHA-256", "Certified"} {
@@ -247,7 +402,22 @@ var hostile = []struct {
 	{"relief-fleet", "fleet", []string{"../../configs/relief-fleet.yaml"}, false},
 	{"robust", "class", []string{"testdata/hostile/long.yaml", "--robust-radius", "0.1"}, false},
 	{"inspection", "class", []string{"testdata/hostile/inspection.yaml", "--units", "240"}, false},
+	{"long-imprint", "class", []string{"testdata/hostile/long.yaml", "--prepared-for", longFor, "--prepared-by", longBy}, false},
+	{"machine6long", "system", []string{"testdata/hostile/machine6long.yaml", "--prepared-for", longFor, "--prepared-by", longBy}, false},
+	{"machine6-tol", "system", []string{"testdata/hostile/machine6.yaml", "--tol", "1"}, false},
+	{"cjk30", "class", []string{"testdata/hostile/cjk30.yaml", "--prepared-for", cjkFor, "--prepared-by", cjkBy}, true},
+	{"pumps-imprint", "class", []string{demo, "--prepared-for", longFor, "--prepared-by", longBy}, false},
+	{"short7", "class", []string{"testdata/hostile/short7.yaml"}, false},
 }
+
+// Long --prepared-for and --prepared-by values (about 100 characters),
+// in Latin and in Chinese, Japanese and Korean script (invented).
+const (
+	longFor = "Kestrel Valley Water asset management board, north-east zones, capital programme review panel 2026"
+	longBy  = "R. Example-Beispiel, principal asset engineer (invented), on behalf of the maintenance planning office"
+	cjkFor  = "ケストレル渓谷水道株式会社 北東地区 資産管理委員会 設備保全計画部会 第二小委員会 事務局 御中 二〇二六年度 点検計画審議用資料 配水施設班"
+	cjkBy   = "김 예시 수석 자산 기술자 (가상) 설비 보전 계획실 대표 ケストレル渓谷水道 保全計画課 主任技師 代理 作成者 山田 例示 太郎"
+)
 
 // hostileFleet is the fleet of twenty classes.
 const hostileFleet = "testdata/hostile/fleet20/fleet.yaml"
@@ -275,8 +445,11 @@ func TestBriefLayoutHostile(t *testing.T) {
 			if tc.cjk {
 				haveCJKFont(t)
 			}
-			path := writeBrief(t, tc.args[0], tc.args[1:]...)
+			path, blocks := writeBriefLayout(t, tc.args[0], tc.args[1:]...)
 			checkLayout(t, path, "2026-12-01", true)
+			for _, p := range blockProblems(tc.name, blocks) {
+				t.Error(p)
+			}
 			words := map[string]bool{}
 			for _, page := range pdfWords(t, path) {
 				for _, w := range page {
@@ -416,7 +589,10 @@ func TestBriefDeterministicAcrossCores(t *testing.T) {
 }
 
 // The layout check can fail: a page with overprinted words, a word in
-// the margin, a number split across lines and no caution fails it.
+// the margin, a number split across lines and no caution fails it; so do
+// a sign-off run into the caution box, a near-empty page before the
+// last, and blocks of the engine that overlap, leave the frame or break
+// a table badly.
 func TestLayoutCheckCatchesFaults(t *testing.T) {
 	pdf := gofpdf.New("P", "mm", "A4", "")
 	pdf.AddUTF8FontFromBytes("go", "", goregular.TTF)
@@ -436,6 +612,57 @@ func TestLayoutCheckCatchesFaults(t *testing.T) {
 		`no "CAUTION: advisory only"`, `no "Sign-off"`} {
 		if !strings.Contains(got, want) {
 			t.Errorf("layout check missed %s; it said:\n%s", want, got)
+		}
+	}
+
+	// A sign-off run into the caution box with a word inside it, a page
+	// 2 with a few lines only before the last page, a word below the text
+	// frame, and a caution box that differs from the last page's.
+	pdf = gofpdf.New("P", "mm", "A4", "")
+	pdf.AddUTF8FontFromBytes("go", "", goregular.TTF)
+	pdf.AddPage()
+	pdf.SetFont("go", "", 9)
+	pdf.Text(30, 30, "Recommendation")
+	pdf.Text(30, 240, "Sign-off")
+	pdf.Text(30, 248, "Name")
+	pdf.Text(60, 248, "stray")
+	pdf.Text(30, 258, "Role")
+	pdf.Text(30, 266, "Date")
+	pdf.Text(30, 268, "CAUTION: advisory only")
+	for range 2 {
+		pdf.AddPage()
+		pdf.Text(30, 40, "a page of text")
+		pdf.Text(30, 268, "CAUTION: advisory only")
+	}
+	path = filepath.Join(t.TempDir(), "bad2.pdf")
+	if err := pdf.OutputFileAndClose(path); err != nil {
+		t.Fatal(err)
+	}
+	got = strings.Join(layoutProblems(t, path, "2026-12-01", true), "\n")
+	for _, want := range []string{`the sign-off (`, `overlaps the caution box`, `"stray" lies in the sign-off block`, `page 2 is only`,
+		`"Role" at`, `runs below the text frame`, `page 1: the caution box holds`} {
+		if !strings.Contains(got, want) {
+			t.Errorf("layout check missed %s; it said:\n%s", want, got)
+		}
+	}
+
+	// The engine's blocks: a sign-off over the caution, a key
+	// assumptions block on page 2, a table broken 5+1 whose continued
+	// part has neither header nor title, and a chart below the frame.
+	l := reports.Layout{Pages: 2, Blocks: []reports.Block{
+		{Kind: "sign-off", Page: 1, X: 18, Y: 230, W: 174, H: 40},
+		{Kind: "caution", Page: 1, X: 18, Y: 261, W: 174, H: 21},
+		{Kind: "key assumptions", Page: 2, X: 18, Y: 20, W: 174, H: 30},
+		{Kind: "table", Page: 1, X: 18, Y: 100, W: 174, H: 40, Of: "Advice per condition", Header: true, From: 0, Rows: 5, Total: 6},
+		{Kind: "table", Page: 2, X: 18, Y: 60, W: 174, H: 10, Of: "Advice per condition", From: 5, Rows: 1, Total: 6},
+		{Kind: "chart", Page: 2, X: 18, Y: 200, W: 174, H: 70},
+	}}
+	got = strings.Join(blockProblems("bad", l), "\n")
+	for _, want := range []string{`sign-off (page 1, 230.0-270.0 mm) overlaps caution`, `sign-off (page 1, 230.0-270.0 mm) lies outside the text frame`,
+		`key assumptions (page 2, 20.0-50.0 mm) is not on page 1`, `a part of 1 of the table's 6 rows`, `a continued part without the header row`,
+		`a continued part titled "", want "Advice per condition (continued)"`, `chart (page 2, 200.0-270.0 mm) lies outside the text frame`} {
+		if !strings.Contains(got, want) {
+			t.Errorf("block check missed %s; it said:\n%s", want, got)
 		}
 	}
 }

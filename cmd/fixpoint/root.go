@@ -42,6 +42,9 @@ type app struct {
 	known []string
 	// inputs are the files read in the run, protected from being written.
 	inputs []string
+	// layout, when not nil, receives the blocks of a brief as laid out
+	// (for the layout tests).
+	layout *reports.Layout
 }
 
 // run builds a fresh command tree, runs it on args and returns the exit
@@ -49,12 +52,17 @@ type app struct {
 func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	a := &app{stdin: stdin, stdout: stdout, stderr: stderr}
+	return (&app{stdin: stdin, stdout: stdout, stderr: stderr}).run(ctx, args)
+}
+
+// run runs the command tree of a on args; see the function run.
+func (a *app) run(ctx context.Context, args []string) int {
+	stderr := a.stderr
 	root := a.newRoot()
 	root.SetArgs(args)
-	root.SetIn(stdin)
-	root.SetOut(stdout)
-	root.SetErr(stderr)
+	root.SetIn(a.stdin)
+	root.SetOut(a.stdout)
+	root.SetErr(a.stderr)
 	err := root.ExecuteContext(ctx)
 	if err == nil {
 		return exitOK
