@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"strconv"
 	"strings"
 
 	"fixpoint/condition"
@@ -129,10 +130,10 @@ func (pl *Plan) check(m *condition.Model) ([]error, []kind) {
 	for i, k := range pl.Intervals {
 		switch {
 		case k < 1 || k > MaxPeriods:
-			add("intervals", i, -1, "interval of %d periods is outside 1..%d", k, MaxPeriods)
+			add("intervals", i, -1, "an interval of %s is outside 1..%d periods", periods(k), MaxPeriods)
 			sound = false
 		case i > 0 && k <= pl.Intervals[i-1]:
-			add("intervals", i, -1, "interval of %d periods does not exceed the one before (%d); list intervals in increasing order, each once", k, pl.Intervals[i-1])
+			add("intervals", i, -1, "an interval of %s does not exceed the one before (%d); list intervals in increasing order, each once", periods(k), pl.Intervals[i-1])
 			sound = false
 		}
 	}
@@ -181,4 +182,12 @@ func (pl *Plan) check(m *condition.Model) ([]error, []kind) {
 		}
 	}
 	return errs, kinds
+}
+
+// periods says k periods: "1 period", "3 periods".
+func periods(k int) string {
+	if k == 1 {
+		return "1 period"
+	}
+	return strconv.Itoa(k) + " periods"
 }

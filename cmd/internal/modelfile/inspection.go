@@ -75,6 +75,7 @@ func (c *Class) decodeInspection(d *doc, top map[string]field, valid bool) {
 	// bad marks the fields (named as inspect.Fault names them) whose
 	// values could not be decoded.
 	bad := map[string]bool{}
+	unnamed := false // an entry of hidden or risk_cost names no state
 	number := func(key, field string, required bool, hint string) float64 {
 		fv, has := fields[key]
 		if !has {
@@ -114,15 +115,23 @@ func (c *Class) decodeInspection(d *doc, top map[string]field, valid bool) {
 	if fv, has := fields["hidden"]; has {
 		nodes.hidden = d.sequence(fv.value, "inspection.hidden")
 		bad["hidden"] = d.resolve(fv.value).Kind != yaml.SequenceNode
+		// An entry that names no state is faulted here and left out, so
+		// that the faults of meaning of the others are still listed.
+		var kept []*yaml.Node
 		for i, it := range nodes.hidden {
 			path := index("inspection.hidden", i)
 			s := -1
 			if _, good := d.str(it, path); good {
 				s = c.stateRef(d, d.resolve(it), path)
 			}
-			bad["hidden"] = bad["hidden"] || s < 0
+			if s < 0 {
+				unnamed = true
+				continue
+			}
+			kept = append(kept, it)
 			pl.Hidden = append(pl.Hidden, s)
 		}
+		nodes.hidden = kept
 	}
 	if fv, has := fields["risk_cost"]; has {
 		risk := d.mapping(fv.value, "inspection.risk_cost", nil)
@@ -133,7 +142,8 @@ func (c *Class) decodeInspection(d *doc, top map[string]field, valid bool) {
 			path := join("inspection.risk_cost", key)
 			s := c.stateRef(d, rf.key, path)
 			v, good := d.number(rf.value, path)
-			bad["risk_cost"] = bad["risk_cost"] || s < 0 || !good
+			bad["risk_cost"] = bad["risk_cost"] || !good
+			unnamed = unnamed || s < 0
 			if s >= 0 {
 				pl.RiskCost[s] = v
 				nodes.risk[s] = rf.key
@@ -147,6 +157,7 @@ func (c *Class) decodeInspection(d *doc, top map[string]field, valid bool) {
 	for _, b := range bad {
 		sound = sound && !b
 	}
+	sound = sound && !unnamed
 	if !valid || d.cancelled() {
 		return
 	}

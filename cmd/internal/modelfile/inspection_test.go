@@ -100,3 +100,21 @@ func denseClass(n int) string {
 	}
 	return b.String()
 }
+
+// A hidden or risk_cost entry naming no state does not hide the faults of
+// meaning of the other entries: every problem is listed at once.
+func TestInspectionListsEveryFault(t *testing.T) {
+	const head = "version: 1\ncurrency: EUR\nperiod_years: 1\ndiscount: {rate: 4%}\nstates: [a, w, {name: b, unsafe: true}]\n" +
+		"actions:\n  - {name: leave, passive: true, transitions: {a: {a: 0.9, w: 0.1}, w: {w: 0.9, b: 0.1}}}\n  - {name: fix, cost: 5, matrix: [[1, 0, 0], [1, 0, 0], [1, 0, 0]]}\n"
+	data := head + "inspection: {cost: 1, intervals: [1, 2], hidden: [a, nope], risk_cost: {w: 5, zz: 1}, max_interval_years: 2}\n"
+	_, err := Decode(context.Background(), "c.yaml", []byte(data), Options{})
+	if err == nil {
+		t.Fatal("want faults")
+	}
+	for _, want := range []string{"inspection.hidden[1]: unknown state \"nope\"", "inspection.hidden[0]: state \"a\" is not unsafe",
+		"inspection.risk_cost.zz: unknown state \"zz\"", "inspection.risk_cost.w: state \"w\" has a risk cost but is not a hidden failure"} {
+		if !strings.Contains(err.Error(), want) {
+			t.Errorf("faults lack %q:\n%v", want, err)
+		}
+	}
+}
