@@ -58,7 +58,11 @@
 // Subpackages. optimize/fleet plans a fleet of classes under yearly
 // budgets (column generation with Lagrangian bounds); optimize/system
 // solves machines of components sharing a shutdown on the product state
-// space. Each follows the same Problem/Settings/Result pattern.
+// space; optimize/inspect chooses the action and the next inspection
+// interval together (a semi-Markov decision process with hidden failures);
+// optimize/robust gives the advice that holds for every transition row in
+// (s,a)-rectangular L1 or KL ambiguity sets. Each follows the same
+// Problem/Settings/Result pattern and the same certificate.
 //
 // References. R. A. Howard, Dynamic Programming and Markov Processes, MIT
 // Press, 1960. J. MacQueen, A modified dynamic programming method for

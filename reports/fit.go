@@ -173,6 +173,9 @@ func (f *FitReport) header() []string {
 // roughNote flags a row resting on few transitions.
 func (f *FitReport) roughNote(r *condition.RowEstimate) string {
 	if r.N < f.Rough {
+		if r.N == 1 {
+			return "ROUGH: only 1 transition"
+		}
 		return fmt.Sprintf("ROUGH: only %d transitions", r.N)
 	}
 	return ""

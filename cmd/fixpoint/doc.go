@@ -41,6 +41,9 @@
 // Layers. main is wiring only: cmd/internal/modelfile reads model files
 // (class, system, fleet) once, strictly, with located faults;
 // cmd/internal/settings reads one typed settings struct per command;
+// cmd/internal/answer turns a model file and settings into the report
+// views (solving, certificates and their exit-3 errors);
+// cmd/internal/starters holds the starter files of init;
 // cmd/internal/outfile writes outputs safely; cmd/internal/progress draws
 // the progress bar.
 //

@@ -503,3 +503,19 @@ func TestREADMEConfigs(t *testing.T) {
 		t.Errorf("README.md: %d checked configs, want at least 2", checked)
 	}
 }
+
+// Every project file the README names in backquotes (a test file, a config,
+// a package folder's Go file) exists, so that "checked in X_test.go" stays
+// true when files move.
+func TestREADMEFilePaths(t *testing.T) {
+	data, err := os.ReadFile(readmePath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	re := regexp.MustCompile("`((?:cmd|condition|costs|optimize|reports|configs|testdata|docs)/[A-Za-z0-9_./-]+\\.(?:go|yaml|csv|json|png))`")
+	for _, m := range re.FindAllStringSubmatch(string(data), -1) {
+		if _, err := os.Stat(filepath.Join("..", "..", m[1])); err != nil {
+			t.Errorf("README names %s, which does not exist", m[1])
+		}
+	}
+}

@@ -121,6 +121,11 @@ proven optimality, and reports what to do in every condition.
 
 Output is advisory: statutory and safety inspections follow local regulation,
 and a competent or licensed inspector's finding overrides the advice.`,
+		Example: `  fixpoint init pumps.yaml && fixpoint check pumps.yaml
+  fixpoint solve configs/pumps.yaml
+  fixpoint brief configs/pumps.yaml -o pumps-brief.pdf
+  fixpoint plan configs/east-zone.yaml --rates 3%,5%,7%
+  fixpoint --version`,
 		Version:       version(),
 		SilenceErrors: true,
 		SilenceUsage:  true,
@@ -142,6 +147,17 @@ and a competent or licensed inspector's finding overrides the advice.`,
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usagef("%v", err) })
 	root.AddCommand(a.newSolve(), a.newCompare(), a.newSensitivity(), a.newForecast(), a.newPlan(), a.newBrief(),
 		a.newFit(), a.newCheck(), a.newInit())
+	root.InitDefaultCompletionCmd()
+	for _, c := range root.Commands() {
+		if c.Name() == "completion" {
+			c.Example = `  fixpoint completion bash > ~/.local/share/bash-completion/completions/fixpoint
+  fixpoint completion zsh > "${fpath[1]}/_fixpoint"
+  fixpoint completion fish > ~/.config/fish/completions/fixpoint.fish`
+			for _, sh := range c.Commands() {
+				sh.Example = "  source <(fixpoint completion " + sh.Name() + ")"
+			}
+		}
+	}
 	a.known = settingKeys(root)
 	return root
 }

@@ -4,7 +4,10 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
+
+	"github.com/spf13/cobra"
 )
 
 // Precedence of run-time settings: flag > FIXPOINT_* env > settings file >
@@ -49,4 +52,18 @@ func TestSettingsPrecedence(t *testing.T) {
 			}
 		})
 	}
+}
+
+// Every command's --help shows examples, the root's and completion's too.
+func TestEveryCommandHasExamples(t *testing.T) {
+	var walk func(c *cobra.Command)
+	walk = func(c *cobra.Command) {
+		if !c.Hidden && c.Name() != "help" && strings.TrimSpace(c.Example) == "" {
+			t.Errorf("%q has no examples in its help", c.CommandPath())
+		}
+		for _, sub := range c.Commands() {
+			walk(sub)
+		}
+	}
+	walk((&app{}).newRoot())
 }

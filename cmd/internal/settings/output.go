@@ -68,6 +68,9 @@ func (s *Source) Output(formats ...string) (Output, error) {
 	case !s.given("format"):
 		o.Format = implied
 	case implied != o.Format:
+		if !s.Changed("format") {
+			return o, Errorf("format %s (from FIXPOINT_FORMAT or the settings file) contradicts the output file %s (named as %s); give --format %s or rename the file", o.Format, o.Path, fileKind[implied], implied)
+		}
 		return o, Errorf("--format %s contradicts the output file %s (named as %s); drop --format or rename the file", o.Format, o.Path, fileKind[implied])
 	}
 	if o.Format == "xlsx" && o.Path == "" {
