@@ -6,13 +6,19 @@ import (
 )
 
 // FuzzReadRecords: any input gives an error or records that BuildPanel
-// accepts; never a panic.
+// accepts, and a survey that agrees with itself; never a panic.
 func FuzzReadRecords(f *testing.F) {
 	f.Add("unit,date,condition,action\np1,2020-01-01,good,\np1,2021-01-03,worn,\np1,2022-01-02,good,overhaul\n")
 	f.Add("Unit,Date,Condition\n\"a\",2020-02-29,failed\n")
 	f.Add("unit,date,condition\np,2020-01-01\n")
 	f.Add("\ufeffunit;date;condition\n")
 	f.Fuzz(func(t *testing.T, in string) {
+		if sv, warn, err := SurveyRecords(strings.NewReader(in)); err == nil {
+			checkWarnings(t, "SurveyRecords", warn, 3)
+			if sv.Records > 0 && (sv.Units == 0 || sv.Units > sv.Records || len(sv.Conditions) == 0 || sv.First > sv.Last) {
+				t.Fatalf("survey %+v", sv)
+			}
+		}
 		recs, warn, err := ReadRecords(strings.NewReader(in), scale3)
 		if err != nil {
 			return
