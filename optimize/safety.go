@@ -79,3 +79,53 @@ func UnsafeStay(m *condition.Model, policy []int) []float64 {
 	}
 	return out
 }
+
+// UnsafeStayWorst is UnsafeStay for advice that may take, in state s, any
+// of the actions used[s] (a joint plan of several components, or a budget
+// plan, where a unit's action depends on more than its own condition):
+// the largest expected stay in unsafe states over every policy that picks
+// one of used[s] in each unsafe state s, and such a policy (worst[s]; 0
+// where used[s] is empty). It is found by policy iteration on the
+// maximal expected time to leave the unsafe states, a positive model
+// (M. L. Puterman, Markov Decision Processes, 1994, §7.2.5): each step
+// takes in every unsafe state an action that raises 1 + Σ_u P(s,u)·t(u)
+// above its value t(s), so the stays only grow and the loop ends. With
+// one action per state it equals UnsafeStay of that policy.
+func UnsafeStayWorst(m *condition.Model, used [][]int) (stay []float64, worst []int) {
+	worst = make([]int, len(m.States))
+	for s, as := range used {
+		if len(as) > 0 {
+			worst[s] = as[0]
+		}
+	}
+	q := func(t []float64, s, a int) float64 {
+		x := 1.0
+		for _, e := range m.Actions[a].Rows[s] {
+			if e.P > 0 && m.States[e.To].Unsafe {
+				x += e.P * t[e.To]
+			}
+		}
+		return x
+	}
+	// Every step changes the policy to a strictly longer stay; the cap
+	// only guards against rounding.
+	for range 1 + len(m.States)*len(m.Actions) {
+		stay = UnsafeStay(m, worst)
+		changed := false
+		for s, as := range used {
+			if !m.States[s].Unsafe {
+				continue
+			}
+			best := q(stay, s, worst[s])
+			for _, a := range as {
+				if v := q(stay, s, a); v > best*(1+1e-9) {
+					worst[s], best, changed = a, v, true
+				}
+			}
+		}
+		if !changed {
+			break
+		}
+	}
+	return stay, worst
+}

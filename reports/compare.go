@@ -19,6 +19,37 @@ type Comparison struct {
 	Inflation    float64
 	HasInflation bool
 	Compare      *optimize.Comparison
+	// Warnings[i] are the safety warnings about the advice at the rate of
+	// Compare.Rows[i].
+	Warnings [][]string
+}
+
+// notes are the out-of-service notes and safety warnings of the advice at
+// every rate, each once, led by the rates where it holds.
+func (c *Comparison) notes() []string {
+	var order []string
+	rates := map[string][]string{}
+	for i, r := range c.Compare.Rows {
+		list := c.serviceNotes(r.Policy, c.Actions)
+		if i < len(c.Warnings) {
+			list = append(list, c.Warnings[i]...)
+		}
+		for _, n := range list {
+			if _, ok := rates[n]; !ok {
+				order = append(order, n)
+			}
+			rates[n] = append(rates[n], c.rateText(r.Rate, 2))
+		}
+	}
+	out := make([]string, len(order))
+	for i, n := range order {
+		lead := "At rate "
+		if len(rates[n]) > 1 {
+			lead = "At rates "
+		}
+		out[i] = lead + strings.Join(rates[n], ", ") + ": " + n
+	}
+	return out
 }
 
 // nominal converts a real rate back to the nominal one the user gave.
@@ -126,6 +157,9 @@ func (c *Comparison) WriteTable(w io.Writer) error {
 			lines = append(lines, "The advice is the same at every rate in the range.")
 		}
 	}
+	for _, n := range c.notes() {
+		lines = append(lines, "Note: "+n)
+	}
 	lines = append(lines, c.averageLine(), "CAUTION: "+Caution)
 	return writeLines(w, lines)
 }
@@ -172,13 +206,14 @@ type compareJSON struct {
 	Switches    []compareSwitch `json:"switch_points"`
 	Average     *compareAverage `json:"average"`
 	AverageNote string          `json:"average_note,omitempty"`
+	Notes       []string        `json:"notes,omitempty"`
 	Caution     string          `json:"caution"`
 }
 
 func (c *Comparison) json() compareJSON {
 	cmp := c.Compare
 	out := compareJSON{Model: c.Model, Currency: c.Currency, PeriodYears: c.periodYears(), RatesAre: "real",
-		Rates: []compareRate{}, Switches: []compareSwitch{}, Caution: Caution}
+		Rates: []compareRate{}, Switches: []compareSwitch{}, Notes: c.notes(), Caution: Caution}
 	nominal := func(real float64) *float64 {
 		if !c.HasInflation {
 			return nil
@@ -226,6 +261,9 @@ func (c *Comparison) WriteJSON(w io.Writer) error { return writeJSON(w, c.json()
 // state, action, value (empty at rate 0), equivalent_annual_cost, changed.
 func (c *Comparison) WriteCSV(w io.Writer) error {
 	if err := c.writeCSVPreambleRates(w, "expected discounted cost at each rate below (rate 0: long-run average)", csvRatesLine(c.HasInflation, c.Inflation)); err != nil {
+		return err
+	}
+	if err := writeCSVNotes(w, c.notes()); err != nil {
 		return err
 	}
 	cw := newCSV(w)

@@ -81,11 +81,17 @@ func (h *Header) serviceNotes(policy []int, actions []string) []string {
 	var out []string
 	for s, a := range policy {
 		if h.outOfService(actions[a]) {
-			out = append(out, fmt.Sprintf("In %s the advice is %s, which takes the unit out of service: it stays out of use until a competent person returns it to service.",
-				h.States[s], actions[a]))
+			out = append(out, OutOfServiceNote(h.States[s], actions[a]))
 		}
 	}
 	return out
+}
+
+// OutOfServiceNote says in words that in condition where the advice is
+// action, which takes the unit out of service.
+func OutOfServiceNote(where, action string) string {
+	return fmt.Sprintf("In %s the advice is %s, which takes the unit out of service: it stays out of use until a competent person returns it to service.",
+		where, action)
 }
 
 // notes are the out-of-service notes of the advice followed by warnings.

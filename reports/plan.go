@@ -532,6 +532,9 @@ func (r *PlanReport) WriteCSV(w io.Writer) error {
 	if err := r.writeCSVPreamble(w, "expected present cost of the fleet (fluid plan)"); err != nil {
 		return err
 	}
+	if err := writeCSVNotes(w, r.Warnings); err != nil {
+		return err
+	}
 	if len(r.Inspections) > 0 {
 		if _, err := fmt.Fprintf(w, "# inspections: %s\n# statutory: %s\n", PlanInspectionAssumption, InspectionRule); err != nil {
 			return err

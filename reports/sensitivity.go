@@ -24,6 +24,14 @@ type Sensitivity struct {
 	Problem *optimize.Problem
 	Result  *optimize.Result
 	Figures []CostFigure
+	// Warnings are safety warnings about the advice, printed with it
+	// after its out-of-service notes.
+	Warnings []string
+}
+
+// notes are the out-of-service notes of the advice and its warnings.
+func (s *Sensitivity) notes() []string {
+	return s.Header.notes(s.Result.Policy, s.Problem.Actions, s.Warnings)
 }
 
 func (s *Sensitivity) change(state, action int) string {
@@ -63,10 +71,11 @@ func (s *Sensitivity) WriteTable(w io.Writer) error {
 		[]bool{false, true, true, true, false, false}, rows); err != nil {
 		return err
 	}
-	return writeLines(w, []string{
-		"Each range moves one figure alone, all others fixed; within it the advice is optimal in every condition (exact: the values move linearly while the advice is fixed).",
-		"CAUTION: " + Caution,
-	})
+	lines := []string{"Each range moves one figure alone, all others fixed; within it the advice is optimal in every condition (exact: the values move linearly while the advice is fixed)."}
+	for _, n := range s.notes() {
+		lines = append(lines, "Note: "+n)
+	}
+	return writeLines(w, append(lines, "CAUTION: "+Caution))
 }
 
 type sensitivityChange struct {
@@ -125,8 +134,9 @@ func (s *Sensitivity) WriteJSON(w io.Writer) error {
 		DiscountFactor float64             `json:"discount_factor"`
 		Margins        []sensitivityMargin `json:"margins"`
 		Figures        []sensitivityFigure `json:"figures"`
+		Notes          []string            `json:"notes,omitempty"`
 		Caution        string              `json:"caution"`
-	}{Model: s.Model, Currency: s.Currency, PeriodYears: s.periodYears(), DiscountRate: s.jsonRate(), DiscountFactor: s.Discount.Factor(), Margins: append([]sensitivityMargin{}, s.margins()...), Figures: []sensitivityFigure{}, Caution: Caution}
+	}{Notes: s.notes(), Model: s.Model, Currency: s.Currency, PeriodYears: s.periodYears(), DiscountRate: s.jsonRate(), DiscountFactor: s.Discount.Factor(), Margins: append([]sensitivityMargin{}, s.margins()...), Figures: []sensitivityFigure{}, Caution: Caution}
 	change := func(state, action int) *sensitivityChange {
 		if state < 0 {
 			return nil
@@ -146,6 +156,9 @@ func (s *Sensitivity) WriteJSON(w io.Writer) error {
 // "figure": figure, path, value, lower, upper; empty when unlimited).
 func (s *Sensitivity) WriteCSV(w io.Writer) error {
 	if err := s.writeCSVPreamble(w, "expected discounted cost (present value)"); err != nil {
+		return err
+	}
+	if err := writeCSVNotes(w, s.notes()); err != nil {
 		return err
 	}
 	cw := newCSV(w)

@@ -17,6 +17,9 @@ type SimulationReport struct {
 	Plan  *fleet.Plan
 	Sim   *fleet.Simulation
 	Seed  uint64
+	// Notes are the plan's safety notes (out-of-service work, units
+	// kept unsafe), printed by every output.
+	Notes []string
 }
 
 func band(q fleet.Quantiles, decimals int) string {
@@ -81,8 +84,12 @@ func (r *SimulationReport) WriteTable(w io.Writer) error {
 	if s.Rule == fleet.FollowAdvice {
 		of = "the advice"
 	}
-	return writeLines(w, []string{"", "Mean: the Monte-Carlo mean; " + expectedLabel(s.Rule) + ": the expected-count forecast of " + of +
-		". Over budget: share of futures whose work spend exceeds the year's budget.", "CAUTION: " + Caution})
+	lines := []string{"", "Mean: the Monte-Carlo mean; " + expectedLabel(s.Rule) + ": the expected-count forecast of " + of +
+		". Over budget: share of futures whose work spend exceeds the year's budget."}
+	for _, n := range r.Notes {
+		lines = append(lines, "Note: "+n)
+	}
+	return writeLines(w, append(lines, "CAUTION: "+Caution))
 }
 
 type quantJSON struct {
@@ -129,8 +136,9 @@ func (r *SimulationReport) WriteJSON(w io.Writer) error {
 		ExpectedCost   float64   `json:"expected_cost"`
 		Years          []year    `json:"years"`
 		Periods        []period  `json:"periods"`
+		Notes          []string  `json:"notes,omitempty"`
 		Caution        string    `json:"caution"`
-	}{Model: r.Model, Currency: r.Currency, PeriodYears: r.periodYears(), DiscountRate: r.jsonRate(), DiscountFactor: r.Discount.Factor(), Runs: s.Runs, Seed: r.Seed, Follow: s.Rule.String(), Cost: qj(s.Cost), ExpectedCost: s.ExpectedCost, Caution: Caution}
+	}{Notes: r.Notes, Model: r.Model, Currency: r.Currency, PeriodYears: r.periodYears(), DiscountRate: r.jsonRate(), DiscountFactor: r.Discount.Factor(), Runs: s.Runs, Seed: r.Seed, Follow: s.Rule.String(), Cost: qj(s.Cost), ExpectedCost: s.ExpectedCost, Caution: Caution}
 	for y := range s.Spend {
 		out.Years = append(out.Years, year{Year: y + 1, Budget: r.Fleet.Budget[y], Spend: qj(s.Spend[y]), Total: qj(s.Total[y]),
 			ExpectedSpend: s.ExpectedSpend[y], Over: s.OverBudget[y]})
@@ -157,6 +165,9 @@ func (r *SimulationReport) WriteJSON(w io.Writer) error {
 func (r *SimulationReport) WriteCSV(w io.Writer) error {
 	s := r.Sim
 	if err := r.writeCSVPreamble(w, "simulated present cost (Monte-Carlo)"); err != nil {
+		return err
+	}
+	if err := writeCSVNotes(w, r.Notes); err != nil {
 		return err
 	}
 	cw := newCSV(w)

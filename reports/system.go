@@ -20,6 +20,10 @@ type SystemAdvice struct {
 	Separate *system.ProductEvaluation
 	Alone    []system.AloneRule
 	Groups   []system.GroupRule
+	// Notes say where the joint advice takes a component out of service,
+	// and warn where it may keep an unsafe component unsafe for more than
+	// one period; every output prints them.
+	Notes []string
 }
 
 // aloneSentence is the threshold sentence of one component's alone rule.
@@ -122,8 +126,11 @@ func (s *SystemAdvice) WriteTable(w io.Writer) error {
 		Money(sys.Down, 2)+" "+s.Currency+" per period with a component unsafe.")
 	lines = append(lines, fmt.Sprintf("Solver: structured value iteration (Kronecker mode products), %d sweeps; proven gap %s %s (tolerance %s), Bellman residual at the estimate %s: %s.",
 		r.Sweeps, sci(r.Gap), s.Currency, sci(r.Tol), sci(r.Residual), r.Status),
-		"The full joint table (every joint state, its advice, bounds and runner-up): --format csv or json.",
-		"", "CAUTION: "+Caution)
+		"The full joint table (every joint state, its advice, bounds and runner-up): --format csv or json.")
+	for _, n := range s.Notes {
+		lines = append(lines, "Note: "+n)
+	}
+	lines = append(lines, "", "CAUTION: "+Caution)
 	return writeLines(w, lines)
 }
 
@@ -164,10 +171,11 @@ func (s *SystemAdvice) WriteJSON(w io.Writer) error {
 		SavingPV      *float64 `json:"joint_saving_present_value"`
 		SavingPerYear *float64 `json:"joint_saving_per_year"`
 		Thresholds    string   `json:"thresholds"`
+		Notes         []string `json:"notes,omitempty"`
 		Caution       string   `json:"caution"`
 	}
 	o := out{Model: s.Model, Kind: "system", Currency: s.Currency, PeriodYears: s.periodYears(), DiscountFactor: sys.Discount.Factor(),
-		Method: "value", Iterations: r.Sweeps, Thresholds: s.rulesText(), Caution: Caution, States: make([]systemState, 0, len(r.Policy))}
+		Method: "value", Iterations: r.Sweeps, Thresholds: s.rulesText(), Notes: s.Notes, Caution: Caution, States: make([]systemState, 0, len(r.Policy))}
 	o.DiscountRate = s.jsonRate()
 	for _, c := range sys.Components {
 		o.Components = append(o.Components, c.Name)
@@ -205,6 +213,9 @@ func (s *SystemAdvice) rulesText() string {
 func (s *SystemAdvice) WriteCSV(w io.Writer) error {
 	sys, r := s.System, s.Result
 	if err := s.writeCSVPreamble(w, "expected discounted cost (present value)"); err != nil {
+		return err
+	}
+	if err := writeCSVNotes(w, s.Notes); err != nil {
 		return err
 	}
 	cw := newCSV(w)

@@ -83,6 +83,10 @@ func (b *SystemBrief) front() front {
 		cost += "."
 	}
 	f.recommendation = []string{rec, cost, certificateWords(&s.Header, r.Status, r.Gap, "structured value iteration")}
+	if len(s.Notes) > 0 {
+		f.notesTitle = "Safety notes, and when the machine is stopped anyway"
+		f.notes = append(f.notes, s.Notes...)
+	}
 	f.notes = append(f.notes, groups...)
 	var scales []string
 	for _, c := range sys.Components {

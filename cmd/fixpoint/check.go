@@ -46,7 +46,8 @@ func (a *app) newCheck() *cobra.Command {
 				ff := f.Fleet
 				fmt.Fprintf(a.stdout, "%s: ok: fleet %q, %s, %s, %s of budget, periods of %s\n",
 					path, ff.Name, count(len(ff.Classes), "class", "classes"), count(ff.Units, "unit", "units"), count(ff.Years, "year", "years"), ff.Classes[0].Period)
-				for _, c := range ff.Classes {
+				for i, c := range ff.Classes {
+					a.printLines(answer.ServiceCheckLines(c.Model, "class "+ff.Names[i]+": "))
 					if err := a.checkInspection(cmd, c.Path, c); err != nil {
 						return err
 					}
@@ -64,6 +65,9 @@ func (a *app) newCheck() *cobra.Command {
 				bytes := est.Bytes
 				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, up to %s of memory and %s to solve (upper bounds)\n",
 					path, f.System.Name, len(f.System.Components), reports.Money(n, 0), reports.Money(acts, 0), answer.ByteSizeText(bytes), answer.AboutDuration(est.Seconds))
+				for _, c := range f.System.Components {
+					a.printLines(answer.ServiceCheckLines(c.Model, "component "+c.Name+": "))
+				}
 			default:
 				c := f.Class
 				disc := "average criterion (no discounting)"
@@ -74,12 +78,20 @@ func (a *app) newCheck() *cobra.Command {
 					}
 				}
 				fmt.Fprintf(a.stdout, "%s: ok: %q, %d states, %d actions, %s\n", path, c.Name, len(c.Model.States), len(c.Model.Actions), disc)
+				a.printLines(answer.ServiceCheckLines(c.Model, ""))
 				if err := a.checkInspection(cmd, path, c); err != nil {
 					return err
 				}
 			}
 			return nil
 		},
+	}
+}
+
+// printLines writes each line to stdout.
+func (a *app) printLines(lines []string) {
+	for _, l := range lines {
+		fmt.Fprintln(a.stdout, l)
 	}
 }
 

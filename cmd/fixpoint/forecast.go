@@ -115,6 +115,9 @@ func (a *app) simulateFleet(cmd *cobra.Command, ff *modelfile.Fleet, st settings
 	if err != nil {
 		return err
 	}
-	view := &reports.SimulationReport{Header: a.env(cmd).FleetHeader(ff), Fleet: f, Plan: p, Sim: sim, Seed: st.Seed}
+	view := &reports.SimulationReport{Header: a.env(cmd).FleetHeader(ff), Fleet: f, Plan: p, Sim: sim, Seed: st.Seed, Notes: answer.FleetNotes(f, p)}
+	for _, n := range view.Notes {
+		a.warn(n)
+	}
 	return a.emit(cmd, st.Output, view)
 }

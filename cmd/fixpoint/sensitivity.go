@@ -64,7 +64,8 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 	for i := range figs {
 		figs[i].Range = ranges[i]
 	}
-	view := &reports.Sensitivity{Header: a.env(cmd).Header(r.Class), Problem: r.Problem, Result: res, Figures: figs}
+	env := a.env(cmd)
+	view := &reports.Sensitivity{Header: env.Header(r.Class), Problem: r.Problem, Result: res, Figures: figs, Warnings: env.SafetyWarnings(r, res.Policy)}
 	if err := a.emit(cmd, st.Output, view); err != nil {
 		return err
 	}

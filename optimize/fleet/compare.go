@@ -39,3 +39,48 @@ func (p *Plan) YearDeferred() []float64 {
 	}
 	return out
 }
+
+// UsedActions lists, for each condition of class c, the actions
+// (ascending) that the plan may take there: those with a share in some
+// period, those on the first period's work list and the class's
+// unconstrained advice (which values the units after the last period).
+func (p *Plan) UsedActions(c int) [][]int {
+	n := len(p.Expected[c][0])
+	used := make([][]bool, n)
+	mark := func(s, a int) {
+		for len(used[s]) <= a {
+			used[s] = append(used[s], false)
+		}
+		used[s][a] = true
+	}
+	for _, period := range p.Shares[c] {
+		for s, sh := range period {
+			for a, x := range sh {
+				if x > 0 {
+					mark(s, a)
+				}
+			}
+		}
+	}
+	if p.First != nil {
+		for s, units := range p.First.Units[c] {
+			for a, u := range units {
+				if u > 0 {
+					mark(s, a)
+				}
+			}
+		}
+	}
+	for s, a := range p.Advice[c].Policy {
+		mark(s, a)
+	}
+	out := make([][]int, n)
+	for s, u := range used {
+		for a, ok := range u {
+			if ok {
+				out[s] = append(out[s], a)
+			}
+		}
+	}
+	return out
+}

@@ -318,3 +318,40 @@ func (sys *Machine) Rules(policy []int32) ([]AloneRule, []GroupRule) {
 	}
 	return alone, groups
 }
+
+// ComponentActions lists, for each component i and each of its conditions
+// x, the component actions (ascending) that the joint policy takes for i
+// in some joint state where i is in x: what the joint advice may do to a
+// component in that condition, whatever the others' conditions.
+func (sys *Machine) ComponentActions(ctx context.Context, policy []int32) ([][][]int, error) {
+	j := newJointLayout(sys)
+	seen := make([][][]bool, j.k)
+	for i := range seen {
+		seen[i] = make([][]bool, j.dims[i])
+		for x := range seen[i] {
+			seen[i][x] = make([]bool, j.acts[i])
+		}
+	}
+	for s, a := range policy {
+		if s%4096 == 0 {
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+		}
+		for i := range j.k {
+			seen[i][j.coord(s, i)][j.actionOf(int(a), i)] = true
+		}
+	}
+	out := make([][][]int, j.k)
+	for i := range seen {
+		out[i] = make([][]int, j.dims[i])
+		for x, used := range seen[i] {
+			for a, ok := range used {
+				if ok {
+					out[i][x] = append(out[i][x], a)
+				}
+			}
+		}
+	}
+	return out, nil
+}

@@ -133,22 +133,11 @@ func (e *Env) Advise(r *Class, s optimize.Settings, target string) (*reports.Adv
 // stderr, where the advice takes units out of service (the outputs say
 // that themselves).
 func (e *Env) SafetyWarnings(r *Class, policy []int) []string {
-	m := r.Model
-	var out []string
-	for s, t := range optimize.UnsafeStay(m, policy) {
-		act := m.Actions[policy[s]]
-		switch {
-		case !m.States[s].Unsafe:
-		case act.OutOfService:
-			e.Warn(fmt.Sprintf("in unsafe state %s the advice is %s, which takes the unit out of service", m.States[s].Name, act.Name))
-		case t > 1+1e-9:
-			w := fmt.Sprintf("Under the advice a unit that becomes %s is expected to stay in unsafe states for %.2f periods (%.2f years), not one: check that %s really makes it safe.",
-				m.States[s].Name, t, t*m.PeriodYears, act.Name)
-			e.Warn(w)
-			out = append(out, w)
-		}
+	warnings, outOfService := classSafety(r.Model, policy)
+	for _, w := range append(outOfService, warnings...) {
+		e.Warn(w)
 	}
-	return out
+	return warnings
 }
 
 // Check returns the exit-3 error for a result whose gap is above

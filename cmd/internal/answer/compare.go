@@ -56,5 +56,10 @@ func (e *Env) Comparison(s optimize.Settings, c *modelfile.Class, p *optimize.Pr
 	if err != nil {
 		return nil, err
 	}
-	return &reports.Comparison{Header: e.Header(c), Actions: p.Actions, Inflation: r.Inflation, HasInflation: r.HasInflation, Compare: cmp}, nil
+	view := &reports.Comparison{Header: e.Header(c), Actions: p.Actions, Inflation: r.Inflation, HasInflation: r.HasInflation, Compare: cmp}
+	for _, row := range cmp.Rows {
+		w, _ := classSafety(c.Model, row.Policy)
+		view.Warnings = append(view.Warnings, w)
+	}
+	return view, nil
 }

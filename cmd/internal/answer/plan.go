@@ -35,7 +35,7 @@ func (e *Env) FleetReport(ff *modelfile.Fleet, st settings.Fleet, o settings.Ove
 	}
 	h := e.FleetHeader(ff)
 	h.Discount = f.Discount
-	view := &reports.PlanReport{Header: h, Fleet: f, Plan: p, Warnings: reports.PlanWarnings(f, p, st.Gap, ff.Currency)}
+	view := &reports.PlanReport{Header: h, Fleet: f, Plan: p, Warnings: append(FleetNotes(f, p), reports.PlanWarnings(f, p, st.Gap, ff.Currency)...)}
 	if view.Inspections, err = e.FleetInspections(ff, len(f.Budget)); err != nil {
 		return nil, err
 	}

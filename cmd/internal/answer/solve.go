@@ -158,8 +158,19 @@ func (e *Env) SystemAdvice(sf *modelfile.System, o settings.Override, s optimize
 		return nil, err
 	}
 	alone, groups := m.Rules(r.Policy)
+	used, err := m.ComponentActions(ctx, r.Policy)
+	if err != nil {
+		return nil, err
+	}
+	var notes []string
+	for i, c := range m.Components {
+		notes = append(notes, partNotes(c.Model, used[i], "the joint advice", "component "+c.Name, "component "+c.Name)...)
+	}
+	for _, n := range notes {
+		e.Warn(n)
+	}
 	h := reports.Header{Model: sf.Name, Currency: sf.Currency, Period: sf.Period, Discount: m.Discount, Source: sf.Path, SHA256: sf.SHA256, Version: e.Version}
-	return &reports.SystemAdvice{Header: h, System: m, Result: r, Separate: ev, Alone: alone, Groups: groups}, nil
+	return &reports.SystemAdvice{Header: h, System: m, Result: r, Separate: ev, Alone: alone, Groups: groups, Notes: notes}, nil
 }
 
 // SystemCheck returns the exit-3 error of a joint answer whose gap
