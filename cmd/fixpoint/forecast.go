@@ -62,14 +62,24 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 			"method", "tol", "max-iterations", "rate", "factor", "mix", "from", "units"); err != nil {
 			return err
 		}
+		if st.Follow == "advice" {
+			if err := a.src.NotFor("--follow advice", " (the unconstrained advice is not the plan; --gap is the plan's)", "gap"); err != nil {
+				return err
+			}
+		}
 		return a.simulateFleet(cmd, f.Fleet, st)
 	}
-	if err := a.src.NotFor("a class config", " (they apply to fleet files)", "simulate", "follow", "budget", "gap", "progress"); err != nil {
+	if err := a.src.NotFor("a class config", " (they apply to fleet files)", "simulate", "seed", "follow", "budget", "gap", "progress"); err != nil {
 		return err
 	}
 	r, err := answer.Prepare(f.Class, st.Override, "")
 	if err != nil {
 		return err
+	}
+	if r.Average {
+		if err := a.src.NotFor("the average criterion", " (it has no discounting)", "rate", "factor"); err != nil {
+			return err
+		}
 	}
 	start, err := st.Start.Counts(r.Model)
 	if err != nil {
