@@ -1,0 +1,42 @@
+package main
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// writeFleet writes a fleet of one class (the class config text, named
+// pumps) with three units and returns the fleet file's path.
+func writeFleet(t *testing.T, class, budget string) string {
+	t.Helper()
+	dir := t.TempDir()
+	for name, text := range map[string]string{
+		"class.yaml": class,
+		"inv.csv":    "# invented units\nunit,class,condition\nU1,pumps,good\nU2,pumps,worn\nU3,pumps,failed\n",
+		"fleet.yaml": "version: 1\nname: test fleet\ncurrency: EUR\nclasses:\n  pumps: class.yaml\ninventory: inv.csv\nbudget: " + budget + "\n",
+	} {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return filepath.Join(dir, "fleet.yaml")
+}
+
+// A fleet class with criterion: average is refused in one located line
+// by every command that takes fleets: the plan is a present-value plan.
+func TestFleetClassWithAverageCriterion(t *testing.T) {
+	path := writeFleet(t, strings.Replace(base, "discount:\n", "criterion: average\ndiscount:\n", 1), "{years: 3, per_year: 2000}")
+	want := path + ":5: classes.pumps: the fleet plan is a present-value plan (discounted criterion); class file " +
+		filepath.Join(filepath.Dir(path), "class.yaml") + " has criterion: average\n"
+	for _, args := range [][]string{
+		{"check", path}, {"plan", path}, {"forecast", path, "--simulate", "10"},
+		{"brief", path, "-o", filepath.Join(t.TempDir(), "b.pdf")},
+	} {
+		code, stdout, stderr := runCLI(t, args...)
+		if code != exitInput || stdout != "" || strings.Count(stderr, "\n") != 1 || !strings.HasSuffix(stderr, want) {
+			t.Errorf("%s: exit %d, want 1 and the one line %q: %s", args[0], code, want, stderr)
+		}
+	}
+}
