@@ -246,7 +246,7 @@ func (r *PlanReport) WriteTable(w io.Writer) error {
 	p, f := r.Plan, r.Fleet
 	cur := r.Currency
 	fmt.Fprintf(w, "%s: budget plan over %s (%s)\n", r.Model, horizonText(f, p), cur)
-	if err := writeLines(w, r.boundLines()); err != nil {
+	if err := writeLines(w, append([]string{r.discountLine()}, r.boundLines()...)); err != nil {
 		return err
 	}
 	starts := periodStarts(p)

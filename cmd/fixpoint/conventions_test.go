@@ -40,3 +40,22 @@ func TestFleetClassWithAverageCriterion(t *testing.T) {
 		}
 	}
 }
+
+// plan's and forecast --simulate's tables state the discount, as the other
+// tables do, including a --rate override.
+func TestPlanTableStatesTheDiscount(t *testing.T) {
+	for _, tc := range []struct {
+		args []string
+		want string
+	}{
+		// 1/1.04 and 1/1.03: closed form.
+		{[]string{"plan", demoFleet, "--simulate", "0"}, "Discount factor 0.961538 per period of 1 year (rate 4.00% per year)"},
+		{[]string{"plan", demoFleet, "--simulate", "0", "--rate", "3%"}, "Discount factor 0.970874 per period of 1 year (rate 3.00% per year)"},
+		{[]string{"forecast", demoFleet, "--simulate", "10"}, "Discount factor 0.961538 per period of 1 year (rate 4.00% per year)"},
+	} {
+		code, stdout, stderr := runCLI(t, tc.args...)
+		if code != 0 || !strings.Contains(strings.Join(strings.Fields(stdout), " "), tc.want) {
+			t.Errorf("%v: exit %d, want %q in:\n%.600s%s", tc.args, code, tc.want, stdout, stderr)
+		}
+	}
+}
