@@ -59,3 +59,25 @@ func TestPlanTableStatesTheDiscount(t *testing.T) {
 		}
 	}
 }
+
+// The README's list of brief's solver flags for systems is true: each flag
+// it names for systems works on the demo system, and --method, which it
+// says is refused, is.
+func TestReadmeBriefSolverFlagsForSystems(t *testing.T) {
+	data, err := os.ReadFile("../../README.md")
+	if err != nil {
+		t.Fatal(err)
+	}
+	flat := strings.Join(strings.Fields(string(data)), " ")
+	const claim = "the solver flags `--method`, `--tol`, `--max-iterations` for classes, and `--tol`, `--max-iterations` for systems (a system's joint model is solved by value iteration, so `--method` is refused for it)"
+	if !strings.Contains(flat, claim) {
+		t.Fatalf("README lacks the sentence on brief's solver flags for systems: %q", claim)
+	}
+	pdf := filepath.Join(t.TempDir(), "c.pdf")
+	if code, _, stderr := runCLI(t, "brief", demoSystem, "-o", pdf, "--tol", "0.01", "--max-iterations", "100000"); code != 0 {
+		t.Errorf("brief system --tol --max-iterations: exit %d, %s", code, stderr)
+	}
+	if code, _, stderr := runCLI(t, "brief", demoSystem, "-o", pdf, "--force", "--method", "value"); code != exitUsage || !strings.Contains(stderr, "--method does not apply to a system file") {
+		t.Errorf("brief system --method value: exit %d, %s", code, stderr)
+	}
+}
