@@ -81,3 +81,28 @@ func TestReadmeBriefSolverFlagsForSystems(t *testing.T) {
 		t.Errorf("brief system --method value: exit %d, %s", code, stderr)
 	}
 }
+
+// A rate of 1 without % (100% a year) runs, with a warning suggesting 1%;
+// 100% written as a percentage does not warn.
+func TestRateOfOneWarns(t *testing.T) {
+	const hint = "rate 1 is 100% a year; for 1% write 1%"
+	path := writeFile(t, "r1.yaml", strings.Replace(base, "rate: 0.05", "rate: 1", 1))
+	for _, tc := range []struct {
+		args []string
+		warn bool
+	}{
+		{[]string{"check", path}, true},
+		{[]string{"solve", path}, true},
+		{[]string{"solve", demo, "--rate", "1"}, true},
+		{[]string{"solve", demo, "--rate", "100%"}, false},
+		{[]string{"solve", demo}, false},
+	} {
+		code, _, stderr := runCLI(t, tc.args...)
+		if code != 0 || strings.Contains(stderr, "warning: ") != tc.warn || (tc.warn && strings.Count(stderr, hint) != 1) {
+			t.Errorf("%v: exit %d, want a warning %v (once, %q): %s", tc.args, code, tc.warn, hint, stderr)
+		}
+	}
+	if _, _, stderr := runCLI(t, "check", path); !strings.Contains(stderr, path+":6: discount.rate: "+hint) {
+		t.Errorf("check: the warning is not located at the line: %s", stderr)
+	}
+}

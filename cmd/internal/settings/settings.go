@@ -37,6 +37,8 @@ type Source struct {
 	flags *pflag.FlagSet
 	// File is the settings file read, or "".
 	File string
+	// Warn, when set, prints a warning (a rate of 1: 100% a year).
+	Warn func(string)
 }
 
 // Open prepares the settings of a command whose flags are flags: the
@@ -168,6 +170,9 @@ func (s *Source) rate(key string) (float64, error) {
 	x, err := ParseRate(s.text(key))
 	if err != nil {
 		return 0, Errorf("%s: %v", where(key), err)
+	}
+	if x == 1 && !strings.HasSuffix(s.text(key), "%") && s.Warn != nil {
+		s.Warn(fmt.Sprintf("%s: %s", where(key), modelfile.RateOfOne))
 	}
 	return x, nil
 }
