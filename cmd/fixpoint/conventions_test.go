@@ -1,6 +1,7 @@
 package main
 
 import (
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -104,5 +105,50 @@ func TestRateOfOneWarns(t *testing.T) {
 	}
 	if _, _, stderr := runCLI(t, "check", path); !strings.Contains(stderr, path+":6: discount.rate: "+hint) {
 		t.Errorf("check: the warning is not located at the line: %s", stderr)
+	}
+}
+
+// Year conventions: the forecast's time column is the start of each period
+// in years from the start (0 first), labelled so (JSON and CSV keep the key
+// "year"); a --years that is not a whole number of periods gets a note on
+// what is covered; plan says what periods cover budget years that are not
+// a whole number of periods.
+func TestYearConventions(t *testing.T) {
+	five := writeFile(t, "p5.yaml", strings.Replace(base, "period_years: 1", "period_years: 5", 1))
+	half := writeFile(t, "p05.yaml", strings.Replace(base, "period_years: 1", "period_years: 0.5", 1))
+	for _, tc := range []struct {
+		args []string
+		note string // "" for none
+	}{
+		// 3 years on 5-year periods: one period starts within them (ceil(3/5) = 1), covering 5 years.
+		{[]string{"forecast", five, "--from", "good", "--years", "3"}, "note: 3 years is not a whole number of periods of 5 years: the forecast covers the 1 period(s) that start within it, 5 years"},
+		// 2.5 years on 1-year periods: periods start at 0, 1 and 2.
+		{[]string{"forecast", demo, "--from", "sound", "--years", "2.5"}, "note: 2.5 years is not a whole number of periods of 1 year: the forecast covers the 3 period(s) that start within it, 3 years"},
+		{[]string{"forecast", half, "--from", "good", "--years", "3"}, ""},
+	} {
+		code, stdout, stderr := runCLI(t, tc.args...)
+		if code != 0 || strings.Contains(stderr, "note:") != (tc.note != "") || !strings.Contains(stderr, tc.note) {
+			t.Errorf("%v: exit %d, want note %q: %s", tc.args, code, tc.note, stderr)
+		}
+		if !strings.Contains(stdout, "│ period │ starts (years) │") {
+			t.Errorf("%v: the time column is not labelled starts (years):\n%.400s", tc.args, stdout)
+		}
+	}
+	var doc struct {
+		Periods []struct {
+			Year float64 `json:"year"`
+		} `json:"periods"`
+	}
+	runJSON(t, &doc, "forecast", half, "--from", "good", "--years", "2", "--format", "json")
+	for k, p := range doc.Periods {
+		if want := 0.5 * float64(k); math.Abs(p.Year-want) > 1e-12 {
+			t.Errorf("JSON period %d: year %g, want %g (start of the period in years)", k, p.Year, want)
+		}
+	}
+	fleet := writeFleet(t, strings.Replace(base, "period_years: 1", "period_years: 5", 1), "{years: 4, per_year: 5000}")
+	code, stdout, stderr := runCLI(t, "plan", fleet, "--simulate", "0")
+	const want = "budget plan over 1 period of 5 years (5 years), the periods that start within the 4 budget years (EUR)"
+	if code != 0 || !strings.Contains(stdout, want) || strings.Contains(stdout, "over 4 years in 1 period") {
+		t.Errorf("plan on 5-year periods: exit %d, want %q:\n%.400s%s", code, want, stdout, stderr)
 	}
 }

@@ -1,6 +1,10 @@
 package main
 
 import (
+	"fmt"
+	"math"
+	"strconv"
+
 	"github.com/spf13/cobra"
 
 	"fixpoint/cmd/internal/answer"
@@ -96,7 +100,12 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	fc, err := optimize.NewForecast(r.Model, r.Costs, adv.Factor, adv.Policy, start, r.Period.Count(years))
+	n := r.Period.Count(years)
+	if covered := float64(n) * r.Period.Years(); math.Abs(covered-years) > 1e-9 {
+		a.note(fmt.Sprintf("%g years is not a whole number of periods of %s: the forecast covers the %d period(s) that start within it, %s years",
+			years, r.Period, n, strconv.FormatFloat(covered, 'f', -1, 64)))
+	}
+	fc, err := optimize.NewForecast(r.Model, r.Costs, adv.Factor, adv.Policy, start, n)
 	if err != nil {
 		return err
 	}
