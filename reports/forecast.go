@@ -39,8 +39,11 @@ func (f *Forecast) year(k int) float64 { return f.Period.Start(k) }
 // per condition, and the spend per action with the running cost and the
 // total; then the present value and the caution.
 func (f *Forecast) WriteTable(w io.Writer) error {
-	counts := []string{"period", "year"}
-	spend := []string{"period", "year"}
+	// The time column is the start of the period in years from the
+	// start (0 for the first), as plan's "starts (years)"; CSV and JSON
+	// keep the key "year" for it.
+	counts := []string{"period", "starts (years)"}
+	spend := []string{"period", "starts (years)"}
 	cn, sn := []bool{true, true}, []bool{true, true}
 	for _, s := range f.States {
 		counts = append(counts, s)
@@ -79,8 +82,8 @@ func (f *Forecast) WriteTable(w io.Writer) error {
 		return err
 	}
 	return writeLines(w, []string{
-		fmt.Sprintf("Present value of the spend over %d periods: %s %s (discount factor %s per period, costs at the start of each period).",
-			len(f.Forecast.Periods), Money(f.Forecast.PresentValue, 2), f.Currency, Fixed(f.Factor, 6)),
+		fmt.Sprintf("Present value of the spend over %s: %s %s (discount factor %s per period, costs at the start of each period).",
+			periodCount(len(f.Forecast.Periods)), Money(f.Forecast.PresentValue, 2), f.Currency, Fixed(f.Factor, 6)),
 		"Counts are expected values (fractions of units), not a work list.",
 		"CAUTION: " + Caution,
 	})

@@ -90,14 +90,21 @@ func shortYears(p *fleet.Plan) (short, idle []int) {
 	return short, idle
 }
 
-// horizonText is "10 years in 10 periods of 1 year".
+// horizonText is "10 years in 10 periods of 1 year"; when the budget
+// years are not a whole number of periods, it says what the periods
+// cover: "1 period of 5 years (5 years), the periods that start within
+// the 4 budget years".
 func horizonText(f *fleet.Problem, p *fleet.Plan) string {
 	n := len(p.PeriodYear)
 	word := "periods"
 	if n == 1 {
 		word = "period"
 	}
-	return fmt.Sprintf("%d years in %d %s of %s", len(f.Budget), n, word, p.Period)
+	covered := float64(n) * p.Period.Years()
+	if math.Abs(covered-float64(len(f.Budget))) < 1e-9 {
+		return fmt.Sprintf("%d years in %d %s of %s", len(f.Budget), n, word, p.Period)
+	}
+	return fmt.Sprintf("%d %s of %s (%s years), the periods that start within the %d budget years", n, word, p.Period, trimYear(covered), len(f.Budget))
 }
 
 // PlanStatement says in words the problem the plan solves; every output
@@ -246,7 +253,7 @@ func (r *PlanReport) WriteTable(w io.Writer) error {
 	p, f := r.Plan, r.Fleet
 	cur := r.Currency
 	fmt.Fprintf(w, "%s: budget plan over %s (%s)\n", r.Model, horizonText(f, p), cur)
-	if err := writeLines(w, r.boundLines()); err != nil {
+	if err := writeLines(w, append([]string{r.discountLine()}, r.boundLines()...)); err != nil {
 		return err
 	}
 	starts := periodStarts(p)

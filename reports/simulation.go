@@ -57,7 +57,7 @@ func (r *SimulationReport) WriteTable(w io.Writer) error {
 	if s.Rule == fleet.FollowPractice {
 		compare = "the plan's own expected cost (expected-count model)"
 	}
-	if err := writeLines(w, []string{fmt.Sprintf("Simulated present cost %s ± %s (mean ± standard error; P10 %s, P90 %s); %s: %s.",
+	if err := writeLines(w, []string{r.discountLine(), fmt.Sprintf("Simulated present cost %s ± %s (mean ± standard error; P10 %s, P90 %s); %s: %s.",
 		amount(s.Cost.Mean, cur), Money(s.Cost.SE, 0), Money(s.Cost.P10, 0), Money(s.Cost.P90, 0), compare, amount(s.ExpectedCost, cur))}); err != nil {
 		return err
 	}

@@ -158,6 +158,11 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 		if err := a.robustNotFor(st.Robust.On, "a fleet file", " (robust advice is for class configs)"); err != nil {
 			return err
 		}
+		if len(st.Rates.List) == 0 {
+			if err := a.src.NotFor("a fleet brief without --rates", " (it makes --rates nominal)", "inflation"); err != nil {
+				return err
+			}
+		}
 		b, err := a.env(cmd).FleetBrief(f.Fleet, st, im)
 		if err != nil {
 			return err
@@ -195,6 +200,11 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 			return err
 		}
 		if err := a.robustNotFor(st.Robust.On, "the average criterion", " (robust advice is for the discounted criterion)"); err != nil {
+			return err
+		}
+	}
+	if !r.Average && len(st.Rates.List) == 0 && len(r.Compare) == 0 {
+		if err := a.src.NotFor("a class without discount.compare when --rates is not given", " (it makes the compared rates nominal)", "inflation"); err != nil {
 			return err
 		}
 	}

@@ -137,6 +137,9 @@ func TestCriterionHonouredEverywhere(t *testing.T) {
 
 // A flag that does not apply to the file given is a usage error naming it.
 func TestFlagsThatDoNotApply(t *testing.T) {
+	avg := writeFile(t, "avg.yaml", strings.Replace(base, "discount:\n  rate: 0.05\n", "criterion: average\n", 1))
+	noCompare := writeFile(t, "nocmp.yaml", base)
+	pdf := filepath.Join(t.TempDir(), "b.pdf")
 	for _, tc := range []struct {
 		args []string
 		want string
@@ -150,11 +153,50 @@ func TestFlagsThatDoNotApply(t *testing.T) {
 		{[]string{"solve", demo, "--criterion", "average", "--rate", "3%"}, "--rate does not apply to the average criterion"},
 		{[]string{"solve", "../../configs/relief-valves.yaml", "--robust"}, "--robust does not apply to a class with an inspection block"},
 		{[]string{"solve", "../../configs/relief-valves.yaml", "--robust-radius", "0.1"}, "--robust-radius does not apply to a class with an inspection block"},
+		{[]string{"plan", demoFleet, "--inflation", "2%"}, "--inflation does not apply to a plan at one rate"},
+		{[]string{"plan", demoFleet, "--simulate", "0", "--seed", "4"}, "--seed does not apply to a plan with --simulate 0"},
+		{[]string{"brief", demoFleet, "-o", pdf, "--inflation", "2%"}, "--inflation does not apply to a fleet brief without --rates"},
+		{[]string{"brief", noCompare, "-o", pdf, "--inflation", "2%"}, "--inflation does not apply to a class without discount.compare when --rates is not given"},
+		{[]string{"forecast", avg, "--from", "good", "--rate", "3%"}, "--rate does not apply to the average criterion"},
+		{[]string{"forecast", avg, "--from", "good", "--factor", "0.5"}, "--factor does not apply to the average criterion"},
+		{[]string{"forecast", demo, "--from", "sound", "--seed", "9"}, "--seed does not apply to a class config"},
+		{[]string{"forecast", demoFleet, "--simulate", "50", "--follow", "advice", "--gap", "0.5"}, "--gap does not apply to --follow advice"},
 	} {
 		code, _, stderr := runCLI(t, tc.args...)
 		if code != exitUsage || !strings.Contains(stderr, tc.want) {
 			t.Errorf("%v: exit %d, want 2 and %q: %s", tc.args, code, tc.want, stderr)
 		}
+	}
+	if _, err := os.Stat(pdf); err == nil {
+		t.Errorf("a refused brief left %s", pdf)
+	}
+	// The same settings from the environment or a settings file are
+	// refused the same way, naming where they came from; at their default
+	// they change nothing and pass.
+	methodLP := writeFile(t, "sm.yaml", "method: lp\n")
+	for _, tc := range []struct {
+		env  map[string]string
+		args []string
+		want string
+	}{
+		{map[string]string{"FIXPOINT_CRITERION": "average"}, []string{"solve", demoSystem}, "FIXPOINT_CRITERION=average does not apply to a system file"},
+		{map[string]string{"FIXPOINT_METHOD": "lp"}, []string{"solve", demoSystem}, "FIXPOINT_METHOD=lp does not apply to a system file"},
+		{nil, []string{"solve", demoSystem, "--settings", methodLP}, "settings file " + methodLP + ": method lp does not apply to a system file"},
+		{map[string]string{"FIXPOINT_SEED": "4"}, []string{"plan", demoFleet, "--simulate", "0"}, "FIXPOINT_SEED=4 does not apply to a plan with --simulate 0"},
+	} {
+		t.Run(strings.Join(tc.args[:1], " "), func(t *testing.T) {
+			for k, v := range tc.env {
+				t.Setenv(k, v)
+			}
+			code, _, stderr := runCLI(t, tc.args...)
+			if code != exitUsage || !strings.Contains(stderr, tc.want) {
+				t.Errorf("%v %v: exit %d, want 2 and %q: %s", tc.env, tc.args, code, tc.want, stderr)
+			}
+		})
+	}
+	t.Setenv("FIXPOINT_METHOD", "auto")
+	if code, _, stderr := runCLI(t, "solve", demoSystem, "--format", "json"); code != 0 {
+		t.Errorf("FIXPOINT_METHOD=auto (the default) solve system: exit %d, %s", code, stderr)
 	}
 }
 

@@ -1,6 +1,10 @@
 package main
 
 import (
+	"fmt"
+	"math"
+	"strconv"
+
 	"github.com/spf13/cobra"
 
 	"fixpoint/cmd/internal/answer"
@@ -62,14 +66,24 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 			"method", "tol", "max-iterations", "rate", "factor", "mix", "from", "units"); err != nil {
 			return err
 		}
+		if st.Follow == "advice" {
+			if err := a.src.NotFor("--follow advice", " (the unconstrained advice is not the plan; --gap is the plan's)", "gap"); err != nil {
+				return err
+			}
+		}
 		return a.simulateFleet(cmd, f.Fleet, st)
 	}
-	if err := a.src.NotFor("a class config", " (they apply to fleet files)", "simulate", "follow", "budget", "gap", "progress"); err != nil {
+	if err := a.src.NotFor("a class config", " (they apply to fleet files)", "simulate", "seed", "follow", "budget", "gap", "progress"); err != nil {
 		return err
 	}
 	r, err := answer.Prepare(f.Class, st.Override, "")
 	if err != nil {
 		return err
+	}
+	if r.Average {
+		if err := a.src.NotFor("the average criterion", " (it has no discounting)", "rate", "factor"); err != nil {
+			return err
+		}
 	}
 	start, err := st.Start.Counts(r.Model)
 	if err != nil {
@@ -86,7 +100,12 @@ func (a *app) forecast(cmd *cobra.Command, path string) error {
 	if err != nil {
 		return err
 	}
-	fc, err := optimize.NewForecast(r.Model, r.Costs, adv.Factor, adv.Policy, start, r.Period.Count(years))
+	n := r.Period.Count(years)
+	if covered := float64(n) * r.Period.Years(); math.Abs(covered-years) > 1e-9 {
+		a.note(fmt.Sprintf("%g years is not a whole number of periods of %s: the forecast covers the %d period(s) that start within it, %s years",
+			years, r.Period, n, strconv.FormatFloat(covered, 'f', -1, 64)))
+	}
+	fc, err := optimize.NewForecast(r.Model, r.Costs, adv.Factor, adv.Policy, start, n)
 	if err != nil {
 		return err
 	}

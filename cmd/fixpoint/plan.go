@@ -66,6 +66,14 @@ func (a *app) plan(cmd *cobra.Command, path string) error {
 		}
 		return a.planRates(cmd, ff, st)
 	}
+	if err := a.src.NotFor("a plan at one rate", " (it makes --rates nominal; give --rates)", "inflation"); err != nil {
+		return err
+	}
+	if st.Simulate == 0 {
+		if err := a.src.NotFor("a plan with --simulate 0", " (it seeds the Monte-Carlo of the practice)", "seed"); err != nil {
+			return err
+		}
+	}
 	view, err := a.env(cmd).FleetReport(ff, st.Fleet, st.Override)
 	if err != nil {
 		return err

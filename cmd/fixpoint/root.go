@@ -135,6 +135,7 @@ and a competent or licensed inspector's finding overrides the advice.`,
 				return err
 			}
 			a.src = src
+			src.Warn = a.warn
 			if src.File != "" {
 				a.inputs = append(a.inputs, src.File)
 			}
@@ -215,6 +216,9 @@ func (a *app) load(cmd *cobra.Command, path string, want ...modelfile.Kind) (*mo
 	}
 	for _, n := range f.Notes {
 		a.note(n)
+	}
+	for _, w := range f.Warnings {
+		a.warn(w)
 	}
 	a.inputs = append(a.inputs, f.Inputs...)
 	if !slices.Contains(want, f.Kind) {

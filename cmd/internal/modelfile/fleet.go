@@ -172,7 +172,8 @@ func same(a, b string) bool {
 	return err1 == nil && err2 == nil && aa == bb
 }
 
-// checkClasses requires one period, one discount and one currency.
+// checkClasses requires one period, one discount and one currency, and
+// the discounted criterion (the fleet plan is a present-value plan).
 func (ff *Fleet) checkClasses(d *doc, top map[string]field) {
 	if len(ff.Classes) == 0 {
 		return
@@ -186,6 +187,9 @@ func (ff *Fleet) checkClasses(d *doc, top map[string]field) {
 		key := join("classes", ff.Names[i])
 		if c.Currency != ff.Currency {
 			d.fault(at, key, "class file %s is in %s, the fleet in %s", c.Path, c.Currency, ff.Currency)
+		}
+		if c.Criterion == Average {
+			d.fault(at, key, "the fleet plan is a present-value plan (discounted criterion); class file %s has criterion: average", c.Path)
 		}
 		if i == 0 {
 			continue

@@ -67,6 +67,9 @@ type File struct {
 	Inputs []string
 	// Notes says what decoding changed (rows renormalised), for the user.
 	Notes []string
+	// Warnings are what the user should look at although the file is
+	// valid (a rate of 1: 100% a year), located.
+	Warnings []string
 }
 
 // Header returns the header of a class or system file, or nil.
@@ -116,10 +119,11 @@ func Decode(ctx context.Context, file string, data []byte, opts Options) (*File,
 
 // loader reads the files of one load.
 type loader struct {
-	ctx    context.Context
-	opts   Options
-	inputs []string
-	notes  []string
+	ctx      context.Context
+	opts     Options
+	inputs   []string
+	notes    []string
+	warnings []string
 }
 
 type tooBigError struct {
@@ -159,7 +163,7 @@ func (l *loader) file(path string, data []byte, want Kind) (*File, error) {
 		f.Inputs = l.inputs
 		return f, nil
 	}
-	d, root, err := parseYAML(l.ctx, path, data, l.opts, &l.notes)
+	d, root, err := parseYAML(l.ctx, path, data, l.opts, &l.notes, &l.warnings)
 	if err != nil {
 		if looksLikeModel(data) {
 			return nil, err
@@ -200,7 +204,7 @@ func (l *loader) file(path string, data []byte, want Kind) (*File, error) {
 	if f.Fleet != nil {
 		f.Fleet.SHA256 = f.SHA256
 	}
-	f.Inputs, f.Notes = l.inputs, l.notes
+	f.Inputs, f.Notes, f.Warnings = l.inputs, l.notes, l.warnings
 	return f, nil
 }
 

@@ -69,6 +69,9 @@ type doc struct {
 	// notes collects what decoding changed (renormalised rows); shared by
 	// the files a fleet reads.
 	notes *[]string
+	// warnings collects what the user should look at (a rate of 1, 100%
+	// a year); shared like notes.
+	warnings *[]string
 }
 
 func (d *doc) note(format string, args ...any) {
@@ -82,7 +85,7 @@ func (d *doc) cancelled() bool { return d.ctx.Err() != nil }
 var yamlLine = regexp.MustCompile(`^yaml: line (\d+): (.*)$`)
 
 // parseYAML parses one YAML document from data.
-func parseYAML(ctx context.Context, file string, data []byte, opts Options, notes *[]string) (*doc, *yaml.Node, error) {
+func parseYAML(ctx context.Context, file string, data []byte, opts Options, notes, warnings *[]string) (*doc, *yaml.Node, error) {
 	var root yaml.Node
 	dec := yaml.NewDecoder(bytes.NewReader(data))
 	if err := dec.Decode(&root); err != nil {
@@ -95,7 +98,7 @@ func parseYAML(ctx context.Context, file string, data []byte, opts Options, note
 	if err := dec.Decode(&extra); err == nil {
 		return nil, nil, &Fault{File: file, Line: extra.Line, Msg: "more than one YAML document; want one"}
 	}
-	d := &doc{ctx: ctx, file: file, opts: opts, notes: notes}
+	d := &doc{ctx: ctx, file: file, opts: opts, notes: notes, warnings: warnings}
 	body := &root
 	if body.Kind == yaml.DocumentNode && len(body.Content) == 1 {
 		body = body.Content[0]
@@ -351,12 +354,20 @@ func (d *doc) rate(n *yaml.Node, path string) (float64, bool) {
 		return x, true
 	}
 	x, ok := d.number(n, path)
+	if ok && x == 1 && d.warnings != nil {
+		w := &Fault{File: d.file, Line: n.Line, Path: path, Msg: RateOfOne}
+		*d.warnings = append(*d.warnings, w.Error())
+	}
 	if ok && x > 1 {
 		d.fault(n, path, "rate %s per year is over 100%%; write %s%% for %s percent (or %g as a fraction)", clip(n.Value), clip(n.Value), clip(n.Value), x/100)
 		return 0, false
 	}
 	return x, ok
 }
+
+// RateOfOne is the warning of a rate written 1 (without %): 100% a year,
+// most likely meant as 1%.
+const RateOfOne = "rate 1 is 100% a year; for 1% write 1%"
 
 // boolean returns the value of a true/false scalar.
 func (d *doc) boolean(n *yaml.Node, path string) (bool, bool) {

@@ -37,6 +37,8 @@ type Source struct {
 	flags *pflag.FlagSet
 	// File is the settings file read, or "".
 	File string
+	// Warn, when set, prints a warning (a rate of 1: 100% a year).
+	Warn func(string)
 }
 
 // Open prepares the settings of a command whose flags are flags: the
@@ -121,7 +123,7 @@ func (s *Source) given(key string) bool {
 
 // where names the places a setting comes from, for messages.
 func where(key string) string {
-	return fmt.Sprintf("setting %s (flag --%s or FIXPOINT_%s)", key, key, strings.ToUpper(strings.ReplaceAll(key, "-", "_")))
+	return fmt.Sprintf("setting %s (flag --%s or %s)", key, key, EnvName(key))
 }
 
 func (s *Source) number(key string) (float64, error) {
@@ -169,6 +171,9 @@ func (s *Source) rate(key string) (float64, error) {
 	if err != nil {
 		return 0, Errorf("%s: %v", where(key), err)
 	}
+	if x == 1 && !strings.HasSuffix(s.text(key), "%") && s.Warn != nil {
+		s.Warn(fmt.Sprintf("%s: %s", where(key), modelfile.RateOfOne))
+	}
 	return x, nil
 }
 
@@ -179,13 +184,16 @@ func clip(s string) string {
 	return s
 }
 
-// NotFor refuses flags given on the command line that do not apply to the
-// file given: "--method does not apply to a system file (...)".
+// NotFor refuses settings that do not apply to the file given, from
+// whichever source gave them: a flag on the command line ("--method"), a
+// FIXPOINT_* variable ("FIXPOINT_METHOD=lp") or a key of the settings file
+// ("settings file s.yaml: method lp"). A variable or settings-file key whose
+// value is the default changes nothing and is let pass.
 func (s *Source) NotFor(what, why string, keys ...string) error {
 	var bad []string
 	for _, k := range keys {
-		if s.Changed(k) {
-			bad = append(bad, "--"+k)
+		if from := s.from(k); from != "" {
+			bad = append(bad, from)
 		}
 	}
 	if len(bad) == 0 {
@@ -196,4 +204,30 @@ func (s *Source) NotFor(what, why string, keys ...string) error {
 		verb = "do"
 	}
 	return Errorf("%s %s not apply to %s%s", strings.Join(bad, ", "), verb, what, why)
+}
+
+// EnvName is the variable of key: FIXPOINT_MAX_ITERATIONS for
+// max-iterations.
+func EnvName(key string) string {
+	return "FIXPOINT_" + strings.ToUpper(strings.ReplaceAll(key, "-", "_"))
+}
+
+// from names where key was given with an effect, for messages: "--key" on
+// the command line, "FIXPOINT_KEY=value", "settings file F: key value", or
+// "" when it was not given (or given as its default outside the command
+// line).
+func (s *Source) from(key string) string {
+	if s.Changed(key) {
+		return "--" + key
+	}
+	if !s.given(key) {
+		return ""
+	}
+	if v, ok := os.LookupEnv(EnvName(key)); ok && v != "" {
+		return fmt.Sprintf("%s=%s", EnvName(key), clip(strings.TrimSpace(v)))
+	}
+	if s.File != "" && s.v.InConfig(key) {
+		return fmt.Sprintf("settings file %s: %s %s", s.File, key, clip(s.text(key)))
+	}
+	return ""
 }
