@@ -184,26 +184,36 @@ func clip(s string) string {
 	return s
 }
 
-// NotFor refuses settings that do not apply to the file given, from
-// whichever source gave them: a flag on the command line ("--method"), a
-// FIXPOINT_* variable ("FIXPOINT_METHOD=lp") or a key of the settings file
-// ("settings file s.yaml: method lp"). A variable or settings-file key whose
-// value is the default changes nothing and is let pass.
+// NotFor refuses settings that do not apply to the file given. A flag on
+// the command line ("--method") is a usage error. A FIXPOINT_* variable
+// ("FIXPOINT_METHOD=lp") or a key of the settings file ("settings file
+// s.yaml: method lp") holds defaults for every command and kind of file, so
+// it is ignored with a warning instead; one whose value is the default
+// changes nothing and passes silently.
 func (s *Source) NotFor(what, why string, keys ...string) error {
-	var bad []string
+	var flags, defaults []string
 	for _, k := range keys {
-		if from := s.from(k); from != "" {
-			bad = append(bad, from)
+		switch from := s.from(k); {
+		case from == "":
+		case s.Changed(k):
+			flags = append(flags, from)
+		default:
+			defaults = append(defaults, from)
 		}
 	}
-	if len(bad) == 0 {
-		return nil
+	verb := func(n int) string {
+		if n > 1 {
+			return "do"
+		}
+		return "does"
 	}
-	verb := "does"
-	if len(bad) > 1 {
-		verb = "do"
+	if len(flags) > 0 {
+		return Errorf("%s %s not apply to %s%s", strings.Join(flags, ", "), verb(len(flags)), what, why)
 	}
-	return Errorf("%s %s not apply to %s%s", strings.Join(bad, ", "), verb, what, why)
+	if len(defaults) > 0 && s.Warn != nil {
+		s.Warn(fmt.Sprintf("%s %s not apply to %s%s; ignored", strings.Join(defaults, ", "), verb(len(defaults)), what, why))
+	}
+	return nil
 }
 
 // EnvName is the variable of key: FIXPOINT_MAX_ITERATIONS for
