@@ -54,7 +54,7 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 	}
 	res, err := optimize.Solve(cmd.Context(), r.Problem, &st.Solver)
 	if err != nil {
-		return err
+		return answer.SolveFault(path, err)
 	}
 	figs, groups := answer.CostFigures(r.Class, r.Problem)
 	ranges, err := optimize.CostRanges(cmd.Context(), r.Problem, res, groups)

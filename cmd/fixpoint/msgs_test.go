@@ -1,0 +1,67 @@
+package main
+
+import (
+	"path/filepath"
+	"regexp"
+	"strings"
+	"testing"
+)
+
+// msgs is the folder of the inputs of these tests: small invented models,
+// each the minimal case of a fault found on an adversarial pass.
+var msgs = filepath.Join("testdata", "msgs")
+
+// TestCheckRefusesWhatSolveRefuses: check exits as solve would with the
+// default settings, naming file and field, instead of saying ok.
+func TestCheckRefusesWhatSolveRefuses(t *testing.T) {
+	for _, tc := range []struct {
+		file string
+		code int
+		want string
+	}{
+		// 10 components of 4 states and 3 actions: the estimate is about 61 h, above --max-hours 1.
+		{"g_10_4_3.yaml", exitInput, "g_10_4_3.yaml: components: solve and brief refuse this system at their default limits"},
+		// two absorbing states of different cost under criterion: average: the gain depends on the start.
+		{"multi2.yaml", exitInput, "multi2.yaml: criterion: the long-run average cost depends on the starting condition"},
+		// factor 0.99999999: the rounding floor is far above the default tolerance; shown with its digits.
+		{"h1.yaml", exitUncertified, "h1.yaml: discount: at discount factor 0.99999999 solve cannot certify"},
+	} {
+		path := filepath.Join(msgs, tc.file)
+		code, out, errs := runCLI(t, "check", path)
+		if code != tc.code || !strings.Contains(errs, tc.want) || strings.Contains(out, "ok") {
+			t.Errorf("check %s: exit %d, stdout %q, stderr %q; want exit %d and %q", tc.file, code, out, errs, tc.code, tc.want)
+		}
+		scode, _, serrs := runCLI(t, "solve", path)
+		if scode != tc.code {
+			t.Errorf("solve %s: exit %d, want %d as check (stderr %q)", tc.file, scode, tc.code, serrs)
+		}
+	}
+}
+
+// TestOneJointEstimate: check, solve and solve --format json state one
+// memory estimate of a joint model.
+func TestOneJointEstimate(t *testing.T) {
+	path := filepath.Join(msgs, "g_10_4_3.yaml")
+	need := regexp.MustCompile(`need up to ([0-9.]+ [KMG]iB) of memory`)
+	var seen []string
+	for _, args := range [][]string{{"check", path}, {"solve", path}, {"solve", path, "--format", "json"}} {
+		_, _, errs := runCLI(t, args...)
+		m := need.FindStringSubmatch(errs)
+		if m == nil {
+			t.Fatalf("%v: no memory estimate in %q", args, errs)
+		}
+		seen = append(seen, m[1])
+	}
+	if seen[0] != seen[1] || seen[1] != seen[2] {
+		t.Errorf("memory estimates of check, solve, solve --format json: %q, want one figure", seen)
+	}
+}
+
+// TestForecastLocatesSolveFaults: an error of the solve behind forecast
+// names the file and field, as solve does.
+func TestForecastLocatesSolveFaults(t *testing.T) {
+	code, _, errs := runCLI(t, "forecast", filepath.Join(msgs, "multi2.yaml"), "--from", "a")
+	if code != exitInput || !strings.Contains(errs, "multi2.yaml: criterion: the long-run average cost depends") {
+		t.Errorf("forecast multi2.yaml: exit %d, stderr %q; want exit 1 located at criterion", code, errs)
+	}
+}
