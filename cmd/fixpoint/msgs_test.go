@@ -65,3 +65,19 @@ func TestForecastLocatesSolveFaults(t *testing.T) {
 		t.Errorf("forecast multi2.yaml: exit %d, stderr %q; want exit 1 located at criterion", code, errs)
 	}
 }
+
+// TestHiddenNamesRefusedOnce: a state name with a bidirectional override
+// or an escape is refused where it is declared, once: its uses are not
+// reported again as unknown states.
+func TestHiddenNamesRefusedOnce(t *testing.T) {
+	code, _, errs := runCLI(t, "check", filepath.Join(msgs, "hidden.yaml"))
+	lines := strings.Split(strings.TrimSpace(errs), "\n")
+	if code != exitInput || len(lines) != 2 ||
+		!strings.Contains(lines[0], `states[1].name: name "fair\u202e" contains the invisible format character U+202E`) ||
+		!strings.Contains(lines[1], `states[2].name: name "poor\x1b[8m" contains a control character`) {
+		t.Errorf("check hidden.yaml: exit %d, stderr:\n%s\nwant exit 1 and the two names refused, nothing else", code, errs)
+	}
+	if strings.ContainsRune(errs, '\u202e') || strings.ContainsRune(errs, '\x1b') {
+		t.Errorf("check hidden.yaml: raw hidden characters on stderr: %q", errs)
+	}
+}

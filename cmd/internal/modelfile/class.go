@@ -64,6 +64,9 @@ type classLocator struct {
 	// broken[a][s] marks a row with an entry that could not be decoded; its
 	// sum is not checked again.
 	broken [][]bool
+	// refused holds the state names refused as names (control or format
+	// characters, ...): a use of one is not reported again as unknown.
+	refused map[string]bool
 }
 
 var classKeys = []string{"version", "kind", "name", "currency", "period_years", "criterion", "discount", "states", "actions", "inspection", "uncertainty"}
@@ -153,6 +156,7 @@ func (c *Class) decodeStates(d *doc, n *yaml.Node) bool {
 		if r := d.resolve(it); r.Kind == yaml.ScalarNode {
 			var good bool
 			st.Name, good = d.name(r, path)
+			c.refuse(d, r, good)
 			ok = ok && good
 			m.States = append(m.States, st)
 			continue
@@ -161,6 +165,7 @@ func (c *Class) decodeStates(d *doc, n *yaml.Node) bool {
 		if nf, has := f["name"]; has {
 			var good bool
 			st.Name, good = d.name(nf.value, path+".name")
+			c.refuse(d, nf.value, good)
 			ok = ok && good
 		} else {
 			d.fault(it, path, "missing required key \"name\"")
@@ -238,10 +243,23 @@ func (c *Class) decodeActions(d *doc, n *yaml.Node) bool {
 	return true
 }
 
-// stateRef resolves a state name used as a key, with a hint when unknown.
+// refuse remembers the text of a state name that was refused (good is
+// false), so that its uses are not reported again.
+func (c *Class) refuse(d *doc, n *yaml.Node, good bool) {
+	if r := d.resolve(n); !good && r.Kind == yaml.ScalarNode {
+		if c.loc.refused == nil {
+			c.loc.refused = make(map[string]bool)
+		}
+		c.loc.refused[r.Value] = true
+	}
+}
+
+// stateRef resolves a state name used as a key, with a hint when unknown;
+// a name already refused where the state is declared is not reported
+// again.
 func (c *Class) stateRef(d *doc, key *yaml.Node, path string) int {
 	s := c.Model.StateIndex(key.Value)
-	if s < 0 {
+	if s < 0 && !c.loc.refused[key.Value] {
 		d.fault(key, path, "unknown state %q%s", clip(key.Value), d.didYouMean(key.Value, c.Model.StateNames()))
 	}
 	return s
