@@ -1,6 +1,7 @@
 package main
 
 import (
+	"os"
 	"path/filepath"
 	"regexp"
 	"strings"
@@ -79,5 +80,60 @@ func TestHiddenNamesRefusedOnce(t *testing.T) {
 	}
 	if strings.ContainsRune(errs, '\u202e') || strings.ContainsRune(errs, '\x1b') {
 		t.Errorf("check hidden.yaml: raw hidden characters on stderr: %q", errs)
+	}
+}
+
+// TestFleetPathsStayInside: a fleet file names files of its own folder
+// tree; a path that leaves it by ".." or through a symbolic link is
+// refused at its field, and every bad path is reported, not the first.
+func TestFleetPathsStayInside(t *testing.T) {
+	root := t.TempDir()
+	dir := filepath.Join(root, "fleet")
+	if err := os.MkdirAll(filepath.Join(dir, "sub"), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	pumps, err := os.ReadFile(filepath.Join("..", "..", "configs", "pumps.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	write := func(path, text string) {
+		t.Helper()
+		if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	write(filepath.Join(dir, "pumps.yaml"), string(pumps))
+	write(filepath.Join(root, "outside.csv"), "unit,class,condition\nP1,pumps,sound\n")
+	write(filepath.Join(dir, "sub", "inv.csv"), "unit,class,condition\nP1,pumps,sound\n")
+	if err := os.Symlink(filepath.Join(root, "outside.csv"), filepath.Join(dir, "link.csv")); err != nil {
+		t.Skip("no symbolic links here:", err)
+	}
+	fleet := func(classPath, inventory string) string {
+		return "version: 1\nkind: fleet\nname: paths\ncurrency: EUR\nclasses:\n  pumps: " + classPath +
+			"\ninventory: " + inventory + "\nbudget: {years: 2, per_year: 100}\n"
+	}
+	for _, tc := range []struct {
+		name, class, inventory string
+		code                   int
+		want                   []string
+	}{
+		{"dotdot", "pumps.yaml", "../outside.csv", exitInput, []string{`f.yaml:7: inventory: "../outside.csv" leaves the fleet file's folder`}},
+		{"both", "../fleet/pumps.yaml", "sub/../../outside.csv", exitInput, []string{
+			`f.yaml:6: classes.pumps: "../fleet/pumps.yaml" leaves the fleet file's folder`,
+			`f.yaml:7: inventory: "sub/../../outside.csv" leaves the fleet file's folder`}},
+		{"link", "pumps.yaml", "link.csv", exitInput, []string{`f.yaml:7: inventory: "link.csv" leads through a symbolic link out of the fleet file's folder`}},
+		{"inside", "pumps.yaml", "sub/inv.csv", exitOK, nil},
+	} {
+		path := filepath.Join(dir, "f.yaml")
+		write(path, fleet(tc.class, tc.inventory))
+		code, out, errs := runCLI(t, "check", path)
+		if code != tc.code {
+			t.Errorf("%s: check exit %d, want %d (stdout %q, stderr %q)", tc.name, code, tc.code, out, errs)
+		}
+		for _, w := range tc.want {
+			if !strings.Contains(errs, w) {
+				t.Errorf("%s: stderr %q, want %q", tc.name, errs, w)
+			}
+		}
 	}
 }

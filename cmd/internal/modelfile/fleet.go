@@ -107,7 +107,9 @@ func (ff *Fleet) decode(l *loader, d *doc, root *yaml.Node) {
 }
 
 // relative resolves a path given in the fleet file against the fleet
-// file's directory; absolute paths are refused.
+// file's directory. Absolute paths are refused, and so are paths that
+// leave the fleet file's directory tree, by ".." or, once symbolic links
+// are resolved, by a link: a fleet file names files of its own folder.
 func (ff *Fleet) relative(d *doc, n *yaml.Node, key string) (string, bool) {
 	rel, ok := d.str(n, key)
 	if !ok {
@@ -117,7 +119,23 @@ func (ff *Fleet) relative(d *doc, n *yaml.Node, key string) (string, bool) {
 		d.fault(n, key, "give the file's path relative to the fleet file")
 		return "", false
 	}
-	path := filepath.Join(filepath.Dir(ff.Path), rel)
+	dir := filepath.Dir(ff.Path)
+	if !filepath.IsLocal(rel) {
+		d.fault(n, key, "%q leaves the fleet file's folder: give a path inside it (the fleet file's folder or below)", clip(rel))
+		return "", false
+	}
+	path := filepath.Join(dir, rel)
+	if real, err := filepath.EvalSymlinks(path); err == nil {
+		// A missing file is reported when it is read.
+		top, err := filepath.EvalSymlinks(dir)
+		if err != nil {
+			top = dir
+		}
+		if in, err := filepath.Rel(top, real); err != nil || !filepath.IsLocal(in) {
+			d.fault(n, key, "%q leads through a symbolic link out of the fleet file's folder: give a path inside it (the fleet file's folder or below)", clip(rel))
+			return "", false
+		}
+	}
 	if same(path, ff.Path) {
 		d.fault(n, key, "the fleet file cannot name itself")
 		return "", false
