@@ -137,3 +137,37 @@ func TestFleetPathsStayInside(t *testing.T) {
 		}
 	}
 }
+
+// TestMessagesNameTheFileKind: a file given to an option that wants
+// another kind says what the option wants; a value refused in a settings
+// file names the file.
+func TestMessagesNameTheFileKind(t *testing.T) {
+	dir := t.TempDir()
+	bad := filepath.Join(dir, "st.yaml")
+	if err := os.WriteFile(bad, []byte("tol: lots\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	cfg := func(name string) string { return filepath.Join("..", "..", "configs", name) }
+	for _, tc := range []struct {
+		name string
+		args []string
+		code int
+		want string
+	}{
+		{"fit --config records", []string{"fit", cfg("pump-inspections.csv"), "--config", cfg("pump-inspections.csv")}, exitInput,
+			"pump-inspections.csv: this is an inspection-records CSV, not a class config: --config wants a class config"},
+		{"--settings class", []string{"solve", cfg("pumps.yaml"), "--settings", cfg("pumps.yaml")}, exitUsage,
+			"pumps.yaml is a class config, not a settings file"},
+		{"--settings records", []string{"solve", cfg("pumps.yaml"), "--settings", cfg("pump-inspections.csv")}, exitUsage,
+			"pump-inspections.csv is an inspection-records CSV, not a settings file"},
+		{"settings file value", []string{"solve", cfg("pumps.yaml"), "--settings", bad}, exitUsage,
+			"st.yaml: tol (settings file): \"lots\" is not"},
+		{"flag value", []string{"solve", cfg("pumps.yaml"), "--settings", bad, "--tol", "few"}, exitUsage,
+			"setting tol (flag --tol or FIXPOINT_TOL): \"few\" is not"},
+	} {
+		code, _, errs := runCLI(t, tc.args...)
+		if code != tc.code || !strings.Contains(errs, tc.want) {
+			t.Errorf("%s: exit %d, stderr %q; want exit %d and %q", tc.name, code, errs, tc.code, tc.want)
+		}
+	}
+}

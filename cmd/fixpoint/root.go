@@ -55,7 +55,7 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	root.SetIn(stdin)
 	root.SetOut(stdout)
 	root.SetErr(stderr)
-	err := root.ExecuteContext(ctx)
+	err := a.src.Locate(root.ExecuteContext(ctx))
 	if err == nil {
 		return exitOK
 	}
@@ -181,6 +181,13 @@ var takers = map[modelfile.Kind]string{
 // load reads a model file for the command name, which takes the kinds
 // want; any other kind is refused in one line naming who takes it.
 func (a *app) load(cmd *cobra.Command, path string, want ...modelfile.Kind) (*modelfile.File, error) {
+	return a.loadAs(cmd, path, "", want...)
+}
+
+// loadAs is load for a file given as an option (role, e.g. "--config
+// wants a class config (...)"): a file of another kind is refused by
+// saying what the option wants, not which commands take the file.
+func (a *app) loadAs(cmd *cobra.Command, path, role string, want ...modelfile.Kind) (*modelfile.File, error) {
 	renorm, err := a.src.Renormalize()
 	if err != nil {
 		return nil, err
@@ -200,6 +207,9 @@ func (a *app) load(cmd *cobra.Command, path string, want ...modelfile.Kind) (*mo
 			what = "the file is empty"
 		case modelfile.BinaryFile:
 			what = "this is not a text file"
+		}
+		if role != "" {
+			return nil, &modelfile.Fault{File: path, Msg: fmt.Sprintf("%s, not %s: %s", what, want[0].Article(), role)}
 		}
 		return nil, &modelfile.Fault{File: path, Msg: fmt.Sprintf("%s, which %s does not take; %s", what, cmd.Name(), takers[f.Kind])}
 	}
