@@ -171,3 +171,61 @@ func TestMessagesNameTheFileKind(t *testing.T) {
 		}
 	}
 }
+
+// TestFaultWording: a row of 4-decimal entries is not said to look
+// rounded to 3 decimals; a fleet's classes of different periods are not
+// also reported for their different discount factors; a fault inside a
+// system's component names the component.
+func TestFaultWording(t *testing.T) {
+	cfg := func(name string) string { return filepath.Join("..", "..", "configs", name) }
+	read := func(path string) string {
+		t.Helper()
+		b, err := os.ReadFile(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return string(b)
+	}
+	dir := t.TempDir()
+	write := func(name, text string) string {
+		t.Helper()
+		path := filepath.Join(dir, name)
+		if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return path
+	}
+	// rn4dec.yaml: critical: {critical: 0.5555, failed: 0.4455} sums to 1.001, ten times what rounding two 4-decimal entries can miss.
+	code, _, errs := runCLI(t, "check", filepath.Join(msgs, "rn4dec.yaml"))
+	if code != exitInput || strings.Contains(errs, "rounded to 3 decimals") || !strings.Contains(errs, "written to 4 decimals, and rounding them cannot miss 1 by this much") {
+		t.Errorf("check rn4dec.yaml: exit %d, stderr %q; want the 4 decimals named and no rounding hint", code, errs)
+	}
+	// 0.5001 + 0.4998 + 0.0002 misses 1 by 1e-4: within rounding three 4-decimal entries (1.5e-4).
+	text := strings.Replace(read(cfg("pumps.yaml")), "{critical: 0.55, failed: 0.45}", "{critical: 0.5001, failed: 0.4998, sound: 0.0002}", 1)
+	if code, _, errs := runCLI(t, "check", write("r4.yaml", text)); code != exitInput || !strings.Contains(errs, "it looks rounded to 4 decimals") {
+		t.Errorf("check r4.yaml: exit %d, stderr %q; want \"looks rounded to 4 decimals\"", code, errs)
+	}
+
+	half := strings.Replace(read(cfg("pumps.yaml")), "period_years: 1", "period_years: 0.5", 1)
+	write("half.yaml", half)
+	write("valves.yaml", read(cfg("valves.yaml")))
+	write("inv.csv", "unit,class,condition\nP1,pumps,sound\n")
+	fleet := write("mix.yaml", "version: 1\nkind: fleet\nname: mix\ncurrency: EUR\nclasses:\n  pumps: half.yaml\n  valves: valves.yaml\ninventory: inv.csv\nbudget: {years: 2, per_year: 100}\n")
+	code, _, errs = runCLI(t, "check", fleet)
+	if code != exitInput || !strings.Contains(errs, "different periods") || strings.Contains(errs, "different discount factors") {
+		t.Errorf("check mix.yaml: exit %d, stderr %q; want the different periods only", code, errs)
+	}
+
+	// crane.yaml without its passive action in component wire_rope.
+	crane := read(cfg("crane.yaml"))
+	i := strings.Index(crane, "wire_rope")
+	j := strings.Index(crane[i:], "passive: true")
+	if i < 0 || j < 0 {
+		t.Fatal("configs/crane.yaml has changed: no passive action of wire_rope")
+	}
+	sys := write("sys.yaml", crane[:i+j]+"passive: false"+crane[i+j+len("passive: true"):])
+	code, _, errs = runCLI(t, "check", sys)
+	if code != exitInput || !strings.Contains(errs, "components[1].actions (component wire_rope): no action is passive") {
+		t.Errorf("check sys.yaml: exit %d, stderr %q; want the component named", code, errs)
+	}
+}

@@ -209,8 +209,11 @@ func (ff *Fleet) checkClasses(d *doc, top map[string]field) {
 			continue
 		}
 		if c.Period != first.Period {
+			// Their discount factors per period differ as a consequence:
+			// not reported again.
 			d.fault(at, key, "class files %s and %s have different periods (%s and %s); the classes of a fleet share one",
 				first.Path, c.Path, first.Period, c.Period)
+			continue
 		}
 		if g, g0 := c.Discount.Factor(), first.Discount.Factor(); !c.Discount.IsZero() && !first.Discount.IsZero() && g != g0 {
 			d.fault(at, key, "class files %s and %s have different discount factors (%.6f and %.6f); a fleet shares one",
