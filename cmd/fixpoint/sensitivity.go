@@ -59,7 +59,7 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 	figs, groups := answer.CostFigures(r.Class, r.Problem)
 	ranges, err := optimize.CostRanges(cmd.Context(), r.Problem, res, groups)
 	if err != nil {
-		return err
+		return answer.SolveFault(path, err)
 	}
 	for i := range figs {
 		figs[i].Range = ranges[i]

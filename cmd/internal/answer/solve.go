@@ -24,11 +24,18 @@ func (e *Env) AverageAdvice(r *Class, s optimize.Settings) (*reports.AverageAdvi
 
 // SolveFault locates the error of a class solve in its file: a model
 // whose optimal long-run average cost depends on the start is a fault of
-// its criterion, any other problem of the model a fault of the file.
-// Cancellation passes unchanged.
+// its criterion, any other problem of the model a fault of the file
+// (each of joined errors on its own). Cancellation passes unchanged.
 func SolveFault(path string, err error) error {
 	if err == nil || errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded) {
 		return err
+	}
+	if j, ok := err.(interface{ Unwrap() []error }); ok {
+		var out []error
+		for _, e := range j.Unwrap() {
+			out = append(out, SolveFault(path, e))
+		}
+		return errors.Join(out...)
 	}
 	var f *modelfile.Fault
 	if errors.As(err, &f) {
