@@ -109,6 +109,14 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 	panel, actions, pw := condition.BuildPanel(recs, condition.PanelOptions{Actions: actions, Passive: passive,
 		NewActions: c == nil, ImprovementIsError: st.ImprovementIsError || opts.Structure != condition.AnyChange})
 	warn = append(warn, pw...)
+	if c == nil {
+		// Action names taken from the records reach every output.
+		for _, name := range actions {
+			if problem := modelfile.TextProblem(name); problem != "" {
+				return &modelfile.Fault{File: path, Path: "action", Msg: strings.Replace(problem, "name", "action name", 1)}
+			}
+		}
+	}
 	opts.Actions = actions
 	if st.Estimator == "auto" {
 		opts.Method = condition.Counting

@@ -229,3 +229,29 @@ func TestFaultWording(t *testing.T) {
 		t.Errorf("check sys.yaml: exit %d, stderr %q; want the component named", code, errs)
 	}
 }
+
+// TestFitRefusesHiddenNames: names that fit takes from the records (new
+// actions) or from --states reach its tables and files, so an escape or a
+// bidirectional override in them is refused, not printed raw.
+func TestFitRefusesHiddenNames(t *testing.T) {
+	dir := t.TempDir()
+	for _, tc := range []struct {
+		name, action, states string
+		code                 int
+		want                 string
+	}{
+		{"escape", "\x1b[2Jfix", "a,b", exitInput, `action: action name "\x1b[2Jfix" contains a control character`},
+		{"bidi", "\u202efix", "a,b", exitInput, `action: action name "\u202efix" contains the invisible format character U+202E`},
+		{"states", "fix", "a\u202e,b", exitUsage, `setting states (flag --states or FIXPOINT_STATES): name "a\u202e" contains the invisible format character`},
+	} {
+		path := filepath.Join(dir, tc.name+".csv")
+		recs := "unit,date,condition,action\nu1,2020-01-01,a,\nu1,2021-01-01,b," + tc.action + "\nu1,2022-01-01,a,\nu2,2020-01-01,a,\nu2,2021-01-01,a,\n"
+		if err := os.WriteFile(path, []byte(recs), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		code, out, errs := runCLI(t, "fit", path, "--states", tc.states, "--period-years", "1")
+		if code != tc.code || !strings.Contains(errs, tc.want) || out != "" {
+			t.Errorf("%s: exit %d, stdout %q, stderr %q; want exit %d and %q", tc.name, code, out, errs, tc.code, tc.want)
+		}
+	}
+}
