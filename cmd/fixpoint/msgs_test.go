@@ -255,3 +255,25 @@ func TestFitRefusesHiddenNames(t *testing.T) {
 		}
 	}
 }
+
+// TestFleetReportsEveryBadFile: a fleet whose class file is of the wrong
+// kind still has its inventory checked for being an inventory at all.
+func TestFleetReportsEveryBadFile(t *testing.T) {
+	dir := t.TempDir()
+	files := map[string]string{
+		"recs.csv": "unit,date,condition\nP1,2020-01-01,sound\n",
+		"bin.dat":  "\x00\x01\x02",
+		"f.yaml":   "version: 1\nkind: fleet\nname: two bad files\ncurrency: EUR\nclasses:\n  pumps: recs.csv\ninventory: bin.dat\nbudget: {years: 2, per_year: 100}\n",
+	}
+	for name, text := range files {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	code, _, errs := runCLI(t, "check", filepath.Join(dir, "f.yaml"))
+	for _, want := range []string{"recs.csv: is an inspection-records CSV, not a class config", "bin.dat: this is a binary file, not an inventory CSV"} {
+		if code != exitInput || !strings.Contains(errs, want) {
+			t.Errorf("check f.yaml: exit %d, stderr %q; want exit 1 and %q", code, errs, want)
+		}
+	}
+}

@@ -91,7 +91,18 @@ func (ff *Fleet) decode(l *loader, d *doc, root *yaml.Node) {
 		ff.decodeBudget(d, n)
 	}
 	if n, ok := d.required(root, top, "inventory"); ok {
-		if path, ok := ff.relative(d, n, "inventory"); ok && len(ff.Classes) == len(ff.Names) && len(ff.Classes) > 0 {
+		path, ok := ff.relative(d, n, "inventory")
+		if ok && len(ff.Classes) == 0 {
+			// No class to count its units by: say only whether it is
+			// an inventory at all.
+			data, err := l.read(path, maxInvBytes)
+			if err != nil {
+				d.add(unjoin(err)...)
+			} else if k := Sniff(data); k != InventoryFile {
+				d.add(&Fault{File: path, Msg: fmt.Sprintf("this is %s, not an inventory CSV (want a header unit,class,condition)", k.Article())})
+			}
+		}
+		if ok && len(ff.Classes) == len(ff.Names) && len(ff.Classes) > 0 {
 			ff.Inventory = path
 			data, err := l.read(path, maxInvBytes)
 			if err == nil {
