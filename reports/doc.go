@@ -33,6 +33,7 @@
 // JSON and CSV "state". Numbers in tables use fixed decimals with ","
 // between thousands and are right-aligned; JSON keeps full float64
 // precision; CSV has six decimals, and text cells that a spreadsheet would
-// run as a formula are neutralised. Output is deterministic: rows follow
+// run as a formula are neutralised. Printable escapes control and
+// invisible format characters (Hidden) in text for a terminal. Output is deterministic: rows follow
 // the scale order and map keys are sorted.
 package reports

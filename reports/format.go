@@ -91,15 +91,16 @@ func printable(cells []string) []string {
 }
 
 // Printable escapes control characters (terminal escape sequences,
-// newlines) as Go's %q would, so that text from data files never reaches
-// a terminal raw.
+// newlines) and invisible format characters (see Hidden) as Go's %q
+// would, so that text from data files never reaches a terminal raw and
+// never reorders what follows it on the line.
 func Printable(s string) string {
-	if strings.IndexFunc(s, unicode.IsControl) < 0 {
+	if strings.IndexFunc(s, Hidden) < 0 {
 		return s
 	}
 	var b strings.Builder
 	for _, r := range s {
-		if unicode.IsControl(r) {
+		if Hidden(r) {
 			q := strconv.QuoteRune(r)
 			b.WriteString(q[1 : len(q)-1])
 			continue
@@ -107,6 +108,23 @@ func Printable(s string) string {
 		b.WriteRune(r)
 	}
 	return b.String()
+}
+
+// Hidden reports whether r must not reach a terminal raw: a control
+// character (Unicode category Cc), or a format character (category Cf:
+// the bidirectional embeddings, overrides and isolates U+202A–U+202E and
+// U+2066–U+2069, marks, zero-width space, soft hyphen, byte-order mark,
+// tags ...), which are invisible and can make text display in another
+// order than it is stored (Unicode Technical Report #36, Unicode Security
+// Considerations, §2.4 "Bidirectional Text Spoofing"). The zero-width
+// non-joiner and joiner (U+200C, U+200D) are not hidden: several scripts
+// and emoji sequences need them to be written correctly, and they cannot
+// reorder text.
+func Hidden(r rune) bool {
+	if unicode.IsControl(r) {
+		return true
+	}
+	return unicode.Is(unicode.Cf, r) && r != '\u200c' && r != '\u200d'
 }
 
 // stateLabel is the name of state s, marked when the state is unsafe.

@@ -176,7 +176,7 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 		if err := a.robustNotFor(st.Robust.On, "a system file", " (robust advice is for class configs)"); err != nil {
 			return err
 		}
-		view, err := a.env(cmd).SystemAdvice(f.System, st.Override, st.Solver, answer.JointLimits{Workers: st.Workers, MaxMemoryGiB: st.MaxMemoryGiB, MaxHours: st.MaxHours, Report: false})
+		view, err := a.env(cmd).SystemAdvice(f.System, st.Override, st.Solver, answer.JointLimits{Workers: st.Workers, MaxMemoryGiB: st.MaxMemoryGiB, MaxHours: st.MaxHours})
 		if err != nil {
 			return err
 		}

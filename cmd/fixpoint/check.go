@@ -12,7 +12,6 @@ import (
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/outfile"
 	"fixpoint/cmd/internal/starters"
-	"fixpoint/optimize/system"
 	"fixpoint/reports"
 )
 
@@ -58,9 +57,9 @@ func (a *app) newCheck() *cobra.Command {
 					return err
 				}
 				n, acts := m.Size()
-				est, err := m.Estimate(&system.Settings{})
+				est, err := answer.SystemSize(f.System, m)
 				if err != nil {
-					return &modelfile.Fault{File: path, Msg: modelfile.Plain(err)}
+					return err
 				}
 				bytes := est.Bytes
 				fmt.Fprintf(a.stdout, "%s: ok: system %q, %d components, %s joint states, %s joint actions, up to %s of memory and %s to solve (upper bounds)\n",
@@ -70,9 +69,12 @@ func (a *app) newCheck() *cobra.Command {
 				}
 			default:
 				c := f.Class
+				if err := a.env(cmd).ClassCheck(c); err != nil {
+					return err
+				}
 				disc := "average criterion (no discounting)"
 				if !c.Discount.IsZero() {
-					disc = fmt.Sprintf("discount factor %.6f per period of %s", c.Discount.Factor(), c.Period)
+					disc = fmt.Sprintf("discount factor %s per period of %s", answer.FactorText(c.Discount.Factor()), c.Period)
 					if c.Criterion == modelfile.Average {
 						disc = "average criterion; " + disc + " for the commands that discount"
 					}

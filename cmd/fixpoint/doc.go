@@ -69,6 +69,11 @@
 //	3    the answer was written but is not certified to the tolerance
 //	130  interrupted (SIGINT or SIGTERM); no output file is left behind
 //
+// check exits as solve would with the default settings: 1 for a system
+// above the default --max-memory-gib or --max-hours and for a criterion:
+// average whose optimal cost depends on the start, 3 for a class whose
+// answer cannot be certified to the default --tol.
+//
 // Workbooks (--format xlsx, or -o FILE.xlsx) are written by solve,
 // compare, sensitivity, forecast (also a fleet's --simulate) and plan
 // (also --rates), to a file only.

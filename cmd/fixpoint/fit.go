@@ -62,9 +62,11 @@ solve --robust-confidence sizes each row's ambiguity set.`,
 // from --config or from --states and --period-years.
 func (a *app) fitScale(cmd *cobra.Command, st settings.Fit) (c *modelfile.Class, states []string, unsafe []bool, period float64, actions []string, passive int, err error) {
 	if st.Config != "" {
-		if c, err = a.class(cmd, st.Config); err != nil {
+		f, err := a.loadAs(cmd, st.Config, "--config wants a class config (the condition scale, actions and period to fit the records to)", modelfile.ClassFile)
+		if err != nil {
 			return nil, nil, nil, 0, nil, 0, err
 		}
+		c = f.Class
 		passive = c.Model.Passive()
 		return c, c.Model.StateNames(), c.Unsafe(), c.Model.PeriodYears, c.Model.ActionNames(), passive, nil
 	}
@@ -107,6 +109,14 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 	panel, actions, pw := condition.BuildPanel(recs, condition.PanelOptions{Actions: actions, Passive: passive,
 		NewActions: c == nil, ImprovementIsError: st.ImprovementIsError || opts.Structure != condition.AnyChange})
 	warn = append(warn, pw...)
+	if c == nil {
+		// Action names taken from the records reach every output.
+		for _, name := range actions {
+			if problem := modelfile.TextProblem(name); problem != "" {
+				return &modelfile.Fault{File: path, Path: "action", Msg: strings.Replace(problem, "name", "action name", 1)}
+			}
+		}
+	}
 	opts.Actions = actions
 	if st.Estimator == "auto" {
 		opts.Method = condition.Counting

@@ -64,6 +64,7 @@ func (a *app) run(ctx context.Context, args []string) int {
 	root.SetOut(a.stdout)
 	root.SetErr(a.stderr)
 	err := root.ExecuteContext(ctx)
+	err = a.src.Locate(err) // a.src is set while the command runs
 	if err == nil {
 		return exitOK
 	}
@@ -206,6 +207,13 @@ var takers = map[modelfile.Kind]string{
 // load reads a model file for the command name, which takes the kinds
 // want; any other kind is refused in one line naming who takes it.
 func (a *app) load(cmd *cobra.Command, path string, want ...modelfile.Kind) (*modelfile.File, error) {
+	return a.loadAs(cmd, path, "", want...)
+}
+
+// loadAs is load for a file given as an option (role, e.g. "--config
+// wants a class config (...)"): a file of another kind is refused by
+// saying what the option wants, not which commands take the file.
+func (a *app) loadAs(cmd *cobra.Command, path, role string, want ...modelfile.Kind) (*modelfile.File, error) {
 	renorm, err := a.src.Renormalize()
 	if err != nil {
 		return nil, err
@@ -228,6 +236,9 @@ func (a *app) load(cmd *cobra.Command, path string, want ...modelfile.Kind) (*mo
 			what = "the file is empty"
 		case modelfile.BinaryFile:
 			what = "this is not a text file"
+		}
+		if role != "" {
+			return nil, &modelfile.Fault{File: path, Msg: fmt.Sprintf("%s, not %s: %s", what, want[0].Article(), role)}
 		}
 		return nil, &modelfile.Fault{File: path, Msg: fmt.Sprintf("%s, which %s does not take; %s", what, cmd.Name(), takers[f.Kind])}
 	}

@@ -54,12 +54,12 @@ func (a *app) sensitivity(cmd *cobra.Command, path string) error {
 	}
 	res, err := optimize.Solve(cmd.Context(), r.Problem, &st.Solver)
 	if err != nil {
-		return err
+		return answer.SolveFault(path, err)
 	}
 	figs, groups := answer.CostFigures(r.Class, r.Problem)
 	ranges, err := optimize.CostRanges(cmd.Context(), r.Problem, res, groups)
 	if err != nil {
-		return err
+		return answer.SolveFault(path, err)
 	}
 	for i := range figs {
 		figs[i].Range = ranges[i]

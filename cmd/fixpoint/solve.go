@@ -149,7 +149,7 @@ func (a *app) solveAverage(cmd *cobra.Command, r *answer.Class, st settings.Solv
 
 // solveSystem solves a system file and writes the advice.
 func (a *app) solveSystem(cmd *cobra.Command, sf *modelfile.System, st settings.Solve) error {
-	view, err := a.env(cmd).SystemAdvice(sf, st.Override, st.Solver, answer.JointLimits{Workers: st.Workers, MaxMemoryGiB: st.MaxMemoryGiB, MaxHours: st.MaxHours, Report: st.Output.Format != "table"})
+	view, err := a.env(cmd).SystemAdvice(sf, st.Override, st.Solver, answer.JointLimits{Workers: st.Workers, MaxMemoryGiB: st.MaxMemoryGiB, MaxHours: st.MaxHours})
 	if err != nil {
 		return err
 	}

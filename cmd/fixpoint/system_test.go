@@ -79,8 +79,8 @@ func TestSystemBadInput(t *testing.T) {
 	}{
 		{"name clash", "  - name: brake\n", "  - name: wire_rope\n", `components[2].name: component name "wire_rope" is used twice (also components[1])`},
 		{"no passive action", "      - name: leave\n        passive: true\n        transitions:\n          good: {good: 0.85, glazed: 0.12, worn: 0.03}",
-			"      - name: leave\n        cost: 0\n        transitions:\n          good: {good: 0.85, glazed: 0.12, worn: 0.03}", `components[2].actions: no action is passive; mark the leave-as-is action passive: true`},
-		{"row sum in a component", "worn: {worn: 0.70, discard: 0.30}", "worn: {worn: 0.70, discard: 0.20}", "components[1].actions[0].transitions.worn (action leave, row worn): row sums to 0.9"},
+			"      - name: leave\n        cost: 0\n        transitions:\n          good: {good: 0.85, glazed: 0.12, worn: 0.03}", `components[2].actions (component brake): no action is passive; mark the leave-as-is action passive: true`},
+		{"row sum in a component", "worn: {worn: 0.70, discard: 0.30}", "worn: {worn: 0.70, discard: 0.20}", "components[1].actions[0].transitions.worn (component wire_rope, action leave, row worn): row sums to 0.9"},
 		{"unknown key", "down_cost: 20000", "down_costs: 20000", `down_costs: unknown key "down_costs"; did you mean "down_cost"?`},
 		{"negative shutdown", "shutdown_cost: 3000", "shutdown_cost: -3", "shutdown_cost: cost -3 is negative"},
 	} {

@@ -109,7 +109,7 @@ func life(r *Class, res *optimize.Result, targetName string) (*optimize.Life, er
 func (e *Env) Advise(r *Class, s optimize.Settings, target string) (*reports.Advice, error) {
 	res, err := optimize.Solve(e.Ctx, r.Problem, &s)
 	if err != nil {
-		return nil, err
+		return nil, SolveFault(r.Path, err)
 	}
 	l, err := life(r, res, target)
 	if err != nil {

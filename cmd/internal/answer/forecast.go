@@ -17,14 +17,14 @@ func (e *Env) ClassPolicy(r *Class, s optimize.Settings) (ClassAdvice, error) {
 	if r.Average {
 		res, err := optimize.SolveAverage(e.Ctx, r.Problem, &s)
 		if err != nil {
-			return ClassAdvice{}, err
+			return ClassAdvice{}, SolveFault(r.Path, err)
 		}
 		e.SafetyWarnings(r, res.Policy)
 		return ClassAdvice{Policy: res.Policy, Factor: 1, Average: res}, nil
 	}
 	res, err := optimize.Solve(e.Ctx, r.Problem, &s)
 	if err != nil {
-		return ClassAdvice{}, err
+		return ClassAdvice{}, SolveFault(r.Path, err)
 	}
 	e.SafetyWarnings(r, res.Policy)
 	return ClassAdvice{Policy: res.Policy, Factor: r.Discount.Factor(), Result: res}, nil

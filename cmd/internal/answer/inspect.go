@@ -43,7 +43,7 @@ func (e *Env) InspectionRun(c *modelfile.Class, o settings.Override, s optimize.
 	}
 	res, err := inspect.Solve(e.Ctx, p, &s)
 	if err != nil {
-		return nil, nil, nil, err
+		return nil, nil, nil, SolveFault(c.Path, err)
 	}
 	return r, p, res, nil
 }

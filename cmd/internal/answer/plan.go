@@ -99,7 +99,7 @@ func (e *Env) FleetPlan(ff *modelfile.Fleet, st settings.Fleet, d ...costs.Disco
 	}
 	p, err := fleet.Solve(e.Ctx, f, &fleet.Settings{Gap: st.Gap})
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, SolveFault(ff.Path, err)
 	}
 	return f, p, nil
 }

@@ -91,7 +91,7 @@ func (e *Env) RobustAdvice(c *modelfile.Class, r *Class, rs settings.Robust, s o
 	}
 	an, err := robust.Analyze(e.Ctx, r.Problem, sets, &s)
 	if err != nil {
-		return nil, err
+		return nil, SolveFault(c.Path, err)
 	}
 	return &reports.RobustAdvice{Header: e.Header(r.Class), Problem: r.Problem, Analysis: an, Notes: notes,
 		Warnings: e.SafetyWarnings(r, an.Robust.Policy)}, nil

@@ -1,6 +1,7 @@
 package answer
 
 import (
+	"context"
 	"errors"
 	"fixpoint/cmd/internal/modelfile"
 	"fixpoint/cmd/internal/settings"
@@ -15,14 +16,36 @@ import (
 // wraps it for presentation; a multichain model is a fault of the file.
 func (e *Env) AverageAdvice(r *Class, s optimize.Settings) (*reports.AverageAdvice, error) {
 	res, err := optimize.SolveAverage(e.Ctx, r.Problem, &s)
-	var me *optimize.MultichainError
-	if errors.As(err, &me) {
-		return nil, &modelfile.Fault{File: r.Path, Path: "criterion", Msg: strings.TrimPrefix(err.Error(), "optimize: ")}
-	}
 	if err != nil {
-		return nil, err
+		return nil, SolveFault(r.Path, err)
 	}
 	return &reports.AverageAdvice{Header: e.Header(r.Class), Problem: r.Problem, Result: res, Warnings: e.SafetyWarnings(r, res.Policy)}, nil
+}
+
+// SolveFault locates the error of a class solve in its file: a model
+// whose optimal long-run average cost depends on the start is a fault of
+// its criterion, any other problem of the model a fault of the file
+// (each of joined errors on its own). Cancellation passes unchanged.
+func SolveFault(path string, err error) error {
+	if err == nil || errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded) {
+		return err
+	}
+	if j, ok := err.(interface{ Unwrap() []error }); ok {
+		var out []error
+		for _, e := range j.Unwrap() {
+			out = append(out, SolveFault(path, e))
+		}
+		return errors.Join(out...)
+	}
+	var f *modelfile.Fault
+	if errors.As(err, &f) {
+		return err
+	}
+	var me *optimize.MultichainError
+	if errors.As(err, &me) {
+		return &modelfile.Fault{File: path, Path: "criterion", Msg: modelfile.Plain(err)}
+	}
+	return &modelfile.Fault{File: path, Msg: modelfile.Plain(err)}
 }
 
 // AverageCheck returns the exit-3 error of an average-criterion
@@ -41,38 +64,54 @@ func AverageCheck(res *optimize.AverageResult) error {
 const reportBytesPerState = 600
 
 // JointLimits are the sizes a joint solve may take: its workers (0: all
-// cores), memory and time limits, and whether a report of every joint
-// state follows (JSON, CSV).
+// cores), memory and time limits.
 type JointLimits struct {
 	Workers                int
 	MaxMemoryGiB, MaxHours float64
-	Report                 bool
+}
+
+// JointEstimate is the one estimate of a joint solve's memory and time
+// that check, solve and brief state and the size guard compares with the
+// limits: an upper bound whatever the output format, so it always counts
+// the memory of a report of every joint state (JSON, CSV).
+func JointEstimate(sf *modelfile.System, m *system.Machine, s *system.Settings) (system.Estimate, error) {
+	est, err := m.Estimate(s)
+	if err != nil {
+		return est, &modelfile.Fault{File: sf.Path, Msg: modelfile.Plain(err)}
+	}
+	est.Bytes += reportBytesPerState * est.States
+	return est, nil
+}
+
+// SizeFault is the fault of a joint model whose estimate is above the
+// limits, with the numbers and how to shrink the model; nil when it fits.
+func SizeFault(sf *modelfile.System, est system.Estimate, st JointLimits) error {
+	if est.Check(st.MaxMemoryGiB*(1<<30), st.MaxHours*3600) == nil {
+		return nil
+	}
+	var over []string
+	if est.Bytes > st.MaxMemoryGiB*(1<<30) {
+		over = append(over, fmt.Sprintf("the memory limit of %s GiB (--max-memory-gib)", reports.Money(st.MaxMemoryGiB, 0)))
+	}
+	if est.Seconds > st.MaxHours*3600 {
+		over = append(over, fmt.Sprintf("the time limit of %s hours (--max-hours)", reports.Fixed(st.MaxHours, 1)))
+	}
+	return &modelfile.Fault{File: sf.Path, Path: "components", Msg: fmt.Sprintf(
+		"the joint model is too large: %s joint states and %s joint actions need up to %s of memory and up to %s (at most %d sweeps on %d workers), over %s; "+
+			"shrink it: fewer components in one system (solve weakly coupled ones apart), coarser condition scales (merge neighbouring states), or fewer actions per component",
+		reports.Money(est.States, 0), reports.Money(est.Actions, 0), ByteSizeText(est.Bytes), DurationText(est.Seconds), est.Sweeps, est.Workers, strings.Join(over, " and "))}
 }
 
 // sizeGuard estimates memory and time of a joint solve and refuses
-// machines above the limits, with the numbers and how to shrink the model;
-// it prints the estimate before a solve that may take more than ten
-// seconds.
+// machines above the limits; it prints the estimate before a solve that
+// may take more than ten seconds.
 func (e *Env) sizeGuard(sf *modelfile.System, m *system.Machine, s *system.Settings, st JointLimits) error {
-	est, err := m.Estimate(s)
+	est, err := JointEstimate(sf, m, s)
 	if err != nil {
-		return &modelfile.Fault{File: sf.Path, Msg: modelfile.Plain(err)}
+		return err
 	}
-	if st.Report {
-		est.Bytes += reportBytesPerState * est.States
-	}
-	if err := est.Check(st.MaxMemoryGiB*(1<<30), st.MaxHours*3600); err != nil {
-		var over []string
-		if est.Bytes > st.MaxMemoryGiB*(1<<30) {
-			over = append(over, fmt.Sprintf("the memory limit of %s GiB (--max-memory-gib)", reports.Money(st.MaxMemoryGiB, 0)))
-		}
-		if est.Seconds > st.MaxHours*3600 {
-			over = append(over, fmt.Sprintf("the time limit of %s hours (--max-hours)", reports.Fixed(st.MaxHours, 1)))
-		}
-		return &modelfile.Fault{File: sf.Path, Path: "components", Msg: fmt.Sprintf(
-			"the joint model is too large: %s joint states and %s joint actions need up to %s of memory and up to %s (at most %d sweeps on %d workers), over %s; "+
-				"shrink it: fewer components in one system (solve weakly coupled ones apart), coarser condition scales (merge neighbouring states), or fewer actions per component",
-			reports.Money(est.States, 0), reports.Money(est.Actions, 0), ByteSizeText(est.Bytes), DurationText(est.Seconds), est.Sweeps, est.Workers, strings.Join(over, " and "))}
+	if err := SizeFault(sf, est, st); err != nil {
+		return err
 	}
 	if est.Seconds > 10 {
 		e.Note(fmt.Sprintf("the joint model has %s states and %s actions: up to %s of memory and up to %d sweeps, %s at most (an upper bound: real solves took 3 to 16 times fewer sweeps)",

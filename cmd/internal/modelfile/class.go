@@ -3,7 +3,10 @@ package modelfile
 import (
 	"errors"
 	"fmt"
+	"math"
 	"slices"
+	"strconv"
+	"strings"
 
 	"go.yaml.in/yaml/v3"
 
@@ -64,6 +67,11 @@ type classLocator struct {
 	// broken[a][s] marks a row with an entry that could not be decoded; its
 	// sum is not checked again.
 	broken [][]bool
+	// refused holds the state names refused as names (control or format
+	// characters, ...): a use of one is not reported again as unknown.
+	refused map[string]bool
+	// decimals[a][s] is the most decimals written in an entry of the row.
+	decimals [][]int
 }
 
 var classKeys = []string{"version", "kind", "name", "currency", "period_years", "criterion", "discount", "states", "actions", "inspection", "uncertainty"}
@@ -153,6 +161,7 @@ func (c *Class) decodeStates(d *doc, n *yaml.Node) bool {
 		if r := d.resolve(it); r.Kind == yaml.ScalarNode {
 			var good bool
 			st.Name, good = d.name(r, path)
+			c.refuse(d, r, good)
 			ok = ok && good
 			m.States = append(m.States, st)
 			continue
@@ -161,6 +170,7 @@ func (c *Class) decodeStates(d *doc, n *yaml.Node) bool {
 		if nf, has := f["name"]; has {
 			var good bool
 			st.Name, good = d.name(nf.value, path+".name")
+			c.refuse(d, nf.value, good)
 			ok = ok && good
 		} else {
 			d.fault(it, path, "missing required key \"name\"")
@@ -198,6 +208,7 @@ func (c *Class) decodeActions(d *doc, n *yaml.Node) bool {
 		c.loc.rowNode = append(c.loc.rowNode, make([]*yaml.Node, ns))
 		c.loc.entryNode = append(c.loc.entryNode, make([]map[int]*yaml.Node, ns))
 		c.loc.broken = append(c.loc.broken, make([]bool, ns))
+		c.loc.decimals = append(c.loc.decimals, make([]int, ns))
 		act := condition.Action{Rows: make([][]condition.Entry, ns)}
 		cost := make([]float64, ns)
 		f := d.mapping(it, path, []string{"name", "passive", "out_of_service", "cost", "transitions", "matrix"})
@@ -238,10 +249,44 @@ func (c *Class) decodeActions(d *doc, n *yaml.Node) bool {
 	return true
 }
 
-// stateRef resolves a state name used as a key, with a hint when unknown.
+// refuse remembers the text of a state name that was refused (good is
+// false), so that its uses are not reported again.
+func (c *Class) refuse(d *doc, n *yaml.Node, good bool) {
+	if r := d.resolve(n); !good && r.Kind == yaml.ScalarNode {
+		if c.loc.refused == nil {
+			c.loc.refused = make(map[string]bool)
+		}
+		c.loc.refused[r.Value] = true
+	}
+}
+
+// decimals counts the decimals written in a number, with its exponent:
+// "0.5555" has 4, "5.5e-3" has 4, "1" none.
+func decimals(text string) int {
+	mant, exp, _ := strings.Cut(strings.ToLower(strings.TrimSpace(text)), "e")
+	n := 0
+	if _, frac, ok := strings.Cut(mant, "."); ok {
+		n = len(frac)
+	}
+	if e, err := strconv.Atoi(exp); err == nil {
+		n -= e
+	}
+	return max(n, 0)
+}
+
+// roundedTo reports whether a row sum misses 1 by no more than rounding
+// each of k entries to dec decimals could (half a unit of the last
+// decimal each).
+func roundedTo(sum float64, k, dec int) bool {
+	return math.Abs(sum-1) <= float64(k)*0.5*math.Pow(10, -float64(dec))+condition.RowTolerance
+}
+
+// stateRef resolves a state name used as a key, with a hint when unknown;
+// a name already refused where the state is declared is not reported
+// again.
 func (c *Class) stateRef(d *doc, key *yaml.Node, path string) int {
 	s := c.Model.StateIndex(key.Value)
-	if s < 0 {
+	if s < 0 && !c.loc.refused[key.Value] {
 		d.fault(key, path, "unknown state %q%s", clip(key.Value), d.didYouMean(key.Value, c.Model.StateNames()))
 	}
 	return s
@@ -270,6 +315,7 @@ func (c *Class) decodeTransitions(d *doc, a int, n *yaml.Node, path string, rows
 				continue
 			}
 			c.loc.entryNode[a][s][t] = tf.key
+			c.loc.decimals[a][s] = max(c.loc.decimals[a][s], decimals(d.resolve(tf.value).Value))
 			row = append(row, condition.Entry{To: t, P: p})
 		}
 		rows[s] = row
@@ -309,6 +355,7 @@ func (c *Class) decodeMatrix(d *doc, a int, n *yaml.Node, path string, rows [][]
 			}
 			if ok && p != 0 {
 				c.loc.entryNode[a][s][t] = cell
+				c.loc.decimals[a][s] = max(c.loc.decimals[a][s], decimals(d.resolve(cell).Value))
 				row = append(row, condition.Entry{To: t, P: p})
 			}
 		}
@@ -381,8 +428,13 @@ func (c *Class) locate(d *doc, err error) {
 		for _, e := range row {
 			sum += e.P
 		}
-		if condition.RoundedLooking(sum, len(row)) && !d.opts.Renormalize {
-			f.Problem += "; it looks rounded to 3 decimals: --renormalize divides such rows by their sum and says which"
+		dec := l.decimals[f.Action][f.State]
+		switch {
+		case d.opts.Renormalize || !condition.RoundedLooking(sum, len(row)):
+		case roundedTo(sum, len(row), dec):
+			f.Problem += fmt.Sprintf("; it looks rounded to %d decimals: --renormalize divides such rows by their sum and says which", dec)
+		case dec > 3:
+			f.Problem += fmt.Sprintf("; its entries are written to %d decimals, and rounding them cannot miss 1 by this much: check the entries", dec)
 		}
 	}
 	node, path := l.root, c.prefix

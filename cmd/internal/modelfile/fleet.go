@@ -91,7 +91,18 @@ func (ff *Fleet) decode(l *loader, d *doc, root *yaml.Node) {
 		ff.decodeBudget(d, n)
 	}
 	if n, ok := d.required(root, top, "inventory"); ok {
-		if path, ok := ff.relative(d, n, "inventory"); ok && len(ff.Classes) == len(ff.Names) && len(ff.Classes) > 0 {
+		path, ok := ff.relative(d, n, "inventory")
+		if ok && len(ff.Classes) == 0 {
+			// No class to count its units by: say only whether it is
+			// an inventory at all.
+			data, err := l.read(path, maxInvBytes)
+			if err != nil {
+				d.add(unjoin(err)...)
+			} else if k := Sniff(data); k != InventoryFile {
+				d.add(&Fault{File: path, Msg: fmt.Sprintf("this is %s, not an inventory CSV (want a header unit,class,condition)", k.Article())})
+			}
+		}
+		if ok && len(ff.Classes) == len(ff.Names) && len(ff.Classes) > 0 {
 			ff.Inventory = path
 			data, err := l.read(path, maxInvBytes)
 			if err == nil {
@@ -107,7 +118,9 @@ func (ff *Fleet) decode(l *loader, d *doc, root *yaml.Node) {
 }
 
 // relative resolves a path given in the fleet file against the fleet
-// file's directory; absolute paths are refused.
+// file's directory. Absolute paths are refused, and so are paths that
+// leave the fleet file's directory tree, by ".." or, once symbolic links
+// are resolved, by a link: a fleet file names files of its own folder.
 func (ff *Fleet) relative(d *doc, n *yaml.Node, key string) (string, bool) {
 	rel, ok := d.str(n, key)
 	if !ok {
@@ -117,7 +130,23 @@ func (ff *Fleet) relative(d *doc, n *yaml.Node, key string) (string, bool) {
 		d.fault(n, key, "give the file's path relative to the fleet file")
 		return "", false
 	}
-	path := filepath.Join(filepath.Dir(ff.Path), rel)
+	dir := filepath.Dir(ff.Path)
+	if !filepath.IsLocal(rel) {
+		d.fault(n, key, "%q leaves the fleet file's folder: give a path inside it (the fleet file's folder or below)", clip(rel))
+		return "", false
+	}
+	path := filepath.Join(dir, rel)
+	if real, err := filepath.EvalSymlinks(path); err == nil {
+		// A missing file is reported when it is read.
+		top, err := filepath.EvalSymlinks(dir)
+		if err != nil {
+			top = dir
+		}
+		if in, err := filepath.Rel(top, real); err != nil || !filepath.IsLocal(in) {
+			d.fault(n, key, "%q leads through a symbolic link out of the fleet file's folder: give a path inside it (the fleet file's folder or below)", clip(rel))
+			return "", false
+		}
+	}
 	if same(path, ff.Path) {
 		d.fault(n, key, "the fleet file cannot name itself")
 		return "", false
@@ -195,8 +224,11 @@ func (ff *Fleet) checkClasses(d *doc, top map[string]field) {
 			continue
 		}
 		if c.Period != first.Period {
+			// Their discount factors per period differ as a consequence:
+			// not reported again.
 			d.fault(at, key, "class files %s and %s have different periods (%s and %s); the classes of a fleet share one",
 				first.Path, c.Path, first.Period, c.Period)
+			continue
 		}
 		if g, g0 := c.Discount.Factor(), first.Discount.Factor(); !c.Discount.IsZero() && !first.Discount.IsZero() && g != g0 {
 			d.fault(at, key, "class files %s and %s have different discount factors (%.6f and %.6f); a fleet shares one",

@@ -1,6 +1,8 @@
 package modelfile
 
 import (
+	"strings"
+
 	"go.yaml.in/yaml/v3"
 
 	"fixpoint/condition"
@@ -77,8 +79,33 @@ func (s *System) decode(d *doc, root *yaml.Node) {
 		} else {
 			d.fault(it, c.p("name"), "missing required key \"name\"")
 		}
+		first := len(d.faults)
 		c.decodeBody(d, it, fields)
+		c.nameFaults(d.faults[first:])
 		s.Components = append(s.Components, c)
+	}
+}
+
+// nameFaults adds the component's name to the field path of its faults:
+// "components[1].actions[0] (component brake)", or "(component brake,
+// action tape, row worn)" where the path already says more.
+func (c *Class) nameFaults(faults []error) {
+	if c.Name == "" {
+		return
+	}
+	for _, err := range faults {
+		f, ok := err.(*Fault)
+		if !ok || f.File != c.Path || (f.Path != c.prefix && !strings.HasPrefix(f.Path, c.prefix+".")) {
+			continue
+		}
+		label := "component " + c.Name
+		if strings.HasSuffix(f.Path, ")") {
+			if i := strings.LastIndex(f.Path, " ("); i >= 0 {
+				f.Path = f.Path[:i+2] + label + ", " + f.Path[i+2:]
+				continue
+			}
+		}
+		f.Path += " (" + label + ")"
 	}
 }
 

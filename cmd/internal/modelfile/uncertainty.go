@@ -223,6 +223,9 @@ func (c *Class) decodeWiden(d *doc, u *Uncertainty, n *yaml.Node, path string) {
 				continue
 			}
 			t := m.StateIndex(name)
+			if t < 0 && c.loc.refused[name] {
+				continue
+			}
 			if t < 0 {
 				d.fault(it, ip, "unknown state %q%s", clip(name), d.didYouMean(name, m.StateNames()))
 				continue

@@ -317,6 +317,9 @@ func TextProblem(s string) string {
 		return fmt.Sprintf("name %q has leading or trailing space", s)
 	case strings.IndexFunc(s, unicode.IsControl) >= 0:
 		return fmt.Sprintf("name %q contains a control character (tab, newline, escape, ...)", s)
+	case strings.IndexFunc(s, reports.Hidden) >= 0:
+		r, _ := utf8.DecodeRuneInString(s[strings.IndexFunc(s, reports.Hidden):])
+		return fmt.Sprintf("name %q contains the invisible format character U+%04X (a bidirectional control, zero-width space, soft hyphen or the like), which can make text display in another order than it is stored", s, r)
 	}
 	return ""
 }

@@ -102,11 +102,18 @@ func AddTarget(f *pflag.FlagSet) {
 	f.String("target", "", "`state` whose first passage the life figures measure (default: the worst state)")
 }
 
-// AddSystem declares --workers and --max-memory-gib.
+// The default limits of a joint solve (--max-memory-gib, --max-hours),
+// which check also applies.
+const (
+	DefaultMaxMemoryGiB = 4
+	DefaultMaxHours     = 1
+)
+
+// AddSystem declares --workers, --max-memory-gib and --max-hours.
 func AddSystem(f *pflag.FlagSet) {
 	f.String("workers", "0", "`n` goroutines for a system's joint solve; 0 = all cores")
-	f.String("max-memory-gib", "4", "refuse joint models needing more than this many `GiB` of memory")
-	f.String("max-hours", "1", "refuse joint models whose solve may take more than this many `hours` (an upper bound on the time)")
+	f.String("max-memory-gib", fmt.Sprint(DefaultMaxMemoryGiB), "refuse joint models needing more than this many `GiB` of memory")
+	f.String("max-hours", fmt.Sprint(DefaultMaxHours), "refuse joint models whose solve may take more than this many `hours` (an upper bound on the time)")
 }
 
 // Criterion reads --criterion.

@@ -5,6 +5,8 @@ import (
 	"strings"
 
 	"github.com/spf13/pflag"
+
+	"fixpoint/cmd/internal/modelfile"
 )
 
 // Fit holds the settings of fit.
@@ -58,6 +60,10 @@ func (s *Source) Fit() (st Fit, err error) {
 			name = strings.TrimSpace(name)
 			if name == "" || slices.Contains(st.States, name) {
 				err = Errorf("%s: empty or repeated name in %q", where("states"), clip(text))
+				return
+			}
+			if problem := modelfile.TextProblem(name); problem != "" {
+				err = Errorf("%s: %s", where("states"), problem)
 				return
 			}
 			st.States = append(st.States, name)

@@ -9,9 +9,11 @@ package settings
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
+	"regexp"
 	"slices"
 	"strconv"
 	"strings"
@@ -83,6 +85,9 @@ func (s *Source) readFile(path string, known []string) error {
 	if bytes.IndexByte(data, 0) >= 0 {
 		return &Error{fmt.Sprintf("%s: settings file: not a text file", path)}
 	}
+	if k := modelfile.Sniff(data); k == modelfile.RecordsFile || k == modelfile.InventoryFile {
+		return notSettings(path, k)
+	}
 	typ := strings.TrimPrefix(strings.ToLower(filepath.Ext(path)), ".")
 	switch typ {
 	case "yaml", "yml", "toml", "json":
@@ -99,11 +104,43 @@ func (s *Source) readFile(path string, known []string) error {
 	slices.Sort(keys)
 	for _, key := range keys {
 		if !slices.Contains(known, key) {
+			if k := modelfile.Sniff(data); typ != "toml" && (k == modelfile.ClassFile || k == modelfile.SystemFile || k == modelfile.FleetFile) {
+				return notSettings(path, k)
+			}
 			return &Error{fmt.Sprintf("%s: %s: unknown setting%s", path, key, modelfile.DidYouMean(key, known))}
 		}
 	}
 	s.File = path
 	return nil
+}
+
+// settingPrefix is how where names a setting at the start of a message.
+var settingPrefix = regexp.MustCompile(`^setting ([a-z][a-z-]*) \(flag --[a-z-]+ or FIXPOINT_[A-Z_]+\)`)
+
+// Locate names the settings file in a usage error about a setting whose
+// value came from it (not from its flag or FIXPOINT_ variable): "st.yaml:
+// tol (settings file): ...". Other errors are returned as they are.
+func (s *Source) Locate(err error) error {
+	var se *Error
+	if s == nil || s.File == "" || !errors.As(err, &se) {
+		return err
+	}
+	m := settingPrefix.FindStringSubmatchIndex(se.Msg)
+	if m == nil {
+		return err
+	}
+	key := se.Msg[m[2]:m[3]]
+	if _, env := os.LookupEnv("FIXPOINT_" + strings.ToUpper(strings.ReplaceAll(key, "-", "_"))); s.Changed(key) || env || !s.v.InConfig(key) {
+		return err
+	}
+	se.Msg = fmt.Sprintf("%s: %s (settings file)%s", s.File, key, se.Msg[m[1]:])
+	return err
+}
+
+// notSettings refuses a model file or CSV given as the settings file.
+func notSettings(path string, k modelfile.Kind) error {
+	return &Error{fmt.Sprintf("%s is %s, not a settings file: give it as the FILE argument of a command; "+
+		"--settings (or FIXPOINT_SETTINGS) takes a YAML, TOML or JSON file of run-time settings such as tol: 0.01", path, k.Article())}
 }
 
 // text returns the setting of key as given.
