@@ -395,9 +395,9 @@ func (b *FleetBrief) pageRates(d *doc) {
 	cur := v.Currency
 	d.pageTitle("Budget plan by discount rate")
 	d.paragraph("The plan solved again at each real discount rate, with everything else as on page 1. Bounds are proven for the problem each plan states; " +
-		"present values are at each plan's own rate. Spend marked * (bold) is in a year where the plan's policy differs from the plan at the next lower rate " +
+		"present values are at each plan's own rate. A figure marked * (bold) is in a year where the plan's policy differs from the plan at the next lower rate " +
 		"(some share of units given an action changes).")
-	t := pdfTable{header: []string{"Rate", "Lower bound (" + cur + ")", "Plan found (" + cur + ")", "Gap", "Without budget (" + cur + ")",
+	t := pdfTable{header: []string{"Rate", "Lower bound (" + cur + ")", "Plan found, present value (" + cur + ")", "Gap", "Without budget (" + cur + ")",
 		"Cost of the budget (" + cur + ")", "Problem"},
 		widths: []float64{10, 18, 18, 10, 18, 18, 18}, right: []bool{true, true, true, true, true, true, false}, keep: 1}
 	for i, p := range v.Plans {
@@ -412,29 +412,34 @@ func (b *FleetBrief) pageRates(d *doc) {
 	d.note("Lower bound and plan found: proven bounds on the least expected present cost of the fleet for the problem solved at that rate; gap: their relative difference. " +
 		"Without budget: the least cost with no budgets; cost of the budget: the plan found less that. Problem: within budget, every year's expected work spend " +
 		"within its budget; mandatory first, some year's budget cannot cover the mandatory work and that year does mandatory work only.")
-	spend := v.measures()[0]
-	s := pdfTable{header: []string{"Year", "Budget (" + cur + ")"}, widths: []float64{8, 16}, right: []bool{true, true}, keep: 2}
-	for i := range v.Plans {
-		s.header = append(s.header, v.rateLabel(i))
-		s.widths = append(s.widths, 16)
-		s.right = append(s.right, true)
-	}
-	for y, bud := range v.Fleet.Budget {
-		row, bold := []string{strconv.Itoa(y + 1), Money(bud, 0)}, []bool{false, false}
-		for i, p := range v.Plans {
-			changed := v.Changed[i] != nil && v.Changed[i][y]
-			cell := Money(spend.value(p, y), spend.decimals)
-			if changed {
-				cell = "*" + cell
-			}
-			row, bold = append(row, cell), append(bold, changed)
+	for k, m := range v.measures() {
+		s := pdfTable{header: []string{"Year", "Budget (" + cur + ")"}, widths: []float64{8, 16}, right: []bool{true, true}, keep: 2}
+		for i := range v.Plans {
+			s.header = append(s.header, v.rateLabel(i))
+			s.widths = append(s.widths, 16)
+			s.right = append(s.right, true)
 		}
-		s.rows, s.bold = append(s.rows, row), append(s.bold, bold)
+		for y, bud := range v.Fleet.Budget {
+			row, bold := []string{strconv.Itoa(y + 1), Money(bud, 0)}, []bool{false, false}
+			for i, p := range v.Plans {
+				changed := v.Changed[i] != nil && v.Changed[i][y]
+				cell := Money(m.value(p, y), m.decimals)
+				if changed {
+					cell = "*" + cell
+				}
+				row, bold = append(row, cell), append(bold, changed)
+			}
+			s.rows, s.bold = append(s.rows, row), append(s.bold, bold)
+		}
+		d.headedTable(capitalize(m.title)+" at each rate", s)
+		if k == 0 {
+			d.note("Year and budget as on the spend page; each rate's column is the expected work spend of the periods starting in that year under the plan at that rate. " +
+				"*: the plan's policy in that year differs from the plan at the rate to its left.")
+		}
 	}
-	title := "Planned work spend per calendar year at each rate (expected, " + cur + ")"
-	d.headedTable(title, s)
-	d.note("Year and budget as on the spend page; each rate's column is the expected work spend of the periods starting in that year under the plan at that rate. " +
-		"*: the plan's policy in that year differs from the plan at the rate to its left.")
+	d.note("Of which mandatory: the part of the planned spend on units in unsafe conditions. Units deferred: expected units at the start of the year that the " +
+		"unconstrained advice would work on and the plan leaves alone. Budget price: present value saved per extra " + cur + " of budget in that year, " +
+		"at that rate (0: the budget does not bind). *: as above.")
 }
 
 func (b *FleetBrief) pageBounds(d *doc) {

@@ -45,8 +45,9 @@ A fleet brief gives the problem solved with its proven bounds and what the
 budget costs on page 1; then the planned spend per calendar year against the
 budget, the deferred units and the condition mix of each class, the inspection
 calendar of classes with an inspection block, the page "Budget plan by
-discount rate" with --rates (bounds and planned spend per year at each rate,
-the years where the plan changes marked), and the files read with their
+discount rate" with --rates (bounds, present value and, per year at each
+rate, the planned spend, mandatory work, units deferred and budget price of
+plan --rates, the years where the plan changes marked), and the files read with their
 SHA-256. --budget, --gap, --years and --rate apply as for plan.
 
 The forecast charts follow --units units (default 100) starting in the best

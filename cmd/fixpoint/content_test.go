@@ -4,8 +4,11 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"strconv"
 	"strings"
 	"testing"
+
+	"fixpoint/reports"
 )
 
 // withCurrency copies a model file into a temporary directory with its
@@ -92,6 +95,60 @@ func TestMoneyMinorUnit(t *testing.T) {
 			text := pdfText(t, writeBrief(t, args[0], args[1:]...))
 			for _, f := range moneyFaults(text, code) {
 				t.Errorf("%s brief %s: %q prints money without the minor unit of %s", code, filepath.Base(args[0]), f, code)
+			}
+		}
+	}
+}
+
+// The fleet brief's rate page gives, per rate, what plan --rates gives in
+// the same words: the bounds and present value, and per calendar year the
+// planned spend, the mandatory work, the units deferred and the budget
+// price, with the years where the plan changes marked. Before, it showed
+// only the bounds and the planned spend.
+func TestFleetBriefRatePageMeasures(t *testing.T) {
+	text := pdfText(t, writeBrief(t, demoFleet, "--rates", "3%,5%,7%"))
+	flat := strings.Join(strings.Fields(text), " ")
+	var doc struct {
+		Rates []struct {
+			Years []struct {
+				Budget    float64
+				Spend     float64 `json:"planned_spend"`
+				Mandatory float64 `json:"planned_mandatory_spend"`
+				Deferred  float64 `json:"deferred_units"`
+				Price     float64 `json:"budget_price"`
+				Changed   bool
+			}
+		}
+	}
+	runJSON(t, &doc, "plan", demoFleet, "--format", "json", "--rates", "3%,5%,7%")
+	_, table, _ := runCLI(t, "plan", demoFleet, "--rates", "3%,5%,7%")
+	titles := regexp.MustCompile(`(?m)^\n?([A-Z][^\n:]*\(.*\)):$`).FindAllStringSubmatch(table, -1)
+	if len(titles) != 4 {
+		t.Fatalf("plan --rates has %d per-year tables, want 4:\n%s", len(titles), table)
+	}
+	for _, m := range titles {
+		if !strings.Contains(flat, m[1]) {
+			t.Errorf("the rate page lacks the table %q of plan --rates", m[1])
+		}
+	}
+	cells := []func(y int, r int) string{
+		func(y, r int) string { return reports.Money(doc.Rates[r].Years[y].Spend, 0) },
+		func(y, r int) string { return reports.Money(doc.Rates[r].Years[y].Mandatory, 0) },
+		func(y, r int) string { return reports.Money(doc.Rates[r].Years[y].Deferred, 1) },
+		func(y, r int) string { return reports.Money(doc.Rates[r].Years[y].Price, 3) },
+	}
+	for k, cell := range cells {
+		for y := range doc.Rates[0].Years {
+			row := strconv.Itoa(y+1) + " " + reports.Money(doc.Rates[0].Years[y].Budget, 0)
+			for r := range doc.Rates {
+				c := cell(y, r)
+				if doc.Rates[r].Years[y].Changed {
+					c = "*" + c
+				}
+				row += " " + c
+			}
+			if !strings.Contains(flat, row) {
+				t.Errorf("table %d (%s): the rate page lacks the row %q", k+1, titles[k][1], row)
 			}
 		}
 	}
