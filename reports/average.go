@@ -46,7 +46,7 @@ func (a *AverageAdvice) WriteTable(w io.Writer) error {
 			a.money(a.perYear(r.Gain)), a.Currency, a.money(r.Gain), a.Period.String(),
 			a.money(a.perYear(r.GainLower)), a.money(a.perYear(r.GainUpper)), r.Status),
 		fmt.Sprintf("Relative value: the extra total cost of starting in that condition rather than in %s (0 there).", p.States[r.Ref]),
-		fmt.Sprintf("Solver: %s, %d iterations; gain bounds min/max (Th - h) (Odoni 1969).", methodTitles[r.Method], r.Iterations),
+		fmt.Sprintf("Solver: %s, %s; gain bounds min/max (Th - h) (Odoni 1969).", methodTitles[r.Method], nouns(r.Iterations, "iteration", "iterations")),
 	}
 	for _, n := range a.notes(r.Policy, p.Actions, a.Warnings) {
 		lines = append(lines, "Note: "+n)

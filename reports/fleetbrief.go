@@ -196,7 +196,7 @@ func (b *FleetBrief) front() front {
 	case len(idle) > 0 && len(idle) <= 5:
 		note += " No work is listed for " + joinAnd(idle) + "."
 	case len(idle) > 5:
-		note += fmt.Sprintf(" No work is listed for %d of the %d classes.", len(idle), len(f.Classes))
+		note += fmt.Sprintf(" No work is listed for %d of the %s.", len(idle), nouns(len(f.Classes), "class", "classes"))
 	}
 	f0.tableNote = note
 	listed := 0
@@ -252,18 +252,18 @@ func (b *FleetBrief) keyAssumptions() []string {
 		units += sum(c.Counts)
 	}
 	short, _ := shortYears(p)
-	mand := "none here"
+	mand, within := "none here", "expected work spend stays within it."
 	if len(short) > 0 {
-		mand = "here " + yearsWord(short)
+		mand, within = "here "+yearsWord(short), "expected work spend stays within it in every year that can fund the mandatory work."
 	}
 	out := []string{
 		"Discount rate: " + r.rateWords() + "; discount factor " + Fixed(f.Discount.Factor(), 6) + " per period.",
 		"Period and horizon: " + horizonText(f, p) + ", then each unit is charged its unconstrained optimal value; costs in " + cur +
 			" at constant prices, charged at the start of each period.",
-		"Budget: " + budgetText(f.Budget, cur) + " for work, not running costs; expected work spend stays within it.",
+		"Budget: " + budgetText(f.Budget, cur) + " for work, not running costs; " + within,
 		"Mandatory work on unsafe units is always done first; a year that cannot fund it does only that (" + mand + ").",
-		fmt.Sprintf("Condition: %s units in %d classes, from the inventory; later periods are a policy with expected counts.",
-			Money(units, 0), len(f.Classes)),
+		fmt.Sprintf("Condition: %s in %s, from the inventory; later periods are a policy with expected counts.",
+			unitsOf(units), nouns(len(f.Classes), "class", "classes")),
 	}
 	if len(r.Inspections) > 0 {
 		out = append(out, "Inspections: the plan takes each unit's condition as known every period and charges no inspection cost to the budget; "+
@@ -450,9 +450,9 @@ func (b *FleetBrief) pageBounds(d *doc) {
 		d.paragraph(l)
 	}
 	d.paragraph(fmt.Sprintf("Method: the expected-count model is a linear program whose yearly budget rows couple the classes, solved by Dantzig-Wolfe column generation "+
-		"over the classes' policies (Dantzig and Wolfe, Oper. Res. 8, 1960), %d rounds in %d linear programs; the Lagrangian relaxation of the yearly budget rows "+
+		"over the classes' policies (Dantzig and Wolfe, Oper. Res. 8, 1960), %s in %s; the Lagrangian relaxation of the yearly budget rows "+
 		"gives the lower bound, and the plan found is a feasible plan of that model. Beyond the horizon each unit is charged its unconstrained optimal value.",
-		p.Iterations, p.Programs))
+		nouns(p.Iterations, "round", "rounds"), nouns(p.Programs, "linear program", "linear programs")))
 	if p.Statement.Kind == fleet.MandatoryFirst {
 		d.paragraph(fmt.Sprintf("The least excess of each short year was found year by year before the plan, each proven within %s %s.", r.moneyBound(p.Statement.ExcessGap), r.Currency))
 	}

@@ -79,8 +79,8 @@ func (f *Forecast) WriteTable(w io.Writer) error {
 		return err
 	}
 	return writeLines(w, []string{
-		fmt.Sprintf("Present value of the spend over %d periods: %s %s (discount factor %s per period, costs at the start of each period).",
-			len(f.Forecast.Periods), f.money(f.Forecast.PresentValue), f.Currency, Fixed(f.Factor, 6)),
+		fmt.Sprintf("Present value of the spend over %s: %s %s (discount factor %s per period, costs at the start of each period).",
+			periodCount(len(f.Forecast.Periods)), f.money(f.Forecast.PresentValue), f.Currency, Fixed(f.Factor, 6)),
 		"Counts are expected values (fractions of units), not a work list.",
 		"CAUTION: " + Caution,
 	})

@@ -120,8 +120,8 @@ func (s *SystemAdvice) WriteTable(w io.Writer) error {
 	disc := fmt.Sprintf("Discount factor %s per period of %s (rate %s per year)", Fixed(s.Discount.Factor(), 6), s.Period, Percent(s.Discount.RatePerYear(), 2))
 	lines = append(lines, disc+"; shutdown cost "+s.money(sys.Shutdown)+" "+s.Currency+" per period with work; down cost "+
 		s.money(sys.Down)+" "+s.Currency+" per period with a component unsafe.")
-	lines = append(lines, fmt.Sprintf("Solver: structured value iteration (Kronecker mode products), %d sweeps; proven gap %s %s (tolerance %s), Bellman residual at the estimate %s: %s.",
-		r.Sweeps, sci(r.Gap), s.Currency, sci(r.Tol), sci(r.Residual), r.Status),
+	lines = append(lines, fmt.Sprintf("Solver: structured value iteration (Kronecker mode products), %s; proven gap %s %s (tolerance %s), Bellman residual at the estimate %s: %s.",
+		nouns(r.Sweeps, "sweep", "sweeps"), sci(r.Gap), s.Currency, sci(r.Tol), sci(r.Residual), r.Status),
 		"The full joint table (every joint state, its advice, bounds and runner-up): --format csv or json.",
 		"", "CAUTION: "+Caution)
 	return writeLines(w, lines)

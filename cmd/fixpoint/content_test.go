@@ -153,3 +153,92 @@ func TestFleetBriefRatePageMeasures(t *testing.T) {
 		}
 	}
 }
+
+// agreementFaults lists "1 <plural noun>" in text ("1 classes", "1 units",
+// "1 grouping rules"): a count of one takes the singular.
+func agreementFaults(text string) []string {
+	re := regexp.MustCompile(`(^|[^\d.,])1 (grouping |further |linear )?(classes|units|rounds|programs|periods|years|iterations|sweeps|steps|rules|rows|components|replicates|transitions|degrees)\b`)
+	var out []string
+	for _, line := range strings.Split(strings.Join(strings.Fields(text), " "), ". ") {
+		if m := re.FindString(line); m != "" {
+			out = append(out, strings.TrimSpace(m)+" in "+line)
+		}
+	}
+	return out
+}
+
+// A fleet of one class says "1 class", one unit "1 unit"; the same holds
+// for every count in the texts of plan and the brief. Before, the relief
+// fleet's key assumptions said "24 units in 1 classes".
+func TestNumberNounAgreement(t *testing.T) {
+	const relief = "../../configs/relief-fleet.yaml"
+	texts := map[string]string{"brief relief-fleet": pdfText(t, writeBrief(t, relief))}
+	_, texts["plan relief-fleet"], _ = runCLI(t, "plan", relief)
+	_, texts["plan relief-fleet --years 1"], _ = runCLI(t, "plan", relief, "--years", "1")
+	texts["brief relief-fleet --years 1"] = pdfText(t, writeBrief(t, relief, "--years", "1"))
+	texts["brief pumps --units 1"] = pdfText(t, writeBrief(t, demo, "--units", "1"))
+	for name, text := range texts {
+		for _, f := range agreementFaults(text) {
+			t.Errorf("%s: %s", name, f)
+		}
+	}
+}
+
+// The relief fleet's budget cannot cover its mandatory work. Two amounts
+// over the budget differ and every sentence says which it gives, per
+// calendar year: the least possible excess (the plan that spends least in
+// that year) and the plan's expected excess (its expected work spend less
+// the budget). Before, page 1 gave the first and the warnings the second,
+// both as "exceeds its budget".
+func TestOvershootLabelled(t *testing.T) {
+	const relief = "../../configs/relief-fleet.yaml"
+	var doc struct {
+		Years []struct {
+			Budget float64
+			Least  float64 `json:"least_excess"`
+			Spend  float64 `json:"planned_spend"`
+			Rule   string
+		}
+		Warnings []string
+	}
+	runJSON(t, &doc, "plan", relief, "--format", "json", "--simulate", "0")
+	span := func(f func(i int) float64) string {
+		lo, hi := f(0), f(0)
+		for i := range doc.Years {
+			if doc.Years[i].Rule == "mandatory_only" {
+				lo, hi = min(lo, f(i)), max(hi, f(i))
+			}
+		}
+		return reports.Money(lo, 0) + " EUR to " + reports.Money(hi, 0) + " EUR a calendar year"
+	}
+	least := span(func(i int) float64 { return doc.Years[i].Least })
+	over := span(func(i int) float64 { return doc.Years[i].Spend - doc.Years[i].Budget })
+	if least == over {
+		t.Fatalf("the two excesses agree (%s); the test needs a fleet where they differ", least)
+	}
+	// Each amount is said with its label: "by X (the least possible
+	// excess)" or "the least possible excess is X"; "by Y (the plan's
+	// expected excess)".
+	wantLeast := regexp.MustCompile(regexp.QuoteMeta("by "+least+" (the least possible excess)") + "|" + regexp.QuoteMeta("the least possible excess is "+least))
+	wantOver := "exceeds the budget by " + over + " (the plan's expected excess)"
+	flat := func(s string) string { return strings.Join(strings.Fields(s), " ") }
+	pages := strings.Split(pdfText(t, writeBrief(t, relief)), "\f")
+	_, table, _ := runCLI(t, "plan", relief, "--simulate", "0")
+	if strings.Contains(flat(pages[0]), "expected work spend stays within it.") {
+		t.Error("page 1 says the expected work spend stays within the budget, in years where it does not")
+	}
+	for name, text := range map[string]string{"brief page 1": flat(pages[0]), "brief": flat(strings.Join(pages, " ")), "plan": flat(table),
+		"plan JSON warnings": strings.Join(doc.Warnings, " ")} {
+		if !wantLeast.MatchString(text) {
+			t.Errorf("%s lacks %q", name, wantLeast)
+		}
+		if !strings.Contains(text, wantOver) {
+			t.Errorf("%s lacks %q", name, wantOver)
+		}
+		for _, sentence := range strings.Split(text, ". ") {
+			if strings.Contains(sentence, "exceed") && !strings.Contains(sentence, "(the least possible excess)") && !strings.Contains(sentence, "(the plan's expected excess)") {
+				t.Errorf("%s: a sentence says an excess without saying which: %q", name, sentence)
+			}
+		}
+	}
+}
