@@ -142,19 +142,24 @@ func PlanStatement(f *fleet.Problem, p *fleet.Plan, currency string) string {
 	if len(short) == 0 {
 		return "Problem solved: " + obj + ", with each calendar year's expected work spend within its budget."
 	}
-	s := fmt.Sprintf("The budget cannot cover the mandatory work (units in unsafe conditions) in %s: "+
+	return fmt.Sprintf("The budget cannot cover the mandatory work (units in unsafe conditions) in %s: "+
 		"even the plan that spends least in such a year, keeping the earlier years to this rule, exceeds its budget %s. "+
 		"Problem solved: %s, with mandatory work first: in those years only the cheapest admissible action for every unit "+
-		"(mandatory work at least cost, no other work); in every other year the expected work spend within its budget. "+
-		"In those years the plan found exceeds the budget %s: its expected work spend less the budget.",
+		"(mandatory work at least cost, no other work; the plan found exceeds the budget %s); in every other year the expected work spend within its budget.",
 		yearsWord(short), leastExcess(p, short, currency), obj, planExcess(f, p, short, currency))
+}
+
+// excessWhy says why the plan's expected excess is above the least
+// possible one, or "" where they agree.
+func excessWhy(f *fleet.Problem, p *fleet.Plan) string {
+	short, _ := shortYears(p)
 	for _, y := range short {
 		if p.Spend[y]-f.Budget[y] > p.Statement.Excess[y]+0.5 {
-			return s + " That is more than the least possible, because the plan that spends least may choose other work " +
-				"(for example work that saves mandatory work later in the year), which this rule leaves out."
+			return "The plan's expected excess (its expected work spend less the budget) is above the least possible one because the plan that spends least " +
+				"in such a year may choose other work (for example work that saves mandatory work later in the year), which the rule leaves out."
 		}
 	}
-	return s
+	return ""
 }
 
 // PlanWarnings lists what a reader must know about a plan: years whose
@@ -196,8 +201,12 @@ func (r *PlanReport) boundLines() []string {
 	if p.Statement.Kind == fleet.MandatoryFirst {
 		what = "the budget, with mandatory work first,"
 	}
+	statement := PlanStatement(r.Fleet, p, cur)
+	if why := excessWhy(r.Fleet, p); why != "" {
+		statement += " " + why
+	}
 	lines := []string{
-		PlanStatement(r.Fleet, p, cur),
+		statement,
 		fmt.Sprintf("Proven bounds on that problem (expected-count model): lower bound %s <= optimum <= plan found %s (gap %s).",
 			amount(p.Lower, cur), amount(p.Fluid, cur), Percent(p.Gap, 3)),
 		fmt.Sprintf("Without budgets the optimum is %s: %s costs %s in present value (plan found less unconstrained optimum; at least %s).",
