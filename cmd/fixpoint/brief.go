@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"github.com/spf13/cobra"
+	"golang.org/x/text/unicode/norm"
 
 	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
@@ -149,7 +150,7 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 	write := func(w interface{ WritePDF(io.Writer) error }) error {
 		return glyphHint(path, out.Write(cmd.Context(), a.stdout, func(wr io.Writer) error { return w.WritePDF(wr) }))
 	}
-	im := reports.Imprint{Date: st.Date, PreparedFor: st.PreparedFor, PreparedBy: st.PreparedBy, Fonts: fonts}
+	im := reports.Imprint{Date: st.Date, PreparedFor: norm.NFC.String(st.PreparedFor), PreparedBy: norm.NFC.String(st.PreparedBy), Fonts: fonts}
 	switch {
 	case f.Fleet != nil:
 		if err := a.src.NotFor("a fleet file", " (they shape a class or system brief)",

@@ -242,3 +242,39 @@ func TestOvershootLabelled(t *testing.T) {
 		}
 	}
 }
+
+// Names are normalised to Unicode NFC when a model file is read: a state
+// written with a decomposed accent (e + U+0301) in the state list and
+// precomposed (U+00E9) in the transitions is one state, printed
+// precomposed. Before, the config was refused (unknown state) and a
+// decomposed name reached the PDF as a letter and a loose accent.
+func TestNamesNFC(t *testing.T) {
+	data, err := os.ReadFile("testdata/accents.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(string(data), "\n")
+	for i, l := range lines {
+		if strings.HasPrefix(l, "  - {name:") || strings.HasPrefix(l, "name:") {
+			lines[i] = strings.ReplaceAll(strings.ReplaceAll(l, "é", "e\u0301"), "è", "e\u0300")
+		}
+	}
+	if !strings.Contains(strings.Join(lines, "\n"), "e\u0301tat neuf") {
+		t.Fatal("the test config has no decomposed name")
+	}
+	path := filepath.Join(t.TempDir(), "nfd.yaml")
+	if err := os.WriteFile(path, []byte(strings.Join(lines, "\n")), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var doc struct {
+		Model  string
+		States []struct{ State string }
+	}
+	runJSON(t, &doc, "solve", path, "--format", "json")
+	if doc.States[0].State != "état neuf" || strings.Contains(doc.Model, "\u0301") {
+		t.Errorf("names not precomposed: model %q, state %q", doc.Model, doc.States[0].State)
+	}
+	if text := pdfText(t, writeBrief(t, path)); strings.Contains(text, "\u0301") || !strings.Contains(text, "état neuf") {
+		t.Error("the brief prints a decomposed accent or lacks the precomposed name")
+	}
+}
