@@ -278,3 +278,79 @@ func TestNamesNFC(t *testing.T) {
 		t.Error("the brief prints a decomposed accent or lacks the precomposed name")
 	}
 }
+
+// dejaVu is a TrueType font with Hebrew and Arabic glyphs and no CJK
+// (Debian fonts-dejavu-core).
+const dejaVu = "/usr/share/fonts/truetype/dejavu/DejaVuSans.ttf"
+
+// Right-to-left and complex-shaping scripts are refused for the PDF
+// brief whatever font is given (gofpdf neither reorders nor shapes them):
+// the error lists the characters, their script and the fields, and no
+// PDF is written. Before, a font with the glyphs printed them unshaped,
+// in the wrong order.
+func TestBriefRefusesUnshapedScripts(t *testing.T) {
+	data, err := os.ReadFile(demo)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg := strings.Replace(string(data), "name: replace", "name: \"החלפה\"", 1)
+	cfg = strings.Replace(cfg, "{name: sound,", "{name: \"سليم\",", 1)
+	cfg = strings.ReplaceAll(cfg, "sound:", "\"سليم\":")
+	cfg = regexp.MustCompile(`(?m)^name: .*$`).ReplaceAllString(cfg, `name: "पंप ग्रुप และ ปั๊ม"`)
+	path := filepath.Join(t.TempDir(), "rtl.yaml")
+	if err := os.WriteFile(path, []byte(cfg), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if code, _, stderr := runCLI(t, "solve", path); code != 0 {
+		t.Fatalf("solve: exit %d: %s", code, stderr)
+	}
+	fonts := [][]string{nil}
+	if _, err := os.Stat(dejaVu); err == nil {
+		fonts = append(fonts, []string{"--font", dejaVu})
+	}
+	for _, font := range fonts {
+		out := filepath.Join(t.TempDir(), "b.pdf")
+		code, _, stderr := runCLI(t, append([]string{"brief", path, "-o", out, "--date", "2026-12-01"}, font...)...)
+		if code != exitInput {
+			t.Fatalf("brief %v: exit %d, want %d: %s", font, code, exitInput, stderr)
+		}
+		for _, want := range []string{`actions[3].name "החלפה": "ה" (U+05D4, Hebrew)`, `states[0].name "سليم": "س" (U+0633, Arabic)`,
+			`name "पंप ग्रुप และ ปั๊ม": "प" (U+092A, Devanagari)`, `"ป" (U+0E1B, Thai)`, "whatever the font", "no --font changes this"} {
+			if !strings.Contains(stderr, want) {
+				t.Errorf("brief %v: stderr lacks %q:\n%s", font, want, stderr)
+			}
+		}
+		if _, err := os.Stat(out); err == nil {
+			t.Errorf("brief %v: a PDF was written", font)
+		}
+	}
+}
+
+// The remedy of a refused brief is one that would work: with the CJK
+// fallback font in use, it does not say to install it; with --font given
+// and CJK names it says that font lacks them and that leaving out --font
+// uses the fallback. Before, every refusal said to install
+// fonts-droid-fallback, also for characters it does not have.
+func TestGlyphHintTruthful(t *testing.T) {
+	haveCJKFont(t)
+	data, err := os.ReadFile(demo)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	hiero := filepath.Join(dir, "hiero.yaml")
+	if err := os.WriteFile(hiero, []byte(strings.Replace(string(data), "name: replace", "name: \"replace 𓀀\"", 1)), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr := runCLI(t, "brief", hiero, "-o", filepath.Join(dir, "a.pdf"))
+	if code != exitInput || strings.Contains(stderr, "install") || !strings.Contains(stderr, "DroidSansFallback") || !strings.Contains(stderr, "--font") {
+		t.Errorf("hieroglyph with the fallback font in use: exit %d, want %d, a remedy without 'install' naming the font in use and --font:\n%s", code, exitInput, stderr)
+	}
+	if _, err := os.Stat(dejaVu); err != nil {
+		t.Skipf("%s not found (Debian fonts-dejavu-core)", dejaVu)
+	}
+	code, _, stderr = runCLI(t, "brief", "testdata/hostile/cjk.yaml", "-o", filepath.Join(dir, "b.pdf"), "--font", dejaVu)
+	if code != exitInput || !strings.Contains(stderr, "DejaVuSans.ttf given with --font lacks them") || !strings.Contains(stderr, "leave out --font") {
+		t.Errorf("CJK names with --font DejaVuSans.ttf: exit %d, want %d and a remedy saying the given font lacks them:\n%s", code, exitInput, stderr)
+	}
+}
