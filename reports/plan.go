@@ -145,7 +145,7 @@ func PlanStatement(f *fleet.Problem, p *fleet.Plan, currency string) string {
 	return fmt.Sprintf("The budget cannot cover the mandatory work (units in unsafe conditions) in %s: "+
 		"even the plan that spends least in such a year, keeping the earlier years to this rule, exceeds its budget %s. "+
 		"Problem solved: %s, with mandatory work first: in those years only the cheapest admissible action for every unit "+
-		"(mandatory work at least cost, no other work; the plan found exceeds the budget %s); in every other year the expected work spend within its budget.",
+		"(mandatory work at least cost, no other work), and there the plan found exceeds the budget %s; in every other year the expected work spend within its budget.",
 		yearsWord(short), leastExcess(p, short, currency), obj, planExcess(f, p, short, currency))
 }
 
