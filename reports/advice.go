@@ -189,10 +189,10 @@ func (a *Advice) WriteTable(w io.Writer) error {
 	for s := range r.Policy {
 		runner, margin := "-", "-"
 		if r.RunnerUp[s] >= 0 {
-			runner, margin = a.Problem.Actions[r.RunnerUp[s]], Money(r.Margin[s], 2)
+			runner, margin = a.Problem.Actions[r.RunnerUp[s]], a.money(r.Margin[s])
 		}
-		rows[s] = []string{a.stateLabel(s), a.Problem.Actions[r.Policy[s]], Money(r.Value[s], 2),
-			Money(r.Lower[s], 2), Money(r.Upper[s], 2), runner, margin}
+		rows[s] = []string{a.stateLabel(s), a.Problem.Actions[r.Policy[s]], a.money(r.Value[s]),
+			a.money(r.Lower[s]), a.money(r.Upper[s]), runner, margin}
 	}
 	var b strings.Builder
 	fmt.Fprintf(&b, "%s: advice per condition (present value of expected costs, %s)\n", a.Model, cur)

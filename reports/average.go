@@ -32,9 +32,9 @@ func (a *AverageAdvice) WriteTable(w io.Writer) error {
 	for s := range r.Policy {
 		runner, margin := "-", "-"
 		if r.RunnerUp[s] >= 0 {
-			runner, margin = p.Actions[r.RunnerUp[s]], Money(r.Margin[s], 2)
+			runner, margin = p.Actions[r.RunnerUp[s]], a.money(r.Margin[s])
 		}
-		rows[s] = []string{a.stateLabel(s), p.Actions[r.Policy[s]], Money(r.Bias[s], 2), runner, margin}
+		rows[s] = []string{a.stateLabel(s), p.Actions[r.Policy[s]], a.money(r.Bias[s]), runner, margin}
 	}
 	if err := table(w, []string{"condition", "advice", "relative value (" + a.Currency + ")", "runner-up", "margin"},
 		[]bool{false, false, true, false, true}, rows); err != nil {
@@ -43,10 +43,10 @@ func (a *AverageAdvice) WriteTable(w io.Writer) error {
 	lines := []string{
 		"Thresholds: " + a.Thresholds(),
 		fmt.Sprintf("Long-run average cost: %s %s per year (%s per period of %s), proven within [%s, %s] per year: %s.",
-			Money(a.perYear(r.Gain), 2), a.Currency, Money(r.Gain, 2), a.Period.String(),
-			Money(a.perYear(r.GainLower), 2), Money(a.perYear(r.GainUpper), 2), r.Status),
+			a.money(a.perYear(r.Gain)), a.Currency, a.money(r.Gain), a.Period.String(),
+			a.money(a.perYear(r.GainLower)), a.money(a.perYear(r.GainUpper)), r.Status),
 		fmt.Sprintf("Relative value: the extra total cost of starting in that condition rather than in %s (0 there).", p.States[r.Ref]),
-		fmt.Sprintf("Solver: %s, %d iterations; gain bounds min/max (Th - h) (Odoni 1969).", methodTitles[r.Method], r.Iterations),
+		fmt.Sprintf("Solver: %s, %s; gain bounds min/max (Th - h) (Odoni 1969).", methodTitles[r.Method], nouns(r.Iterations, "iteration", "iterations")),
 	}
 	for _, n := range a.notes(r.Policy, p.Actions, a.Warnings) {
 		lines = append(lines, "Note: "+n)

@@ -459,10 +459,10 @@ func populationText(states []string, counts []float64) string {
 	}
 	for s, x := range counts {
 		if x == total {
-			return countText(total) + " units, all starting " + states[s]
+			return unitsOf(total) + ", all starting " + states[s]
 		}
 	}
-	return countText(total) + " units starting as " + joinAnd(parts)
+	return unitsOf(total) + " starting as " + joinAnd(parts)
 }
 
 // pageCharts draws the charts: below the end of page 1's table when
@@ -507,7 +507,7 @@ func (b *Brief) pageCharts(d *doc, onPage bool) {
 		}
 		mix = append(mix, series{name: name, color: colours[s], values: v})
 	}
-	d.stackedBars(marginX, d.y(), contentW, 60, "Expected condition mix of the "+countText(sum(f.Periods[0].Counts))+" units ("+mixWhen+")",
+	d.stackedBars(marginX, d.y(), contentW, 60, "Expected condition mix of the "+unitsOf(sum(f.Periods[0].Counts))+" ("+mixWhen+")",
 		"year", "units", cats, mix, func(v float64) string { return Money(v, 0) })
 	var spend []series
 	run := make([]float64, len(cols))
@@ -804,7 +804,7 @@ func (b *Brief) pageInputs(d *doc) {
 	if a := b.Average; a != nil {
 		r := a.Result
 		lines = append(lines,
-			fmt.Sprintf("Criterion: long-run average cost per period (undiscounted). Method: %s, %d iterations.", methodTitles[r.Method], r.Iterations),
+			fmt.Sprintf("Criterion: long-run average cost per period (undiscounted). Method: %s, %s.", methodTitles[r.Method], nouns(r.Iterations, "iteration", "iterations")),
 			fmt.Sprintf("Gain of the advice %s %s per period; the optimal gain g* is proven to lie in [%s, %s] (width %s %s, tolerance %s): %s. "+
 				"The bounds min(Th − h) ≤ g* ≤ max(Th − h) hold for any h (Odoni 1969; Puterman 1994, §8.5.5).",
 				Fixed(r.Gain, 6), h.Currency, Fixed(r.GainLower, 6), Fixed(r.GainUpper, 6), sci(r.GainUpper-r.GainLower), h.Currency, sci(r.Tol), r.Status))

@@ -242,6 +242,13 @@ func (d *doc) axes(x, y, w float64, c chartBox, yLabel string, minV, maxV float6
 	}
 	py := y + float64(len(c.title))*titleLH + 3
 	f := frame{x: x + axisTitleW + labelW + 2, y: py, h: c.plotH, base: base, top: top}
+	if lines {
+		// Line charts inset the range by 4% at both ends, so that a
+		// series at the lowest or highest tick (a survival of exactly
+		// 100% or 0%) runs inside the plot, not on its axis or top edge.
+		pad := 0.04 * (top - base)
+		f.base, f.top = base-pad, top+pad
+	}
 	f.w = x + w - f.x
 	p.SetDrawColor(215, 215, 215)
 	p.SetLineWidth(0.15)
@@ -315,13 +322,16 @@ func plotHeight(h float64) float64 { return math.Max(24, h-18) }
 // It returns the plotting frame.
 func (d *doc) stackedBarsWithLimit(x, y, w, h float64, title, xLabel, yLabel string, categories []string, ss []series,
 	limit []float64, limitName string, yFormat func(float64) string) frame {
-	maxV := 0.0
+	// Positive values stack up from 0 and negative ones (credits, such
+	// as salvage) down from it, below a zero line.
+	minV, maxV := 0.0, 0.0
 	for i := range categories {
-		sum := 0.0
+		up, down := 0.0, 0.0
 		for _, s := range ss {
-			sum += math.Max(0, s.values[i])
+			up += math.Max(0, s.values[i])
+			down += math.Min(0, s.values[i])
 		}
-		maxV = math.Max(maxV, sum)
+		maxV, minV = math.Max(maxV, up), math.Min(minV, down)
 		if limit != nil {
 			maxV = math.Max(maxV, limit[i])
 		}
@@ -335,7 +345,7 @@ func (d *doc) stackedBarsWithLimit(x, y, w, h float64, title, xLabel, yLabel str
 	}
 	c := d.measureChart(w, plotHeight(h), title, legend)
 	y = d.place(y, c.height())
-	f := d.axes(x, y, w, c, yLabel, 0, maxV, yFormat, false)
+	f := d.axes(x, y, w, c, yLabel, minV, maxV, yFormat, false)
 	p := d.pdf
 	slot := f.w / float64(len(categories))
 	barW := slot * 0.72
@@ -343,16 +353,25 @@ func (d *doc) stackedBarsWithLimit(x, y, w, h float64, title, xLabel, yLabel str
 	p.SetLineWidth(0.15)
 	for i := range categories {
 		centres[i] = f.x + slot*(float64(i)+0.5)
-		base := 0.0
+		up, down := 0.0, 0.0
 		for _, s := range ss {
-			v := math.Max(0, s.values[i])
-			if v == 0 {
-				continue
+			v := s.values[i]
+			switch {
+			case v > 0:
+				y0, y1 := f.yAt(up+v), f.yAt(up)
+				d.segment(centres[i]-barW/2, y0, barW, y1-y0, s)
+				up += v
+			case v < 0:
+				y0, y1 := f.yAt(down), f.yAt(down+v)
+				d.segment(centres[i]-barW/2, y0, barW, y1-y0, s)
+				down += v
 			}
-			y0, y1 := f.yAt(base+v), f.yAt(base)
-			d.segment(centres[i]-barW/2, y0, barW, y1-y0, s)
-			base += v
 		}
+	}
+	if minV < 0 {
+		p.SetDrawColor(ink.R, ink.G, ink.B)
+		p.SetLineWidth(0.3)
+		p.Line(f.x, f.yAt(0), f.x+f.w, f.yAt(0))
 	}
 	d.xLabels(f, centres, categories, xLabel)
 	if limit != nil {

@@ -82,7 +82,7 @@ func (c *Comparison) averageLine() string {
 	}
 	a := cmp.Average
 	return fmt.Sprintf("Long-run average cost (undiscounted, rate 0): %s %s per year, proven within [%s, %s] (%s).",
-		Money(c.perYear(a.Gain), 2), c.Currency, Money(c.perYear(a.GainLower), 2), Money(c.perYear(a.GainUpper), 2), a.Status)
+		c.money(c.perYear(a.Gain)), c.Currency, c.money(c.perYear(a.GainLower)), c.money(c.perYear(a.GainUpper)), a.Status)
 }
 
 // WriteTable writes the advice per rate, the present values per rate, the
@@ -117,7 +117,7 @@ func (c *Comparison) WriteTable(w io.Writer) error {
 		for s, a := range r.Policy {
 			row = append(row, c.Actions[a])
 			if r.Result != nil {
-				val = append(val, Money(r.Result.Value[s], 2))
+				val = append(val, c.money(r.Result.Value[s]))
 			} else {
 				val = append(val, "unbounded")
 			}
@@ -126,8 +126,8 @@ func (c *Comparison) WriteTable(w io.Writer) error {
 		for i, s := range r.Changed {
 			changed[i] = c.States[s]
 		}
-		rows = append(rows, append(row, Money(r.EquivalentAnnual, 2), strings.Join(changed, ", ")))
-		values = append(values, append(val, Money(r.EquivalentAnnual, 2)))
+		rows = append(rows, append(row, c.money(r.EquivalentAnnual), strings.Join(changed, ", ")))
+		values = append(values, append(val, c.money(r.EquivalentAnnual)))
 	}
 	if err := table(w, header, numeric, rows); err != nil {
 		return err

@@ -155,7 +155,7 @@ func (f *FitReport) header() []string {
 	fit := f.Fit
 	lines := []string{fmt.Sprintf("Estimated from %s by the %s method; one period = %s.", f.Source, fit.Method, Years(fit.PeriodYears))}
 	if f.Bootstrap > 0 {
-		lines = append(lines, fmt.Sprintf("%s intervals: percentile bootstrap over units, %d replicates, seed %d.", f.level(), f.Bootstrap, f.Seed))
+		lines = append(lines, fmt.Sprintf("%s intervals: percentile bootstrap over units, %s, seed %d.", f.level(), nouns(f.Bootstrap, "replicate", "replicates"), f.Seed))
 	}
 	g := fit.Fit
 	if g.Skipped != "" {
@@ -165,18 +165,15 @@ func (f *FitReport) header() []string {
 	if !math.IsNaN(g.PValue) {
 		pv = strconv.FormatFloat(g.PValue, 'g', 3, 64)
 	}
-	lines = append(lines, fmt.Sprintf("Goodness of fit: G = %s on %d degrees of freedom, p = %s (observed against predicted counts by action, condition, interval length and half of the record).",
-		Fixed(g.Statistic, 2), g.DF, pv))
+	lines = append(lines, fmt.Sprintf("Goodness of fit: G = %s on %s, p = %s (observed against predicted counts by action, condition, interval length and half of the record).",
+		Fixed(g.Statistic, 2), nouns(g.DF, "degree of freedom", "degrees of freedom"), pv))
 	return lines
 }
 
 // roughNote flags a row resting on few transitions.
 func (f *FitReport) roughNote(r *condition.RowEstimate) string {
 	if r.N < f.Rough {
-		if r.N == 1 {
-			return "ROUGH: only 1 transition"
-		}
-		return fmt.Sprintf("ROUGH: only %d transitions", r.N)
+		return "ROUGH: only " + nouns(r.N, "transition", "transitions")
 	}
 	return ""
 }

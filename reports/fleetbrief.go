@@ -196,7 +196,7 @@ func (b *FleetBrief) front() front {
 	case len(idle) > 0 && len(idle) <= 5:
 		note += " No work is listed for " + joinAnd(idle) + "."
 	case len(idle) > 5:
-		note += fmt.Sprintf(" No work is listed for %d of the %d classes.", len(idle), len(f.Classes))
+		note += fmt.Sprintf(" No work is listed for %d of the %s.", len(idle), nouns(len(f.Classes), "class", "classes"))
 	}
 	f0.tableNote = note
 	listed := 0
@@ -257,18 +257,18 @@ func (b *FleetBrief) keyAssumptions() []string {
 		units += sum(c.Counts)
 	}
 	short, _ := shortYears(p)
-	mand := "none here"
+	mand, within := "none here", "expected work spend stays within it."
 	if len(short) > 0 {
-		mand = "here " + yearsWord(short)
+		mand, within = "here "+yearsWord(short), "expected work spend stays within it in every year that can fund the mandatory work."
 	}
 	out := []string{
 		"Discount rate: " + r.rateWords() + "; discount factor " + Fixed(f.Discount.Factor(), 6) + " per period.",
 		"Period and horizon: " + horizonText(f, p) + ", then each unit is charged its unconstrained optimal value; costs in " + cur +
 			" at constant prices, charged at the start of each period.",
-		"Budget: " + budgetText(f.Budget, cur) + " for work, not running costs; expected work spend stays within it.",
+		"Budget: " + budgetText(f.Budget, cur) + " for work, not running costs; " + within,
 		"Mandatory work on unsafe units is always done first; a year that cannot fund it does only that (" + mand + ").",
-		fmt.Sprintf("Condition: %s units in %d classes, from the inventory; later periods are a policy with expected counts.",
-			Money(units, 0), len(f.Classes)),
+		fmt.Sprintf("Condition: %s in %s, from the inventory; later periods are a policy with expected counts.",
+			unitsOf(units), nouns(len(f.Classes), "class", "classes")),
 	}
 	if len(r.Inspections) > 0 {
 		out = append(out, "Inspections: the plan takes each unit's condition as known every period and charges no inspection cost to the budget; "+
@@ -401,9 +401,9 @@ func (b *FleetBrief) pageRates(d *doc) {
 	cur := v.Currency
 	d.pageTitle("Budget plan by discount rate")
 	d.paragraph("The plan solved again at each real discount rate, with everything else as on page 1. Bounds are proven for the problem each plan states; " +
-		"present values are at each plan's own rate. Spend marked * (bold) is in a year where the plan's policy differs from the plan at the next lower rate " +
+		"present values are at each plan's own rate. A figure marked * (bold) is in a year where the plan's policy differs from the plan at the next lower rate " +
 		"(some share of units given an action changes).")
-	t := pdfTable{header: []string{"Rate", "Lower bound (" + cur + ")", "Plan found (" + cur + ")", "Gap", "Without budget (" + cur + ")",
+	t := pdfTable{header: []string{"Rate", "Lower bound (" + cur + ")", "Plan found, present value (" + cur + ")", "Gap", "Without budget (" + cur + ")",
 		"Cost of the budget (" + cur + ")", "Problem"},
 		widths: []float64{10, 18, 18, 10, 18, 18, 18}, right: []bool{true, true, true, true, true, true, false}, keep: 1}
 	for i, p := range v.Plans {
@@ -418,29 +418,34 @@ func (b *FleetBrief) pageRates(d *doc) {
 	d.note("Lower bound and plan found: proven bounds on the least expected present cost of the fleet for the problem solved at that rate; gap: their relative difference. " +
 		"Without budget: the least cost with no budgets; cost of the budget: the plan found less that. Problem: within budget, every year's expected work spend " +
 		"within its budget; mandatory first, some year's budget cannot cover the mandatory work and that year does mandatory work only.")
-	spend := v.measures()[0]
-	s := pdfTable{header: []string{"Year", "Budget (" + cur + ")"}, widths: []float64{8, 16}, right: []bool{true, true}, keep: 2}
-	for i := range v.Plans {
-		s.header = append(s.header, v.rateLabel(i))
-		s.widths = append(s.widths, 16)
-		s.right = append(s.right, true)
-	}
-	for y, bud := range v.Fleet.Budget {
-		row, bold := []string{strconv.Itoa(y + 1), Money(bud, 0)}, []bool{false, false}
-		for i, p := range v.Plans {
-			changed := v.Changed[i] != nil && v.Changed[i][y]
-			cell := Money(spend.value(p, y), spend.decimals)
-			if changed {
-				cell = "*" + cell
-			}
-			row, bold = append(row, cell), append(bold, changed)
+	for k, m := range v.measures() {
+		s := pdfTable{header: []string{"Year", "Budget (" + cur + ")"}, widths: []float64{8, 16}, right: []bool{true, true}, keep: 2}
+		for i := range v.Plans {
+			s.header = append(s.header, v.rateLabel(i))
+			s.widths = append(s.widths, 16)
+			s.right = append(s.right, true)
 		}
-		s.rows, s.bold = append(s.rows, row), append(s.bold, bold)
+		for y, bud := range v.Fleet.Budget {
+			row, bold := []string{strconv.Itoa(y + 1), Money(bud, 0)}, []bool{false, false}
+			for i, p := range v.Plans {
+				changed := v.Changed[i] != nil && v.Changed[i][y]
+				cell := Money(m.value(p, y), m.decimals)
+				if changed {
+					cell = "*" + cell
+				}
+				row, bold = append(row, cell), append(bold, changed)
+			}
+			s.rows, s.bold = append(s.rows, row), append(s.bold, bold)
+		}
+		d.headedTable(capitalize(m.title)+" at each rate", s)
+		if k == 0 {
+			d.note("Year and budget as on the spend page; each rate's column is the expected work spend of the periods starting in that year under the plan at that rate. " +
+				"*: the plan's policy in that year differs from the plan at the rate to its left.")
+		}
 	}
-	title := "Planned work spend per calendar year at each rate (expected, " + cur + ")"
-	d.headedTable(title, s)
-	d.note("Year and budget as on the spend page; each rate's column is the expected work spend of the periods starting in that year under the plan at that rate. " +
-		"*: the plan's policy in that year differs from the plan at the rate to its left.")
+	d.note("Of which mandatory: the part of the planned spend on units in unsafe conditions. Units deferred: expected units at the start of the year that the " +
+		"unconstrained advice would work on and the plan leaves alone. Budget price: present value saved per extra " + cur + " of budget in that year, " +
+		"at that rate (0: the budget does not bind). *: as above.")
 }
 
 func (b *FleetBrief) pageBounds(d *doc) {
@@ -451,9 +456,9 @@ func (b *FleetBrief) pageBounds(d *doc) {
 		d.paragraph(l)
 	}
 	d.paragraph(fmt.Sprintf("Method: the expected-count model is a linear program whose yearly budget rows couple the classes, solved by Dantzig-Wolfe column generation "+
-		"over the classes' policies (Dantzig and Wolfe, Oper. Res. 8, 1960), %d rounds in %d linear programs; the Lagrangian relaxation of the yearly budget rows "+
+		"over the classes' policies (Dantzig and Wolfe, Oper. Res. 8, 1960), %s in %s; the Lagrangian relaxation of the yearly budget rows "+
 		"gives the lower bound, and the plan found is a feasible plan of that model. Beyond the horizon each unit is charged its unconstrained optimal value.",
-		p.Iterations, p.Programs))
+		nouns(p.Iterations, "round", "rounds"), nouns(p.Programs, "linear program", "linear programs")))
 	if p.Statement.Kind == fleet.MandatoryFirst {
 		d.paragraph(fmt.Sprintf("The least excess of each short year was found year by year before the plan, each proven within %s %s.", r.moneyBound(p.Statement.ExcessGap), r.Currency))
 	}

@@ -167,9 +167,75 @@ func (e *GlyphError) Error() string {
 	return "reports: no font of the brief prints these characters: " + strings.Join(parts, "; ")
 }
 
-// check returns a *GlyphError listing every field with characters that
-// no face prints, or nil.
+// unshaped are the scripts a brief refuses whatever font it has: they
+// are written right to left or need contextual shaping (joining forms,
+// reordered vowel signs, stacked consonants), and gofpdf neither reorders
+// nor shapes text, so their words would print wrong, not just blank.
+var unshaped = []struct {
+	name  string
+	table *unicode.RangeTable
+}{
+	{"Arabic", unicode.Arabic}, {"Hebrew", unicode.Hebrew}, {"Syriac", unicode.Syriac}, {"Thaana", unicode.Thaana},
+	{"NKo", unicode.Nko}, {"Samaritan", unicode.Samaritan}, {"Mandaic", unicode.Mandaic}, {"Adlam", unicode.Adlam},
+	{"Hanifi Rohingya", unicode.Hanifi_Rohingya},
+	{"Devanagari", unicode.Devanagari}, {"Bengali", unicode.Bengali}, {"Gurmukhi", unicode.Gurmukhi},
+	{"Gujarati", unicode.Gujarati}, {"Oriya", unicode.Oriya}, {"Tamil", unicode.Tamil}, {"Telugu", unicode.Telugu},
+	{"Kannada", unicode.Kannada}, {"Malayalam", unicode.Malayalam}, {"Sinhala", unicode.Sinhala},
+	{"Thai", unicode.Thai}, {"Lao", unicode.Lao}, {"Tibetan", unicode.Tibetan}, {"Myanmar", unicode.Myanmar},
+	{"Khmer", unicode.Khmer}, {"Mongolian", unicode.Mongolian}, {"Javanese", unicode.Javanese}, {"Balinese", unicode.Balinese},
+	{"bidirectional control", unicode.Bidi_Control},
+}
+
+// scriptOf names the unshaped script of r, or "".
+func scriptOf(r rune) string {
+	for _, u := range unshaped {
+		if unicode.Is(u.table, r) {
+			return u.name
+		}
+	}
+	return ""
+}
+
+// ScriptError refuses a brief with names in a script that gofpdf cannot
+// print correctly with any font (right-to-left or complex-shaping
+// scripts: Arabic, Hebrew, Devanagari, Thai, ...): it lists, per field,
+// the characters with their script.
+type ScriptError struct {
+	Faults []GlyphFault
+}
+
+func (e *ScriptError) Error() string {
+	parts := make([]string, len(e.Faults))
+	for i, f := range e.Faults {
+		chars := make([]string, len(f.Chars))
+		for k, r := range f.Chars {
+			chars[k] = fmt.Sprintf("%q (U+%04X, %s)", string(r), r, scriptOf(r))
+		}
+		parts[i] = fmt.Sprintf("%s %q: %s", f.Field, clipText(f.Text, 60), strings.Join(chars, ", "))
+	}
+	return "reports: the PDF brief cannot print right-to-left or complex-shaping scripts, whatever the font (its PDF library neither reorders nor shapes them): " +
+		strings.Join(parts, "; ")
+}
+
+// check returns a *ScriptError listing every field with characters of an
+// unshaped script, else a *GlyphError listing every field with
+// characters that no face prints, or nil.
 func (fs *fontSet) check(fields []TextField) error {
+	var se ScriptError
+	for _, f := range fields {
+		var chars []rune
+		for _, r := range f.Text {
+			if scriptOf(r) != "" && !strings.ContainsRune(string(chars), r) {
+				chars = append(chars, r)
+			}
+		}
+		if len(chars) > 0 {
+			se.Faults = append(se.Faults, GlyphFault{Field: f.Field, Text: f.Text, Chars: chars})
+		}
+	}
+	if len(se.Faults) > 0 {
+		return &se
+	}
 	var e GlyphError
 	for _, f := range fields {
 		if m := fs.missing(f.Text); len(m) > 0 {

@@ -83,7 +83,7 @@ func (f *Forecast) WriteTable(w io.Writer) error {
 	}
 	return writeLines(w, []string{
 		fmt.Sprintf("Present value of the spend over %s: %s %s (discount factor %s per period, costs at the start of each period).",
-			periodCount(len(f.Forecast.Periods)), Money(f.Forecast.PresentValue, 2), f.Currency, Fixed(f.Factor, 6)),
+			periodCount(len(f.Forecast.Periods)), f.money(f.Forecast.PresentValue), f.Currency, Fixed(f.Factor, 6)),
 		"Counts are expected values (fractions of units), not a work list.",
 		"CAUTION: " + Caution,
 	})

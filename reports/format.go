@@ -237,3 +237,21 @@ func (h *Header) moneyBound(x float64) string {
 	unit := math.Pow(10, -float64(dec))
 	return Money(math.Max(unit, math.Ceil(x/unit-1e-9)*unit), dec)
 }
+
+// nouns says a count with its noun in agreement: nouns(1, "class",
+// "classes") is "1 class", nouns(1200, "class", "classes") "1,200 classes".
+func nouns(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return Money(float64(n), 0) + " " + many
+}
+
+// unitsOf says an expected number of units (whole, or with two decimals)
+// with "unit" or "units".
+func unitsOf(x float64) string {
+	if countText(x) == "1" {
+		return "1 unit"
+	}
+	return countText(x) + " units"
+}

@@ -80,8 +80,8 @@ func (v *InspectionCalendar) WriteTable(w io.Writer) error {
 			"Unsafe found: epochs that find a unit unsafe. Action columns: how often each action is taken. Running cost: every period, seen or not; " +
 			"risk cost: periods in a hidden failure, unseen.",
 		v.adviceLine(),
-		fmt.Sprintf("Present value of the spend over %d years: %s %s (discount factor %s per period, costs at the start of each period).",
-			len(v.Calendar.Years), v.money(v.Calendar.PresentValue), v.Currency, Fixed(v.Problem.Discount, 6)),
+		fmt.Sprintf("Present value of the spend over %s: %s %s (discount factor %s per period, costs at the start of each period).",
+			nouns(len(v.Calendar.Years), "year", "years"), v.money(v.Calendar.PresentValue), v.Currency, Fixed(v.Problem.Discount, 6)),
 		"Counts are expected values (fractions of units), not a work list.",
 		"STATUTORY: " + InspectionRule,
 		LimitSentence(v.Problem),

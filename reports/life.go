@@ -103,13 +103,13 @@ func (a *Advice) lifeLines() []string {
 	if l.Stationary == nil {
 		return append(lines, "Long run: "+l.StationaryErr.Error()+"; long-run figures are left out.")
 	}
-	line := fmt.Sprintf("Long run under the advice: %s %s per year on average (undiscounted", Money(l.CostPerYear, 2), cur)
+	line := fmt.Sprintf("Long run under the advice: %s %s per year on average (undiscounted", a.money(l.CostPerYear), cur)
 	if a.periodYears() != 1 {
-		line += fmt.Sprintf("; %s per period", Money(l.CostPerPeriod, 2))
+		line += fmt.Sprintf("; %s per period", a.money(l.CostPerPeriod))
 	}
 	line += ")"
 	if eac := l.EquivalentAnnual[0]; !math.IsNaN(eac) {
-		line += fmt.Sprintf("; equivalent annual cost of a unit starting %s: %s %s per year", a.Problem.States[0], Money(eac, 2), cur)
+		line += fmt.Sprintf("; equivalent annual cost of a unit starting %s: %s %s per year", a.Problem.States[0], a.money(eac), cur)
 	}
 	lines = append(lines, line+".")
 	lines = append(lines, fmt.Sprintf("Expected share of units in unsafe states: %s.", Percent(l.UnsafeShare, 2)))

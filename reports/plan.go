@@ -102,9 +102,42 @@ func horizonText(f *fleet.Problem, p *fleet.Plan) string {
 	}
 	covered := float64(n) * p.Period.Years()
 	if math.Abs(covered-float64(len(f.Budget))) < 1e-9 {
-		return fmt.Sprintf("%d years in %d %s of %s", len(f.Budget), n, word, p.Period)
+		return fmt.Sprintf("%s in %d %s of %s", nouns(len(f.Budget), "year", "years"), n, word, p.Period)
 	}
 	return fmt.Sprintf("%d %s of %s (%s years), the periods that start within the %d budget years", n, word, p.Period, trimYear(covered), len(f.Budget))
+}
+
+// excessSpan says the smallest and largest of f over the short years as
+// an amount a calendar year: "by 762 EUR to 1,779 EUR a calendar year".
+func excessSpan(short []int, f func(y int) float64, currency string) string {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, y := range short {
+		lo, hi = min(lo, f(y)), max(hi, f(y))
+	}
+	if hi-lo > 0.5 {
+		return fmt.Sprintf("by %s to %s a calendar year", amount(lo, currency), amount(hi, currency))
+	}
+	return "by " + amount(lo, currency) + " a calendar year"
+}
+
+// Two amounts over the budget are said in a short year, each labelled
+// wherever it is printed: the least possible excess (Statement.Excess:
+// the plan that spends least in that year, the earlier years kept to the
+// rule) and the plan's expected excess (its expected work spend less the
+// budget), which is at least as large.
+const (
+	leastExcessLabel = "(the least possible excess)"
+	planExcessLabel  = "(the plan's expected excess)"
+)
+
+// leastExcess and planExcess say the two amounts over the budget of the
+// short years.
+func leastExcess(p *fleet.Plan, short []int, currency string) string {
+	return excessSpan(short, func(y int) float64 { return p.Statement.Excess[y] }, currency) + " " + leastExcessLabel
+}
+
+func planExcess(f *fleet.Problem, p *fleet.Plan, short []int, currency string) string {
+	return excessSpan(short, func(y int) float64 { return p.Spend[y] - f.Budget[y] }, currency) + " " + planExcessLabel
 }
 
 // PlanStatement says in words the problem the plan solves; every output
@@ -116,19 +149,24 @@ func PlanStatement(f *fleet.Problem, p *fleet.Plan, currency string) string {
 	if len(short) == 0 {
 		return "Problem solved: " + obj + ", with each calendar year's expected work spend within its budget."
 	}
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for _, y := range short {
-		lo, hi = min(lo, p.Statement.Excess[y]), max(hi, p.Statement.Excess[y])
-	}
-	by := "by " + amount(lo, currency)
-	if hi-lo > 0.5 {
-		by = fmt.Sprintf("by %s to %s", amount(lo, currency), amount(hi, currency))
-	}
 	return fmt.Sprintf("The budget cannot cover the mandatory work (units in unsafe conditions) in %s: "+
-		"even the plan that spends least in such a year, keeping the earlier years to this rule, exceeds its budget (%s). "+
+		"even the plan that spends least in such a year, keeping the earlier years to this rule, exceeds its budget %s. "+
 		"Problem solved: %s, with mandatory work first: in those years only the cheapest admissible action for every unit "+
-		"(mandatory work at least cost, no other work); in every other year the expected work spend within its budget.",
-		yearsWord(short), by, obj)
+		"(mandatory work at least cost, no other work), and there the plan found exceeds the budget %s; in every other year the expected work spend within its budget.",
+		yearsWord(short), leastExcess(p, short, currency), obj, planExcess(f, p, short, currency))
+}
+
+// excessWhy says why the plan's expected excess is above the least
+// possible one, or "" where they agree.
+func excessWhy(f *fleet.Problem, p *fleet.Plan) string {
+	short, _ := shortYears(p)
+	for _, y := range short {
+		if p.Spend[y]-f.Budget[y] > p.Statement.Excess[y]+0.5 {
+			return "The plan's expected excess (its expected work spend less the budget) is above the least possible one because the plan that spends least " +
+				"in such a year may choose other work (for example work that saves mandatory work later in the year), which the rule leaves out."
+		}
+	}
+	return ""
 }
 
 // PlanWarnings lists what a reader must know about a plan: years whose
@@ -140,17 +178,10 @@ func PlanWarnings(f *fleet.Problem, p *fleet.Plan, target float64, currency stri
 	var out []string
 	short, idle := shortYears(p)
 	if len(short) > 0 {
-		lo, hi := math.Inf(1), math.Inf(-1)
-		for _, y := range short {
-			over := p.Spend[y] - f.Budget[y]
-			lo, hi = min(lo, over), max(hi, over)
-		}
-		by := amount(lo, currency)
-		if hi-lo > 0.5 {
-			by += " to " + amount(hi, currency)
-		}
-		out = append(out, capitalize(fmt.Sprintf("%s: the budget cannot cover the mandatory work in unsafe conditions; only mandatory work is planned, expected to exceed the budget by %s.",
-			yearsWord(short), by)))
+		least := excessSpan(short, func(y int) float64 { return p.Statement.Excess[y] }, currency)
+		out = append(out, capitalize(fmt.Sprintf("%s: the budget cannot cover the mandatory work in unsafe conditions; only mandatory work is planned, "+
+			"and the plan exceeds the budget %s; the least possible excess is %s.",
+			yearsWord(short), planExcess(f, p, short, currency), strings.TrimPrefix(least, "by "))))
 	}
 	if wl := p.First; wl.Mandatory > wl.Limit+0.005 && !p.Statement.Short[0] {
 		out = append(out, fmt.Sprintf("Period 1: mandatory work on the inventory costs %s, above the %s the period may spend; it is done first and no other work is listed.",
@@ -161,7 +192,7 @@ func PlanWarnings(f *fleet.Problem, p *fleet.Plan, target float64, currency stri
 			yearsWord(idle), p.Period)))
 	}
 	if p.Gap > target {
-		out = append(out, fmt.Sprintf("The proven gap %s is above the target %s after %d rounds.", Percent(p.Gap, 3), Percent(target, 3), p.Iterations))
+		out = append(out, fmt.Sprintf("The proven gap %s is above the target %s after %s.", Percent(p.Gap, 3), Percent(target, 3), nouns(p.Iterations, "round", "rounds")))
 	}
 	return out
 }
@@ -177,8 +208,12 @@ func (r *PlanReport) boundLines() []string {
 	if p.Statement.Kind == fleet.MandatoryFirst {
 		what = "the budget, with mandatory work first,"
 	}
+	statement := PlanStatement(r.Fleet, p, cur)
+	if why := excessWhy(r.Fleet, p); why != "" {
+		statement += " " + why
+	}
 	lines := []string{
-		PlanStatement(r.Fleet, p, cur),
+		statement,
 		fmt.Sprintf("Proven bounds on that problem (expected-count model): lower bound %s <= optimum <= plan found %s (gap %s).",
 			amount(p.Lower, cur), amount(p.Fluid, cur), Percent(p.Gap, 3)),
 		fmt.Sprintf("Without budgets the optimum is %s: %s costs %s in present value (plan found less unconstrained optimum; at least %s).",
@@ -340,7 +375,7 @@ func (r *PlanReport) WriteTable(w io.Writer) error {
 // workListLine sums up the first period's work list.
 func (r *PlanReport) workListLine() string {
 	p, wl, cur := r.Plan, r.Plan.First, r.Currency
-	deferred := fmt.Sprintf("%d units deferred (the unconstrained advice would work on them).", wl.Deferred)
+	deferred := fmt.Sprintf("%s deferred (the unconstrained advice would work on them).", nouns(wl.Deferred, "unit", "units"))
 	if p.Statement.Short[0] {
 		return fmt.Sprintf("Work list spend %s, of which mandatory %s: year 1's budget cannot cover the mandatory work, so no other work is listed. %s",
 			amount(wl.Spend, cur), amount(wl.Mandatory, cur), deferred)

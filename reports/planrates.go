@@ -54,7 +54,7 @@ type measure struct {
 
 func (r *PlanRates) measures() []measure {
 	return []measure{
-		{"planned work spend per year (expected, " + r.Currency + ")", func(p *fleet.Plan, y int) float64 { return p.Spend[y] }, 0, "Planned spend", moneyCell},
+		{"planned work spend per calendar year (expected, " + r.Currency + ")", func(p *fleet.Plan, y int) float64 { return p.Spend[y] }, 0, "Planned spend", moneyCell},
 		{"of which mandatory (" + r.Currency + ")", func(p *fleet.Plan, y int) float64 { return p.Mandatory[y] }, 0, "Mandatory spend", moneyCell},
 		{"units deferred at the start of the year (expected)", func(p *fleet.Plan, y int) float64 { return p.YearDeferred()[y] }, 1, "Deferred units", countCell},
 		{"budget price (present value saved per extra " + r.Currency + " of budget)", func(p *fleet.Plan, y int) float64 { return p.Multipliers[y] }, 3, "Budget price", priceCell},

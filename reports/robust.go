@@ -224,7 +224,7 @@ func (r *RobustAdvice) writeSettleTable(w io.Writer) error {
 	}
 	var after []string
 	if len(gains) > settleShown {
-		after = append(after, fmt.Sprintf("%d further rows are ranked in the JSON and CSV outputs.", len(gains)-settleShown))
+		after = append(after, capitalize(nouns(len(gains)-settleShown, "further row is", "further rows are"))+" ranked in the JSON and CSV outputs.")
 	}
 	return writeLines(w, after)
 }
@@ -492,7 +492,7 @@ func (r *RobustAdvice) Page() RobustPage {
 				"Worst case falls by: the largest fall of the worst-case cost over conditions, in the condition under most in. " +
 				"Advice would change in: the conditions whose robust advice would change, and to what."}
 		if n := len(a.Settle) - settleShown; n > 0 {
-			pg.Settle.Note += fmt.Sprintf(" %d further rows are ranked in the JSON and CSV outputs of solve.", n)
+			pg.Settle.Note += " " + capitalize(nouns(n, "further row is", "further rows are")) + " ranked in the JSON and CSV outputs of solve."
 		}
 	}
 	pg.Closing = append(r.solverLines(), r.notes()...)

@@ -42,11 +42,11 @@ func (s *Sensitivity) change(state, action int) string {
 	return fmt.Sprintf("%s: %s -> %s", p.States[state], p.Actions[s.Result.Policy[state]], p.Actions[action])
 }
 
-func limitText(x float64) string {
+func (s *Sensitivity) limitText(x float64) string {
 	if math.IsInf(x, 0) {
 		return "no limit"
 	}
-	return Money(x, 2)
+	return s.money(x)
 }
 
 // WriteTable writes the margins of every non-advised action, then the
@@ -55,7 +55,7 @@ func (s *Sensitivity) WriteTable(w io.Writer) error {
 	fmt.Fprintf(w, "%s: how much costs must change before the advice changes (%s)\n", s.Model, s.Currency)
 	var rows [][]string
 	for _, m := range s.margins() {
-		rows = append(rows, []string{m.State, m.Advice, m.Action, Money(m.Margin, 2)})
+		rows = append(rows, []string{m.State, m.Advice, m.Action, s.money(m.Margin)})
 	}
 	if err := table(w, []string{"condition", "advice", "alternative", "margin"}, []bool{false, false, false, true}, rows); err != nil {
 		return err
@@ -64,7 +64,7 @@ func (s *Sensitivity) WriteTable(w io.Writer) error {
 	rows = nil
 	for _, f := range s.Figures {
 		lo, hi := f.Value+f.Range.Lower, f.Value+f.Range.Upper
-		rows = append(rows, []string{f.Name, Money(f.Value, 2), limitText(lo), limitText(hi),
+		rows = append(rows, []string{f.Name, s.money(f.Value), s.limitText(lo), s.limitText(hi),
 			s.change(f.Range.LowerState, f.Range.LowerAction), s.change(f.Range.UpperState, f.Range.UpperAction)})
 	}
 	if err := table(w, []string{"cost figure", "now", "advice holds from", "up to", "first change below", "first change above"},

@@ -112,20 +112,20 @@ func (s *SystemAdvice) WriteTable(w io.Writer) error {
 	}
 	best := sys.StateName(0)
 	lines = append(lines, fmt.Sprintf("Expected cost of a machine starting as new (%s): %s %s present value, proven within [%s, %s].",
-		best, Money(r.Value[0], 2), s.Currency, Money(r.Lower[0], 2), Money(r.Upper[0], 2)))
+		best, s.money(r.Value[0]), s.Currency, s.money(r.Lower[0]), s.money(r.Upper[0])))
 	if pv, py := s.saving(); !math.IsNaN(pv) {
 		line := fmt.Sprintf("Planning the components separately (each with the shutdown charged alone) costs %s %s: joint planning saves %s %s present value",
-			Money(s.Separate.Value[0], 2), s.Currency, Money(pv, 2), s.Currency)
+			s.money(s.Separate.Value[0]), s.Currency, s.money(pv), s.Currency)
 		if !math.IsNaN(py) {
-			line += fmt.Sprintf(", %s %s per year", Money(py, 2), s.Currency)
+			line += fmt.Sprintf(", %s %s per year", s.money(py), s.Currency)
 		}
 		lines = append(lines, line+".")
 	}
 	disc := fmt.Sprintf("Discount factor %s per period of %s (rate %s per year)", Fixed(s.Discount.Factor(), 6), s.Period, Percent(s.Discount.RatePerYear(), 2))
-	lines = append(lines, disc+"; shutdown cost "+Money(sys.Shutdown, 2)+" "+s.Currency+" per period with work; down cost "+
-		Money(sys.Down, 2)+" "+s.Currency+" per period with a component unsafe.")
-	lines = append(lines, fmt.Sprintf("Solver: structured value iteration (Kronecker mode products), %d sweeps; proven gap %s %s (tolerance %s), Bellman residual at the estimate %s: %s.",
-		r.Sweeps, sci(r.Gap), s.Currency, sci(r.Tol), sci(r.Residual), r.Status),
+	lines = append(lines, disc+"; shutdown cost "+s.money(sys.Shutdown)+" "+s.Currency+" per period with work; down cost "+
+		s.money(sys.Down)+" "+s.Currency+" per period with a component unsafe.")
+	lines = append(lines, fmt.Sprintf("Solver: structured value iteration (Kronecker mode products), %s; proven gap %s %s (tolerance %s), Bellman residual at the estimate %s: %s.",
+		nouns(r.Sweeps, "sweep", "sweeps"), sci(r.Gap), s.Currency, sci(r.Tol), sci(r.Residual), r.Status),
 		"The full joint table (every joint state, its advice, bounds and runner-up): --format csv or json.")
 	for _, n := range s.Notes {
 		lines = append(lines, "Note: "+n)

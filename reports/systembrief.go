@@ -68,7 +68,7 @@ func (b *SystemBrief) front() front {
 	rec += fmt.Sprintf(". The advice is planned jointly over all %s combinations of their conditions.", Money(n, 0))
 	groups := s.GroupSentences()
 	if len(groups) > 0 {
-		rec += fmt.Sprintf(" Besides each component's own rule, %d grouping rules bring work forward when the machine is stopped anyway.", len(groups))
+		rec += fmt.Sprintf(" Besides each component's own rule, %s work forward when the machine is stopped anyway.", nouns(len(groups), "grouping rule brings", "grouping rules bring"))
 	} else {
 		rec += " The shared shutdown brings no work forward in the cases summarised: each component follows its own rule."
 	}
@@ -117,14 +117,14 @@ func (b *SystemBrief) pageInputs(d *doc) {
 	d.setY(d.y() + 7)
 	d.heading("Solver certificate", 30)
 	n, acts := sys.Size()
-	d.paragraph(fmt.Sprintf("Method: structured value iteration over %s joint states and %s joint actions (Kronecker mode products, no joint matrix formed), %d sweeps; "+
-		"Bellman residual at the estimate %s %s.", Money(n, 0), Money(acts, 0), r.Sweeps, sci(r.Residual), s.Currency))
+	d.paragraph(fmt.Sprintf("Method: structured value iteration over %s joint states and %s joint actions (Kronecker mode products, no joint matrix formed), %s; "+
+		"Bellman residual at the estimate %s %s.", Money(n, 0), Money(acts, 0), nouns(r.Sweeps, "sweep", "sweeps"), sci(r.Residual), s.Currency))
 	d.paragraph(fmt.Sprintf("Proven gap: %s %s (tolerance %s): %s. By the contraction bounds Tv + γ/(1−γ)·min(Tv − v) ≤ v* ≤ Tv + γ/(1−γ)·max(Tv − v) "+
 		"(MacQueen 1966; Puterman 1994, §6.6.3), no joint policy can beat the advice by more than the gap from any combination of conditions.",
 		sci(r.Gap), s.Currency, sci(r.Tol), r.Status))
 	if s.Separate != nil {
 		d.paragraph(fmt.Sprintf("Separate planning: each component's policy solved alone with the shutdown charged to it, then evaluated in the joint model "+
-			"(%d sweeps; value from all as new within [%s, %s] %s).", s.Separate.Sweeps, s.money(s.Separate.Lower[0]), s.money(s.Separate.Upper[0]), s.Currency))
+			"(%s; value from all as new within [%s, %s] %s).", nouns(s.Separate.Sweeps, "sweep", "sweeps"), s.money(s.Separate.Lower[0]), s.money(s.Separate.Upper[0]), s.Currency))
 	}
 	for i, c := range sys.Components {
 		d.need(60)

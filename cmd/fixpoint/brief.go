@@ -6,8 +6,10 @@ import (
 	"os"
 	"strings"
 	"time"
+	"unicode"
 
 	"github.com/spf13/cobra"
+	"golang.org/x/text/unicode/norm"
 
 	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
@@ -45,8 +47,9 @@ A fleet brief gives the problem solved with its proven bounds and what the
 budget costs on page 1; then the planned spend per calendar year against the
 budget, the deferred units and the condition mix of each class, the inspection
 calendar of classes with an inspection block, the page "Budget plan by
-discount rate" with --rates (bounds and planned spend per year at each rate,
-the years where the plan changes marked), and the files read with their
+discount rate" with --rates (bounds, present value and, per year at each
+rate, the planned spend, mandatory work, units deferred and budget price of
+plan --rates, the years where the plan changes marked), and the files read with their
 SHA-256. --budget, --gap, --years and --rate apply as for plan.
 
 The forecast charts follow --units units (default 100) starting in the best
@@ -58,7 +61,9 @@ Names in Chinese, Japanese or Korean need a font with those characters: by
 default the Droid Sans Fallback font of the Debian package
 fonts-droid-fallback, or any TrueType file given with --font. A name with a
 character no font prints is refused (exit 1), listing the characters and
-where they are.`,
+where they are. Names in right-to-left or complex-shaping scripts (Arabic,
+Hebrew, Devanagari, Thai, ...) are refused whatever the font: the PDF library
+neither reorders nor shapes them.`,
 		Example: `  fixpoint brief configs/pumps.yaml -o pumps-brief.pdf
   fixpoint brief configs/pumps.yaml -o brief.pdf --rates 2%,4%,6% --date 2026-12-01
   fixpoint brief configs/pumps.yaml -o brief.pdf --prepared-for "Asset board" --prepared-by "R. Example"
@@ -118,14 +123,45 @@ func (a *app) fonts(path string) ([]reports.Font, error) {
 	return nil, nil
 }
 
-// glyphHint adds to a refused brief what to install or give.
-func glyphHint(path string, err error) error {
+// glyphHint adds to a refused brief a remedy that would work: for
+// characters no font prints, the font package that covers Chinese,
+// Japanese and Korean only where those are missing and it is not already
+// in use, else a TrueType font given with --font, or renaming; for
+// right-to-left and complex-shaping scripts, renaming (no font helps).
+// fonts is the fallback in use (nil: none found), given whether it came
+// from --font.
+func glyphHint(path string, fonts []reports.Font, given bool, err error) error {
+	var se *reports.ScriptError
+	if errors.As(err, &se) {
+		return &modelfile.Fault{File: path, Msg: strings.TrimPrefix(se.Error(), "reports: ") +
+			"; no --font changes this: write these names in a script printed left to right without shaping (Latin, Greek, Cyrillic, Chinese, Japanese, Korean) " +
+			"for the brief, or use the table, CSV, JSON or xlsx outputs of solve, compare and plan, which carry the names as text"}
+	}
 	var ge *reports.GlyphError
 	if !errors.As(err, &ge) {
 		return err
 	}
-	return &modelfile.Fault{File: path, Msg: strings.TrimPrefix(ge.Error(), "reports: ") +
-		"; install the Debian package fonts-droid-fallback (Chinese, Japanese, Korean) or give a TrueType font that has them with --font"}
+	cjk := false
+	for _, f := range ge.Faults {
+		for _, r := range f.Chars {
+			cjk = cjk || unicode.In(r, unicode.Han, unicode.Hiragana, unicode.Katakana, unicode.Hangul) || (r >= 0x3000 && r <= 0x303F) || (r >= 0xFF00 && r <= 0xFFEF)
+		}
+	}
+	var hint string
+	switch {
+	case len(fonts) > 0 && given:
+		hint = "the font " + fonts[0].Name + " given with --font lacks them (it replaces the default fallback): give a TrueType font (.ttf) with outlines for them with --font"
+		if cjk {
+			hint += ", or leave out --font to use the Droid Sans Fallback font of the Debian package fonts-droid-fallback, which covers Chinese, Japanese and Korean"
+		}
+	case len(fonts) > 0:
+		hint = "neither the built-in Go fonts nor " + fonts[0].Name + " (Debian package fonts-droid-fallback) has them: give a TrueType font (.ttf) with outlines for them with --font"
+	case cjk:
+		hint = "install the Debian package fonts-droid-fallback (its Droid Sans Fallback font covers Chinese, Japanese and Korean) or give a TrueType font (.ttf) that has them with --font"
+	default:
+		hint = "the Debian package fonts-droid-fallback covers only Chinese, Japanese and Korean, not these: give a TrueType font (.ttf) with outlines for them with --font"
+	}
+	return &modelfile.Fault{File: path, Msg: strings.TrimPrefix(ge.Error(), "reports: ") + "; " + hint + ", or rename the fields"}
 }
 
 func (a *app) brief(cmd *cobra.Command, path string) error {
@@ -146,9 +182,9 @@ func (a *app) brief(cmd *cobra.Command, path string) error {
 		return err
 	}
 	write := func(w interface{ WritePDF(io.Writer) error }) error {
-		return glyphHint(path, out.Write(cmd.Context(), a.stdout, func(wr io.Writer) error { return w.WritePDF(wr) }))
+		return glyphHint(path, fonts, st.Font != "", out.Write(cmd.Context(), a.stdout, func(wr io.Writer) error { return w.WritePDF(wr) }))
 	}
-	im := reports.Imprint{Date: st.Date, PreparedFor: st.PreparedFor, PreparedBy: st.PreparedBy, Fonts: fonts, Layout: a.layout}
+	im := reports.Imprint{Date: st.Date, PreparedFor: norm.NFC.String(st.PreparedFor), PreparedBy: norm.NFC.String(st.PreparedBy), Fonts: fonts, Layout: a.layout}
 	switch {
 	case f.Fleet != nil:
 		if err := a.src.NotFor("a fleet file", " (they shape a class or system brief)",

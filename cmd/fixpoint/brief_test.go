@@ -266,7 +266,7 @@ func TestFleetBrief(t *testing.T) {
 	runJSON(t, &rates, "plan", demoFleet, "--format", "json", "--rates", "3%,5%,7%")
 	rest := flat(strings.Join(pages[1:], " "))
 	for _, w := range []string{"Planned work spend per calendar year against the budget (EUR; expected, by class)", "Spend and budget per calendar year",
-		"Budget plan by discount rate", "Planned work spend per calendar year at each rate", "Files", "fleet file: east-zone.yaml",
+		"Budget plan by discount rate", "Planned work spend per calendar year (expected, EUR) at each rate", "Files", "fleet file: east-zone.yaml",
 		"class config: pumps.yaml", "inventory: east-zone-inventory.csv"} {
 		if !strings.Contains(rest, w) {
 			t.Errorf("later pages lack %q", w)

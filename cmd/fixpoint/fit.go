@@ -10,6 +10,7 @@ import (
 	"strings"
 
 	"github.com/spf13/cobra"
+	"golang.org/x/text/unicode/norm"
 
 	"fixpoint/cmd/internal/answer"
 	"fixpoint/cmd/internal/modelfile"
@@ -102,7 +103,8 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		return &modelfile.Fault{File: path, Msg: modelfile.OpenProblem(err)}
 	}
 	defer fh.Close()
-	recs, warn, err := condition.ReadRecords(io.LimitReader(fh, maxRecordBytes), states)
+	// Condition names in the records are compared in NFC, as the config's.
+	recs, warn, err := condition.ReadRecords(norm.NFC.Reader(io.LimitReader(fh, maxRecordBytes)), states)
 	if err != nil {
 		return &modelfile.Fault{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: records: ")}
 	}

@@ -12,6 +12,7 @@ import (
 	"strings"
 
 	"go.yaml.in/yaml/v3"
+	"golang.org/x/text/unicode/norm"
 
 	"fixpoint/optimize/fleet"
 )
@@ -108,7 +109,7 @@ func (ff *Fleet) decode(l *loader, d *doc, root *yaml.Node) {
 			if err == nil {
 				sum := sha256.Sum256(data)
 				ff.InventorySHA256 = hex.EncodeToString(sum[:])
-				err = ff.decodeInventory(d.ctx, path, data)
+				err = ff.decodeInventory(d.ctx, path, norm.NFC.Bytes(data))
 			}
 			if err != nil {
 				d.add(unjoin(err)...)

@@ -15,6 +15,7 @@ import (
 	"unicode/utf8"
 
 	"go.yaml.in/yaml/v3"
+	"golang.org/x/text/unicode/norm"
 )
 
 // MaxFileBytes bounds a YAML model file.
@@ -163,7 +164,10 @@ func (l *loader) file(path string, data []byte, want Kind) (*File, error) {
 		f.Inputs = l.inputs
 		return f, nil
 	}
-	d, root, err := parseYAML(l.ctx, path, data, l.opts, &l.notes, &l.warnings)
+	// Names are compared and printed in Unicode NFC (precomposed), so
+	// that "e" + U+0301 and U+00E9 are one name; the digest is of the
+	// bytes as read.
+	d, root, err := parseYAML(l.ctx, path, norm.NFC.Bytes(data), l.opts, &l.notes, &l.warnings)
 	if err != nil {
 		if looksLikeModel(data) {
 			return nil, err
