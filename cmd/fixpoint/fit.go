@@ -100,12 +100,18 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 		return &modelfile.Fault{File: path, Msg: modelfile.OpenProblem(err)}
 	}
 	defer fh.Close()
-	recs, warn, err := condition.ReadRecords(io.LimitReader(fh, maxRecordBytes), states)
+	recs, warn, err := condition.ReadRecordsContext(cmd.Context(), io.LimitReader(fh, maxRecordBytes), states)
+	if errors.Is(err, context.Canceled) {
+		return err
+	}
 	if err != nil {
 		return &modelfile.Fault{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: records: ")}
 	}
-	panel, actions, pw := condition.BuildPanel(recs, condition.PanelOptions{Actions: actions, Passive: passive,
+	panel, actions, pw, err := condition.BuildPanelContext(cmd.Context(), recs, condition.PanelOptions{Actions: actions, Passive: passive,
 		NewActions: c == nil, ImprovementIsError: st.ImprovementIsError || opts.Structure != condition.AnyChange})
+	if err != nil {
+		return err
+	}
 	warn = append(warn, pw...)
 	opts.Actions = actions
 	if st.Estimator == "auto" {

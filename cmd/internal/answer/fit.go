@@ -59,7 +59,10 @@ func FitOptions(st settings.Fit, states []string, period float64, passive int) c
 // and says in one line what it holds, for check; its data problems go to
 // warn. A file with no usable record is a fault listing them.
 func RecordsCheck(ctx context.Context, path string, r io.Reader, warn func(string)) (string, error) {
-	sv, ws, err := condition.SurveyRecords(r)
+	sv, ws, err := condition.SurveyRecordsContext(ctx, r)
+	if errors.Is(err, context.Canceled) {
+		return "", err
+	}
 	if err != nil {
 		return "", &modelfile.Fault{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: records: ")}
 	}
