@@ -162,6 +162,9 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 			return err
 		}
 		fmt.Fprintf(a.stderr, "fixpoint: wrote the merged config %s\n", st.Output.Path)
+		// The merged config is in place: the run has finished, and an
+		// interrupt no longer stops the report (exit 130 means no output).
+		return a.target(out).Write(context.WithoutCancel(cmd.Context()), a.stdout, render)
 	}
 	return a.target(out).Write(cmd.Context(), a.stdout, render)
 }
