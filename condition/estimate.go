@@ -177,7 +177,12 @@ func Estimate(ctx context.Context, p *Panel, o FitOptions) (*Fit, error) {
 		var log problemLog
 		far := &problemKind{many: fmt.Sprintf("%%d intervals are more than %.0f%%%% away from one period (%.0f days) and are left out of the counting estimate",
 			100*RegularTolerance, o.PeriodYears*DaysPerYear)}
-		for _, t := range p.Transitions {
+		for i, t := range p.Transitions {
+			if i%checkEvery == 0 {
+				if err := ctx.Err(); err != nil {
+					return nil, err
+				}
+			}
 			if !regular(t.Days, o.PeriodYears) {
 				log.add(far, t.Line, fmt.Sprintf("interval of %d days is more than %.0f%% away from one period (%.0f days); left out of the counting estimate",
 					t.Days, 100*RegularTolerance, o.PeriodYears*DaysPerYear), fmt.Sprintf("(%d days)", t.Days))
@@ -191,7 +196,7 @@ func Estimate(ctx context.Context, p *Panel, o FitOptions) (*Fit, error) {
 		return nil, &InsufficientDataError{Msg: "no usable transitions", Warnings: f.Warnings}
 	}
 	est := newEstimator(o, used)
-	base, err := est.fit(used.Transitions, nil)
+	base, err := est.fit(ctx, used.Transitions, nil)
 	var short *InsufficientDataError
 	if errors.As(err, &short) {
 		short.Warnings = f.Warnings
@@ -252,7 +257,9 @@ func Estimate(ctx context.Context, p *Panel, o FitOptions) (*Fit, error) {
 			}
 		}
 	}
-	f.Fit = est.goodness(used.Transitions, base)
+	if f.Fit, err = est.goodness(ctx, used.Transitions, base); err != nil {
+		return nil, err
+	}
 	return f, nil
 }
 
@@ -313,8 +320,13 @@ func newEstimator(o FitOptions, p *Panel) *estimator {
 }
 
 // fit estimates a model from ts, starting the generator search at warm
-// when not nil.
-func (e *estimator) fit(ts []Transition, warm *model) (*model, error) {
+// when not nil. It returns ctx.Err() once ctx is done (checked before the
+// fit, at every iteration of the generator search and of the EM for the
+// effects of work).
+func (e *estimator) fit(ctx context.Context, ts []Transition, warm *model) (*model, error) {
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	n := e.o.States
 	m := &model{p: make([][][]float64, len(e.o.Actions))}
 	counts := e.counts(ts)
@@ -343,7 +355,7 @@ func (e *estimator) fit(ts []Transition, warm *model) (*model, error) {
 			passive = append(passive, t)
 		}
 	}
-	theta, err := e.fitGenerator(passive, counts, warm)
+	theta, err := e.fitGenerator(ctx, passive, counts, warm)
 	if err != nil {
 		return nil, err
 	}
@@ -361,7 +373,9 @@ func (e *estimator) fit(ts []Transition, warm *model) (*model, error) {
 			}
 			continue
 		}
-		m.effect[a] = e.fitEffect(ts, a, m.q)
+		if m.effect[a], err = e.fitEffect(ctx, ts, a, m.q); err != nil {
+			return nil, err
+		}
 		for s := range n {
 			if m.effect[a][s] == nil {
 				continue

@@ -40,7 +40,7 @@ func (e *estimator) bootstrap(ctx context.Context, f *Fit, base *model) error {
 				for range byUnit {
 					ts = append(ts, byUnit[rng.IntN(len(byUnit))]...)
 				}
-				reps[b], errs[b] = e.fit(ts, base)
+				reps[b], errs[b] = e.fit(ctx, ts, base)
 			}
 		}()
 	}

@@ -1,6 +1,7 @@
 package condition
 
 import (
+	"context"
 	"math"
 
 	"gonum.org/v1/gonum/mat"
@@ -10,7 +11,8 @@ import (
 // from-state, a distribution of the condition just after the work) by EM
 // on the mixture P(j | i, t) = Σ_k A(i,k) exp(Q t)(k, j) (Dempster, Laird
 // & Rubin 1977).
-func (e *estimator) fitEffect(ts []Transition, a int, q [][]float64) [][]float64 {
+// It returns ctx.Err() once ctx is done, checked at every EM iteration.
+func (e *estimator) fitEffect(ctx context.Context, ts []Transition, a int, q [][]float64) ([][]float64, error) {
 	n := e.o.States
 	type obs struct{ from, to, days int }
 	var data []obs
@@ -20,7 +22,7 @@ func (e *estimator) fitEffect(ts []Transition, a int, q [][]float64) [][]float64
 		}
 	}
 	if len(data) == 0 {
-		return make([][]float64, n)
+		return make([][]float64, n), nil
 	}
 	mats := make(map[int]*mat.Dense)
 	for _, o := range data {
@@ -39,6 +41,9 @@ func (e *estimator) fitEffect(ts []Transition, a int, q [][]float64) [][]float64
 	}
 	next := make([][]float64, n)
 	for iter := 0; iter < 500; iter++ {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		for i := range next {
 			next[i] = nil
 			if eff[i] != nil {
@@ -75,5 +80,5 @@ func (e *estimator) fitEffect(ts []Transition, a int, q [][]float64) [][]float64
 			break
 		}
 	}
-	return eff
+	return eff, nil
 }

@@ -1,6 +1,7 @@
 package condition
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -57,7 +58,7 @@ const (
 )
 
 // fitGenerator maximises the panel likelihood over the log-rates.
-func (e *estimator) fitGenerator(passive []Transition, counts [][][]int, warm *model) ([]float64, error) {
+func (e *estimator) fitGenerator(ctx context.Context, passive []Transition, counts [][][]int, warm *model) ([]float64, error) {
 	if len(passive) == 0 {
 		return nil, &InsufficientDataError{Msg: "no intervals without recorded work, so no passive generator can be fitted"}
 	}
@@ -93,7 +94,11 @@ func (e *estimator) fitGenerator(passive []Transition, counts [][][]int, warm *m
 		Converger:         &optimize.FunctionConverge{Absolute: 1e-10 * nObs, Relative: 1e-12, Iterations: 3},
 		MajorIterations:   500,
 		FuncEvaluations:   5000,
+		Recorder:          ctxRecorder{ctx},
 	}, &optimize.BFGS{})
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	if res == nil {
 		return nil, fmt.Errorf("condition: estimate: generator fit failed: %v", err)
 	}
@@ -104,6 +109,15 @@ func (e *estimator) fitGenerator(passive []Transition, counts [][][]int, warm *m
 		return nil, fmt.Errorf("condition: estimate: generator fit: %w", err)
 	}
 	return res.X, nil
+}
+
+// ctxRecorder stops the generator search with ctx.Err() once ctx is done:
+// gonum's Minimize asks its Recorder at every evaluation and iteration.
+type ctxRecorder struct{ ctx context.Context }
+
+func (r ctxRecorder) Init() error { return r.ctx.Err() }
+func (r ctxRecorder) Record(*optimize.Location, optimize.Operation, *optimize.Stats) error {
+	return r.ctx.Err()
 }
 
 // negLogLik returns -log L(θ) + ridge penalty and, when grad is not nil,

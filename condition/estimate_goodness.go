@@ -1,6 +1,7 @@
 package condition
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"slices"
@@ -9,11 +10,13 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
-// goodness computes the G test of the model on the transitions.
-func (e *estimator) goodness(ts []Transition, m *model) GoodnessOfFit {
+// goodness computes the G test of the model on the transitions; it
+// returns ctx.Err() once ctx is done (checked every checkEvery
+// transitions).
+func (e *estimator) goodness(ctx context.Context, ts []Transition, m *model) (GoodnessOfFit, error) {
 	n := e.o.States
 	if len(ts) == 0 {
-		return GoodnessOfFit{Statistic: math.NaN(), PValue: math.NaN(), Skipped: "not tested: no transitions"}
+		return GoodnessOfFit{Statistic: math.NaN(), PValue: math.NaN(), Skipped: "not tested: no transitions"}, nil
 	}
 	ends := make([]int, len(ts))
 	for i, t := range ts {
@@ -25,7 +28,12 @@ func (e *estimator) goodness(ts []Transition, m *model) GoodnessOfFit {
 	obs := make(map[key][]float64)
 	exp := make(map[key][]float64)
 	probs := make(map[int]*mat.Dense)
-	for _, t := range ts {
+	for i, t := range ts {
+		if i%checkEvery == 0 {
+			if err := ctx.Err(); err != nil {
+				return GoodnessOfFit{}, err
+			}
+		}
 		k := key{t.Action, t.From, int(math.Round(4 * float64(t.Days) / DaysPerYear / e.o.PeriodYears)), 0}
 		if t.End > mid {
 			k.half = 1
@@ -68,12 +76,12 @@ func (e *estimator) goodness(ts []Transition, m *model) GoodnessOfFit {
 	params := e.params(m)
 	if df <= params {
 		return GoodnessOfFit{Statistic: math.NaN(), PValue: math.NaN(),
-			Skipped: fmt.Sprintf("not tested: the grouped counts have %d degrees of freedom and the model %d free parameters, which leaves none for a test; more records are needed", df, params)}
+			Skipped: fmt.Sprintf("not tested: the grouped counts have %d degrees of freedom and the model %d free parameters, which leaves none for a test; more records are needed", df, params)}, nil
 	}
 	df -= params
 	out := GoodnessOfFit{Statistic: max(g, 0), DF: df}
 	out.PValue = distuv.ChiSquared{K: float64(df)}.Survival(out.Statistic)
-	return out
+	return out, nil
 }
 
 // predict returns the model's distribution of the condition at the end of

@@ -1,6 +1,7 @@
 package condition
 
 import (
+	"context"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -46,9 +47,19 @@ const MaxRecords = 2_000_000
 // "did you mean" hint. A missing header or column, or more than MaxRecords
 // records, is an error.
 func ReadRecords(r io.Reader, states []string) ([]Record, []Warning, error) {
-	recs, _, warn, err := readRecords(r, states, MaxRecords, false)
+	return ReadRecordsContext(context.Background(), r, states)
+}
+
+// ReadRecordsContext is ReadRecords that checks ctx every checkEvery
+// records and returns ctx.Err() once it is done.
+func ReadRecordsContext(ctx context.Context, r io.Reader, states []string) ([]Record, []Warning, error) {
+	recs, _, warn, err := readRecords(ctx, r, states, MaxRecords, false)
 	return recs, warn, err
 }
+
+// checkEvery is how many records or transitions the readers and
+// estimators handle between checks of their context.
+const checkEvery = 4096
 
 // RecordSurvey describes a records file read without a condition scale:
 // the conditions and work it names, in order of first appearance, its
@@ -67,7 +78,13 @@ type RecordSurvey struct {
 // a file holds before it is fitted against a class config. Records with
 // no unit or a bad date are reported as warnings and left out.
 func SurveyRecords(r io.Reader) (*RecordSurvey, []Warning, error) {
-	recs, conds, warn, err := readRecords(r, nil, MaxRecords, true)
+	return SurveyRecordsContext(context.Background(), r)
+}
+
+// SurveyRecordsContext is SurveyRecords that checks ctx every checkEvery
+// records and returns ctx.Err() once it is done.
+func SurveyRecordsContext(ctx context.Context, r io.Reader) (*RecordSurvey, []Warning, error) {
+	recs, conds, warn, err := readRecords(ctx, r, nil, MaxRecords, true)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -94,7 +111,7 @@ func SurveyRecords(r io.Reader) (*RecordSurvey, []Warning, error) {
 // readRecords reads records against states; with open, a condition not in
 // states is appended to them instead of being left out. It returns the
 // states it ends with.
-func readRecords(r io.Reader, states []string, limit int, open bool) ([]Record, []string, []Warning, error) {
+func readRecords(ctx context.Context, r io.Reader, states []string, limit int, open bool) ([]Record, []string, []Warning, error) {
 	states = slices.Clone(states)
 	cr := csv.NewReader(r)
 	cr.FieldsPerRecord = -1
@@ -142,7 +159,12 @@ func readRecords(r io.Reader, states []string, limit int, open bool) ([]Record, 
 		}
 		return ""
 	}
-	for {
+	for n := 0; ; n++ {
+		if n%checkEvery == 0 {
+			if err := ctx.Err(); err != nil {
+				return nil, nil, nil, err
+			}
+		}
 		rec, err := cr.Read()
 		if errors.Is(err, io.EOF) {
 			break
@@ -260,10 +282,22 @@ type PanelOptions struct {
 // kind summarised as in ReadRecords. It returns the panel and the action
 // names (extended when NewActions).
 func BuildPanel(records []Record, opts PanelOptions) (*Panel, []string, []Warning) {
+	p, actions, warn, _ := BuildPanelContext(context.Background(), records, opts)
+	return p, actions, warn
+}
+
+// BuildPanelContext is BuildPanel that checks ctx every checkEvery
+// records and returns ctx.Err() once it is done.
+func BuildPanelContext(ctx context.Context, records []Record, opts PanelOptions) (*Panel, []string, []Warning, error) {
 	actions := slices.Clone(opts.Actions)
 	byUnit := make(map[string][]Record)
 	var order []string
-	for _, r := range records {
+	for i, r := range records {
+		if i%checkEvery == 0 {
+			if err := ctx.Err(); err != nil {
+				return nil, nil, nil, err
+			}
+		}
 		if _, ok := byUnit[r.Unit]; !ok {
 			order = append(order, r.Unit)
 		}
@@ -277,8 +311,16 @@ func BuildPanel(records []Record, opts PanelOptions) (*Panel, []string, []Warnin
 	unknownWork := &problemKind{many: "%d intervals have unknown work and are left out"}
 	var improved []string
 	improvements, firstLines := 0, []int{}
+	seen, check := 0, 0 // records of the units handled so far; when to check ctx next
 	for _, unit := range order {
 		recs := byUnit[unit]
+		if seen >= check {
+			if err := ctx.Err(); err != nil {
+				return nil, nil, nil, err
+			}
+			check = seen + checkEvery
+		}
+		seen += len(recs)
 		for i := 1; i < len(recs); i++ {
 			if recs[i].Day < recs[i-1].Day {
 				log.add(outOfOrder, recs[i].Line,
@@ -361,7 +403,7 @@ func BuildPanel(records []Record, opts PanelOptions) (*Panel, []string, []Warnin
 			improvements, len(improved), nameList(improved), strings.Join(lines, ", "), ellipsis(improvements > 10), what)})
 	}
 	slices.SortStableFunc(warn, func(a, b Warning) int { return a.Line - b.Line })
-	return p, actions, warn
+	return p, actions, warn, nil
 }
 
 func ellipsis(more bool) string {

@@ -1,6 +1,7 @@
 package condition
 
 import (
+	"context"
 	"fmt"
 	"slices"
 	"strconv"
@@ -94,7 +95,7 @@ func TestBuildPanelReportsProblems(t *testing.T) {
 
 func TestReadRecordsLimit(t *testing.T) {
 	in := "unit,date,condition\n" + strings.Repeat("a,2020-01-01,good\n", 11)
-	if _, _, _, err := readRecords(strings.NewReader(in), scale3, 10, false); err == nil || !strings.Contains(err.Error(), "more than 10 records; split the file") {
+	if _, _, _, err := readRecords(context.Background(), strings.NewReader(in), scale3, 10, false); err == nil || !strings.Contains(err.Error(), "more than 10 records; split the file") {
 		t.Errorf("err = %v", err)
 	}
 }

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"fmt"
 	"io"
 	"os"
@@ -152,11 +153,15 @@ is an invented placeholder. init never overwrites a file.`,
 					return usagef("%s exists; init never overwrites a file", f.Path)
 				}
 			}
+			ctx := cmd.Context()
 			for _, f := range files {
-				if err := (outfile.Target{Path: f.Path}).WriteBytes(cmd.Context(), f.Data); err != nil {
+				if err := (outfile.Target{Path: f.Path}).WriteBytes(ctx, f.Data); err != nil {
 					return err
 				}
 				fmt.Fprintf(a.stdout, "wrote %s\n", f.Path)
+				// Once one file is in place the rest follow: an interrupt
+				// (exit 130: no output) must not leave a partial set.
+				ctx = context.WithoutCancel(ctx)
 			}
 			next := "check " + path
 			if kind == "records" {

@@ -68,6 +68,8 @@
 //	2    usage: unknown command or flag, bad flag or setting value, an output path refused
 //	3    the answer was written but is not certified to the tolerance
 //	130  interrupted (SIGINT or SIGTERM); no output file is left behind
+//	     (a signal once an output is in place is ignored: the run has
+//	     finished and ends with its own code)
 //
 // check exits as solve would with the default settings: 1 for a system
 // above the default --max-memory-gib or --max-hours and for a criterion:

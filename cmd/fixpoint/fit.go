@@ -104,12 +104,18 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 	}
 	defer fh.Close()
 	// Condition names in the records are compared in NFC, as the config's.
-	recs, warn, err := condition.ReadRecords(norm.NFC.Reader(io.LimitReader(fh, maxRecordBytes)), states)
+	recs, warn, err := condition.ReadRecordsContext(cmd.Context(), norm.NFC.Reader(io.LimitReader(fh, maxRecordBytes)), states)
+	if errors.Is(err, context.Canceled) {
+		return err
+	}
 	if err != nil {
 		return &modelfile.Fault{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: records: ")}
 	}
-	panel, actions, pw := condition.BuildPanel(recs, condition.PanelOptions{Actions: actions, Passive: passive,
+	panel, actions, pw, err := condition.BuildPanelContext(cmd.Context(), recs, condition.PanelOptions{Actions: actions, Passive: passive,
 		NewActions: c == nil, ImprovementIsError: st.ImprovementIsError || opts.Structure != condition.AnyChange})
+	if err != nil {
+		return err
+	}
 	warn = append(warn, pw...)
 	if c == nil {
 		// Action names taken from the records reach every output.
@@ -168,6 +174,9 @@ func (a *app) fit(cmd *cobra.Command, path string) error {
 			return err
 		}
 		fmt.Fprintf(a.stderr, "fixpoint: wrote the merged config %s\n", st.Output.Path)
+		// The merged config is in place: the run has finished, and an
+		// interrupt no longer stops the report (exit 130 means no output).
+		return a.target(out).Write(context.WithoutCancel(cmd.Context()), a.stdout, render)
 	}
 	return a.target(out).Write(cmd.Context(), a.stdout, render)
 }

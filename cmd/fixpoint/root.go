@@ -47,9 +47,20 @@ type app struct {
 	layout *reports.Layout
 }
 
+// finished catches SIGINT and SIGTERM from the start of the first run
+// until the process exits, and is never read. The stop of
+// signal.NotifyContext restores their default action, which kills the
+// process with status 130: a signal in the moment between a run's end (its
+// output committed) and os.Exit would report an interrupt although the
+// output is complete. With this channel registered the signal is caught
+// and the run's own exit code stands (README, exit codes).
+var finished = make(chan os.Signal, 1)
+
 // run builds a fresh command tree, runs it on args and returns the exit
-// code. It prints errors once, to stderr.
+// code. It prints errors once, to stderr. SIGINT and SIGTERM cancel the
+// command's context; once the command has returned they change nothing.
 func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	signal.Notify(finished, os.Interrupt, syscall.SIGTERM)
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
 	return (&app{stdin: stdin, stdout: stdout, stderr: stderr}).run(ctx, args)

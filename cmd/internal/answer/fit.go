@@ -13,6 +13,8 @@ import (
 	"fixpoint/cmd/internal/settings"
 	"fixpoint/condition"
 	"fixpoint/reports"
+
+	"golang.org/x/text/unicode/norm"
 )
 
 // EstimateError reports a failed estimate; when the records could not
@@ -59,7 +61,10 @@ func FitOptions(st settings.Fit, states []string, period float64, passive int) c
 // and says in one line what it holds, for check; its data problems go to
 // warn. A file with no usable record is a fault listing them.
 func RecordsCheck(ctx context.Context, path string, r io.Reader, warn func(string)) (string, error) {
-	sv, ws, err := condition.SurveyRecords(r)
+	sv, ws, err := condition.SurveyRecordsContext(ctx, norm.NFC.Reader(r)) // names in NFC, as fit reads them
+	if errors.Is(err, context.Canceled) {
+		return "", err
+	}
 	if err != nil {
 		return "", &modelfile.Fault{File: path, Msg: strings.TrimPrefix(err.Error(), "condition: records: ")}
 	}

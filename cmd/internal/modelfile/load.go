@@ -133,7 +133,43 @@ type tooBigError struct {
 }
 
 // read reads a file of at most limit bytes and records it as an input.
+// The open and the read run in a goroutine, and read returns ctx.Err() as
+// soon as ctx is done: an input that blocks (a FIFO with no writer, a
+// process substitution that writes late) must not hold off an interrupt.
+// An abandoned read ends when its input does, or with the process.
 func (l *loader) read(path string, limit int64) ([]byte, error) {
+	if err := l.ctx.Err(); err != nil {
+		return nil, err
+	}
+	type result struct {
+		data []byte
+		err  error
+	}
+	done := make(chan result, 1) // buffered: an abandoned read does not block
+	go func() {
+		data, err := readFile(path, limit)
+		done <- result{data, err}
+	}()
+	var r result
+	select {
+	case r = <-done:
+	case <-l.ctx.Done():
+		return nil, l.ctx.Err()
+	}
+	if r.err != nil {
+		var tooBig *tooBigError
+		if !errors.As(r.err, &tooBig) {
+			return nil, r.err
+		}
+	}
+	if abs, err := filepath.Abs(path); err == nil && !slices.Contains(l.inputs, abs) {
+		l.inputs = append(l.inputs, abs)
+	}
+	return r.data, r.err
+}
+
+// readFile reads the file at path, at most limit bytes.
+func readFile(path string, limit int64) ([]byte, error) {
 	fh, err := os.Open(path)
 	if err != nil {
 		return nil, &Fault{File: path, Msg: OpenProblem(err)}
@@ -141,9 +177,6 @@ func (l *loader) read(path string, limit int64) ([]byte, error) {
 	defer fh.Close()
 	if info, err := fh.Stat(); err == nil && info.IsDir() {
 		return nil, &Fault{File: path, Msg: "is a directory, not a file"}
-	}
-	if abs, err := filepath.Abs(path); err == nil && !slices.Contains(l.inputs, abs) {
-		l.inputs = append(l.inputs, abs)
 	}
 	data, err := io.ReadAll(io.LimitReader(fh, limit+1))
 	if err != nil {
@@ -169,6 +202,9 @@ func (l *loader) file(path string, data []byte, want Kind) (*File, error) {
 	// bytes as read.
 	d, root, err := parseYAML(l.ctx, path, norm.NFC.Bytes(data), l.opts, &l.notes, &l.warnings)
 	if err != nil {
+		if cerr := l.ctx.Err(); cerr != nil {
+			return nil, cerr
+		}
 		if looksLikeModel(data) {
 			return nil, err
 		}

@@ -84,15 +84,33 @@ func (d *doc) cancelled() bool { return d.ctx.Err() != nil }
 
 var yamlLine = regexp.MustCompile(`^yaml: line (\d+): (.*)$`)
 
+// ctxReader reads from r until ctx is done, then fails with ctx.Err():
+// the YAML parser reads its input a few hundred bytes at a time, so
+// parsing a large file stops soon after an interrupt.
+type ctxReader struct {
+	ctx context.Context
+	r   io.Reader
+}
+
+func (c ctxReader) Read(p []byte) (int, error) {
+	if err := c.ctx.Err(); err != nil {
+		return 0, err
+	}
+	return c.r.Read(p)
+}
+
 // parseYAML parses one YAML document from data.
 func parseYAML(ctx context.Context, file string, data []byte, opts Options, notes, warnings *[]string) (*doc, *yaml.Node, error) {
 	var root yaml.Node
-	dec := yaml.NewDecoder(bytes.NewReader(data))
+	dec := yaml.NewDecoder(ctxReader{ctx, bytes.NewReader(data)})
 	if err := dec.Decode(&root); err != nil {
+		if ctx.Err() != nil {
+			return nil, nil, ctx.Err()
+		}
 		if errors.Is(err, io.EOF) {
 			return nil, nil, &Fault{File: file, Msg: "file is empty"}
 		}
-		return nil, nil, syntaxError(file, data, err)
+		return nil, nil, syntaxError(ctx, file, data, err)
 	}
 	var extra yaml.Node
 	if err := dec.Decode(&extra); err == nil {
@@ -110,6 +128,7 @@ func parseYAML(ctx context.Context, file string, data []byte, opts Options, note
 // parser read, which is where it found the problem (plus a token of
 // lookahead).
 type byteReader struct {
+	ctx  context.Context
 	data []byte
 	off  int
 }
@@ -117,6 +136,11 @@ type byteReader struct {
 func (r *byteReader) Read(p []byte) (int, error) {
 	if r.off >= len(r.data) {
 		return 0, io.EOF
+	}
+	if r.off%4096 == 0 {
+		if err := r.ctx.Err(); err != nil {
+			return 0, err
+		}
 	}
 	if len(p) == 0 {
 		return 0, nil
@@ -130,7 +154,7 @@ func (r *byteReader) Read(p []byte) (int, error) {
 // where the enclosing block or flow collection starts (counted from 0 for
 // parser errors); the problem itself is where the parser stopped reading,
 // found by parsing again one byte at a time.
-func syntaxError(file string, data []byte, err error) error {
+func syntaxError(ctx context.Context, file string, data []byte, err error) error {
 	msg := strings.TrimPrefix(err.Error(), "yaml: ")
 	context := 0
 	if m := yamlLine.FindStringSubmatch(err.Error()); m != nil {
@@ -141,9 +165,12 @@ func syntaxError(file string, data []byte, err error) error {
 	if parserError && context > 0 {
 		context++ // the parser's context line counts from 0
 	}
-	r := &byteReader{data: data}
+	r := &byteReader{ctx: ctx, data: data}
 	var n yaml.Node
 	_ = yaml.NewDecoder(r).Decode(&n)
+	if err := ctx.Err(); err != nil {
+		return err
+	}
 	read := bytes.TrimRight(data[:r.off], " \t\r\n")
 	line := bytes.Count(read, []byte("\n")) + 1
 	if !parserError && context > 0 {

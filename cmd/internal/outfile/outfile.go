@@ -81,6 +81,8 @@ func (t Target) Check() error {
 		return nil
 	case info.IsDir():
 		return &Error{fmt.Sprintf("output %s is a directory", t.Path)}
+	case info.Mode()&fs.ModeSocket != 0:
+		return &Error{fmt.Sprintf("output %s is a socket, which fixpoint cannot open; leave out -o to write to standard output", t.Path)}
 	case !info.Mode().IsRegular():
 		return nil // a device or a pipe: written to, never replaced
 	case !t.Force:
@@ -90,13 +92,23 @@ func (t Target) Check() error {
 }
 
 // resolve follows symbolic links to the file that would be written and
-// returns its path and information (nil when it does not exist).
+// returns its path and information (nil when it does not exist). A /proc
+// magic link (/dev/stdout or /proc/self/fd/N to a pipe, "pipe:[…]") names
+// no path, but the kernel opens it: such a target that is not a regular
+// file is returned as named, to be written directly.
 func (t Target) resolve() (string, fs.FileInfo, error) {
 	real := t.Path
 	if r, err := filepath.EvalSymlinks(t.Path); err == nil {
 		real = r
 	} else if _, lerr := os.Lstat(t.Path); lerr == nil {
-		return "", nil, &Error{fmt.Sprintf("output %s is a broken symbolic link", t.Path)}
+		info, serr := os.Stat(t.Path)
+		switch {
+		case serr != nil:
+			return "", nil, &Error{fmt.Sprintf("output %s is a broken symbolic link", t.Path)}
+		case info.Mode().IsRegular() || info.IsDir():
+			return "", nil, &Error{fmt.Sprintf("output %s is a link to a file with no path to write it through (a deleted file?); name the file itself", t.Path)}
+		}
+		return t.Path, info, nil
 	}
 	info, err := os.Stat(real)
 	if errors.Is(err, fs.ErrNotExist) {

@@ -3,9 +3,11 @@ package outfile
 import (
 	"context"
 	"errors"
+	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"syscall"
 	"testing"
@@ -64,6 +66,58 @@ func TestDevice(t *testing.T) {
 		if err != nil || info.Mode()&fs.ModeDevice == 0 {
 			t.Fatalf("/dev/null is no longer a device: %v %v", info.Mode(), err)
 		}
+	}
+}
+
+// /dev/stdout on a pipe is a /proc magic link whose target, "pipe:[…]",
+// is no path (it was refused as a broken symbolic link): the pipe is
+// written directly, with or without Force, and stays a pipe. A socket,
+// which cannot be opened by its /proc link, is refused in words.
+func TestMagicLinks(t *testing.T) {
+	if _, err := os.Stat("/proc/self/fd"); err != nil {
+		t.Skip("no /proc/self/fd")
+	}
+	for _, force := range []bool{false, true} {
+		r, w, err := os.Pipe()
+		if err != nil {
+			t.Fatal(err)
+		}
+		path := "/proc/self/fd/" + strconv.Itoa(int(w.Fd()))
+		got := make(chan string, 1)
+		go func() {
+			b, _ := io.ReadAll(r)
+			got <- string(b)
+		}()
+		tg := Target{Path: path, Force: force}
+		if err := tg.Check(); err != nil {
+			t.Fatalf("Check(%s, force %v): %v", path, force, err)
+		}
+		if err := tg.Write(context.Background(), nil, func(wr io.Writer) error {
+			_, err := io.WriteString(wr, "advice\n")
+			return err
+		}); err != nil {
+			t.Fatalf("Write(%s, force %v): %v", path, force, err)
+		}
+		if info, err := os.Stat(path); err != nil || info.Mode()&fs.ModeNamedPipe == 0 {
+			t.Errorf("%s is no longer a pipe: %v", path, err)
+		}
+		w.Close()
+		if s := <-got; s != "advice\n" {
+			t.Errorf("the pipe read %q, want %q", s, "advice\n")
+		}
+		r.Close()
+	}
+	fds, err := syscall.Socketpair(syscall.AF_UNIX, syscall.SOCK_STREAM, 0)
+	if err != nil {
+		t.Skipf("socketpair: %v", err)
+	}
+	defer syscall.Close(fds[0])
+	defer syscall.Close(fds[1])
+	path := "/proc/self/fd/" + strconv.Itoa(fds[0])
+	err = write(t, Target{Path: path, Force: true}, "x")
+	var oe *Error
+	if !errors.As(err, &oe) || !strings.Contains(err.Error(), "is a socket") {
+		t.Errorf("write to a socket's /proc link: err = %v, want an *Error saying it is a socket", err)
 	}
 }
 

@@ -22,7 +22,9 @@
 // Work. One pivot costs O(m·(n+m)) for m rows and n columns; the number of
 // pivots is capped (Settings.MaxPivots). Reaching the cap in phase 2 is a
 // status (PivotLimit) with the last feasible basic solution; reaching it in
-// phase 1 is the error ErrPivotLimit. ctx is checked before every pivot.
+// phase 1 is the error ErrPivotLimit. ctx is checked before every pivot
+// (of the crash basis, both phases and the drive-out of artificials) and
+// every rowCheck rows while the tableau is built.
 package simplex
 
 import (
@@ -114,9 +116,20 @@ func Solve(ctx context.Context, c []float64, a [][]float64, b []float64, s *Sett
 	if set.MaxPivots <= 0 {
 		set.MaxPivots = DefaultMaxPivots(m, n)
 	}
-	t := newTableau(c, a, b)
-	if set.Basis != nil && !t.crash(set.Basis) {
-		t = newTableau(c, a, b)
+	t, err := newTableau(ctx, c, a, b)
+	if err != nil {
+		return nil, err
+	}
+	if set.Basis != nil {
+		ok, err := t.crash(ctx, set.Basis)
+		if err != nil {
+			return nil, err
+		}
+		if !ok {
+			if t, err = newTableau(ctx, c, a, b); err != nil {
+				return nil, err
+			}
+		}
 	}
 	limit := set.MaxPivots
 	if !t.feasibleStart {
@@ -167,13 +180,21 @@ type tableau struct {
 	feasibleStart bool
 }
 
-func newTableau(c []float64, a [][]float64, b []float64) *tableau {
+// rowCheck is how many rows newTableau builds between checks of ctx.
+const rowCheck = 64
+
+func newTableau(ctx context.Context, c []float64, a [][]float64, b []float64) (*tableau, error) {
 	m, n := len(a), len(c)
 	w := n + m + 1
 	tb := &tableau{m: m, n: n, t: make([][]float64, m+1), basis: make([]int, m), c: c,
 		rowScale: make([]float64, m), sign: make([]float64, m)}
 	scale := 1.0
 	for i, row := range a {
+		if i%rowCheck == 0 {
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+		}
 		big := 0.0
 		for _, v := range row {
 			big = max(big, math.Abs(v))
@@ -201,20 +222,24 @@ func newTableau(c []float64, a [][]float64, b []float64) *tableau {
 	tb.t[m] = make([]float64, w)
 	tb.tol = 1e-11 * scale
 	tb.costTol = 1e-11 * max(1, maxAbs(c))
-	return tb
+	return tb, nil
 }
 
 // crash pivots the given columns into the basis, one per row (the row
 // whose artificial is basic with the largest entry of the column), and
-// reports whether the result is a full, feasible basis.
-func (tb *tableau) crash(cols []int) bool {
+// reports whether the result is a full, feasible basis. Each pivot costs
+// O(m·(n+m)), so ctx is checked before every one.
+func (tb *tableau) crash(ctx context.Context, cols []int) (bool, error) {
 	if len(cols) != tb.m {
-		return false
+		return false, nil
 	}
 	w := len(tb.t[0])
 	for _, j := range cols {
+		if err := ctx.Err(); err != nil {
+			return false, err
+		}
 		if j < 0 || j >= tb.n {
-			return false
+			return false, nil
 		}
 		row, big := -1, tb.tol
 		for i, bi := range tb.basis {
@@ -223,18 +248,18 @@ func (tb *tableau) crash(cols []int) bool {
 			}
 		}
 		if row < 0 {
-			return false
+			return false, nil
 		}
 		tb.pivot(row, j)
 	}
 	for i := range tb.m {
 		if tb.t[i][w-1] < -1e-9*max(1, tb.bScale) {
-			return false
+			return false, nil
 		}
 		tb.t[i][w-1] = max(0, tb.t[i][w-1])
 	}
 	tb.feasibleStart = true
-	return true
+	return true, nil
 }
 
 // phase1 minimises the sum of the artificials, then drives artificials
@@ -264,6 +289,9 @@ func (tb *tableau) phase1(ctx context.Context, limit int) (Status, error) {
 	for i, bi := range tb.basis {
 		if bi < n {
 			continue
+		}
+		if err := ctx.Err(); err != nil {
+			return Optimal, err
 		}
 		for j := range n {
 			if math.Abs(tb.t[i][j]) > tb.tol {

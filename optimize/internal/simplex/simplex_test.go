@@ -158,3 +158,79 @@ func TestSolveCancelled(t *testing.T) {
 		t.Errorf("Solve(cancelled): err = %v, want context.Canceled", err)
 	}
 }
+
+// countdown is a context that reports context.Canceled from the after-th
+// call of Err on and counts the calls, so that a test can cancel at a
+// counted check instead of after a wall-clock time.
+type countdown struct {
+	context.Context
+	after, calls int
+}
+
+func (c *countdown) Err() error {
+	c.calls++
+	if c.calls >= c.after {
+		return context.Canceled
+	}
+	return nil
+}
+
+// occupationLP is the occupation-measure LP of a random discounted MDP
+// (Puterman 1994, §6.9): one row per state, one column per (state,
+// action); the columns of action 0 form a feasible starting basis.
+func occupationLP(states, actions int, seed uint64) (c []float64, a [][]float64, b []float64, basis []int) {
+	rng := rand.New(rand.NewPCG(seed, seed+1))
+	a = make([][]float64, states)
+	for i := range a {
+		a[i] = make([]float64, states*actions)
+	}
+	b = make([]float64, states)
+	for s := range states {
+		b[s] = 1 / float64(states)
+		basis = append(basis, s*actions)
+		for k := range actions {
+			col := s*actions + k
+			c = append(c, rng.Float64()*10+float64(k))
+			a[s][col] += 1
+			p := make([]float64, states)
+			tot := 0.0
+			for j := range p {
+				p[j] = rng.Float64()
+				tot += p[j]
+			}
+			for j := range p {
+				a[j][col] -= 0.9 * p[j] / tot
+			}
+		}
+	}
+	return c, a, b, basis
+}
+
+// The crash of a starting basis makes one dense pivot per row and the
+// tableau is built row by row: both check ctx (so a large LP stops soon
+// after an interrupt, not only once the phases start), and cancelling at
+// any check returns context.Canceled with at most a few more checks.
+func TestSolveCancelledAtEveryCheck(t *testing.T) {
+	const states = 40
+	c, a, b, basis := occupationLP(states, 3, 5)
+	probe := &countdown{Context: context.Background(), after: 1 << 30}
+	r, err := Solve(probe, c, a, b, &Settings{Basis: basis})
+	if err != nil {
+		t.Fatal(err)
+	}
+	total := probe.calls
+	// At least one check per crash pivot, one per phase-2 pivot and one
+	// before the tableau is built.
+	if want := states + r.Pivots + 1; total < want {
+		t.Fatalf("Solve checked ctx %d times for %d crash pivots and %d pivots, want at least %d", total, states, r.Pivots, want)
+	}
+	for at := 1; at <= total; at++ {
+		ctx := &countdown{Context: context.Background(), after: at}
+		if _, err := Solve(ctx, c, a, b, &Settings{Basis: basis}); !errors.Is(err, context.Canceled) {
+			t.Errorf("Solve cancelled at check %d of %d: err = %v, want context.Canceled", at, total, err)
+		}
+		if ctx.calls > at+2 {
+			t.Errorf("Solve cancelled at check %d: went on to check %d", at, ctx.calls)
+		}
+	}
+}
