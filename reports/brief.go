@@ -195,7 +195,7 @@ func (d *doc) drawFront(h *Header, im Imprint, f front) (continued bool) {
 	tail, limit, k := plan(assumptions)
 	if f.short != nil && (top+contH+tail > contentBottom || (k == 0 && len(f.table.rows) > 0)) {
 		assumptions = f.short
-		tail, limit, k = plan(assumptions)
+		_, limit, k = plan(assumptions)
 	}
 	d.mark("recommendation")
 	d.headingBlock("Recommendation", true)
