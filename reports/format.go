@@ -255,3 +255,6 @@ func unitsOf(x float64) string {
 	}
 	return countText(x) + " units"
 }
+
+// Nouns is nouns for the commands' own lines (check, fit).
+func Nouns(n int, one, many string) string { return nouns(n, one, many) }

@@ -45,7 +45,7 @@ func (a *app) newCheck() *cobra.Command {
 			case f.Fleet != nil:
 				ff := f.Fleet
 				fmt.Fprintf(a.stdout, "%s: ok: fleet %q, %s, %s, %s of budget, periods of %s\n",
-					path, ff.Name, count(len(ff.Classes), "class", "classes"), count(ff.Units, "unit", "units"), count(ff.Years, "year", "years"), ff.Classes[0].Period)
+					path, ff.Name, reports.Nouns(len(ff.Classes), "class", "classes"), reports.Nouns(ff.Units, "unit", "units"), reports.Nouns(ff.Years, "year", "years"), ff.Classes[0].Period)
 				for i, c := range ff.Classes {
 					a.printLines(answer.ServiceCheckLines(c.Model, "class "+ff.Names[i]+": "))
 					if err := a.checkInspection(cmd, c.Path, c); err != nil {
@@ -96,14 +96,6 @@ func (a *app) printLines(lines []string) {
 	for _, l := range lines {
 		fmt.Fprintln(a.stdout, l)
 	}
-}
-
-// count says n things: "1 class", "3 classes".
-func count(n int, one, many string) string {
-	if n == 1 {
-		return "1 " + one
-	}
-	return fmt.Sprintf("%d %s", n, many)
 }
 
 func (a *app) newInit() *cobra.Command {

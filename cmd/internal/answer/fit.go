@@ -87,14 +87,6 @@ func RecordsCheck(ctx context.Context, path string, r io.Reader, warn func(strin
 		work = strings.Join(sv.Actions, ", ")
 	}
 	return fmt.Sprintf("%s: ok: inspection records, %s of %s from %s to %s; conditions named: %s; work: %s (fit them against a class config with fixpoint fit %s --config CLASS.yaml)",
-		path, plural(sv.Records, "record", "records"), plural(sv.Units, "unit", "units"), day(sv.First), day(sv.Last),
+		path, reports.Nouns(sv.Records, "record", "records"), reports.Nouns(sv.Units, "unit", "units"), day(sv.First), day(sv.Last),
 		strings.Join(sv.Conditions, ", "), work, path), nil
-}
-
-// plural says n things: "1 record", "3 records".
-func plural(n int, one, many string) string {
-	if n == 1 {
-		return "1 " + one
-	}
-	return reports.Money(float64(n), 0) + " " + many
 }
